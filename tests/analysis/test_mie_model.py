@@ -1,0 +1,96 @@
+"""Mie model: quasi-static limit, resonance positions, Kreibig damping, fit round trip."""
+
+import numpy as np
+import pytest
+
+from qc.analysis import mie_model
+from qc.analysis.errors import AnalysisInputError
+from qc.analysis.optical_constants import johnson_christy_permittivity
+
+# A 2 nm grid keeps the one-off cross-section table cheap in tests.
+GRID_NM = np.arange(340.0, 801.0, 2.0)
+
+
+def test_small_sphere_matches_quasi_static_limit():
+    # Bohren & Huffman (1983) eq. 5.8 (small-sphere limit): Q_ext ≈ 4x·Im[(m²−1)/(m²+2)], x ≪ 1.
+    wavelength = np.array([450.0, 520.0, 600.0])
+    diameter = 2.0  # x ≈ 0.018
+    sigma = mie_model.extinction_cross_section_nm2("Au", wavelength, [diameter], medium_n=1.333)[0]
+    q_ext = sigma / (np.pi * diameter**2 / 4)
+    eps = mie_model.size_corrected_permittivity("Au", wavelength, [diameter])[0]
+    m2 = eps / 1.333**2
+    x = np.pi * diameter * 1.333 / wavelength
+    expected = 4 * x * np.imag((m2 - 1) / (m2 + 2))
+    assert q_ext == pytest.approx(expected, rel=2e-3)
+
+
+def test_kreibig_damping_vanishes_for_large_radius():
+    # Kreibig (1974): Γ(R) → Γ_bulk as R → ∞, so ε(ω, R) → ε_bulk (Johnson & Christy).
+    wavelength = np.array([400.0, 520.0, 700.0])
+    big = mie_model.size_corrected_permittivity("Au", wavelength, [1e7])[0]
+    assert big == pytest.approx(johnson_christy_permittivity("Au", wavelength), rel=1e-5)
+    assert mie_model.damping_rate_rad_s(1e9, "Ag") == pytest.approx(2.7e13, rel=1e-4)
+    # Γ(R) = Γ_bulk + v_F/R with v_F = 1.4e8 cm/s = 1.4e15 nm/s (Haiss et al. 2007), R = 10 nm.
+    assert mie_model.damping_rate_rad_s(10.0, "Au") == pytest.approx(3.33e13 + 1.4e14)
+
+
+def test_small_particles_are_damped_more():
+    # Kreibig (1974): ε2 grows as R shrinks (more surface scattering).
+    eps = mie_model.size_corrected_permittivity("Ag", [500.0], [5.0, 50.0])
+    assert eps[0, 0].imag > eps[1, 0].imag
+
+
+def test_resonances_where_the_trade_expects_them():
+    # Common practice: ~20 nm Au in water peaks near 520 nm; small Ag near 400 nm.
+    au = mie_model.mean_cross_section_nm2("Au", GRID_NM, 20.0, 1.05)
+    ag = mie_model.mean_cross_section_nm2("Ag", GRID_NM, 20.0, 1.05)
+    assert 515 <= GRID_NM[np.argmax(au)] <= 528
+    assert 385 <= GRID_NM[np.argmax(ag)] <= 410
+
+
+def test_absorbance_from_cross_section_beer_lambert():
+    # A = N·C·L/ln10 with 1 nm² = 1e-14 cm² (unit conversion, geometric identity).
+    assert mie_model.absorbance_from_cross_section(1000.0, 1e11, 1.0) == pytest.approx(
+        1e11 * 1000 * 1e-14 / np.log(10)
+    )
+
+
+@pytest.mark.parametrize(
+    "metal, diameter_nm", [("Au", 15.0), ("Au", 30.0), ("Au", 60.0), ("Ag", 20.0), ("Ag", 50.0)]
+)
+def test_fit_round_trip_recovers_size(metal, diameter_nm):
+    # Round trip: synthesise with known parameters plus seeded noise, fit back within 5 %.
+    rng = np.random.default_rng(7)
+    number = 1e11
+    clean = mie_model.synthesize_absorbance(
+        metal, GRID_NM, median_diameter_nm=diameter_nm, geometric_sigma=1.1, number_per_mL=number
+    )
+    scale = 1.0 / clean.max()  # a spectrum peaking at 1.0, like a diluted sample
+    noisy = clean * scale + rng.normal(0, 0.002, GRID_NM.size)
+    fit = mie_model.fit_lognormal_mie(GRID_NM, noisy, metal)
+    assert fit.median_diameter_nm == pytest.approx(diameter_nm, rel=0.05)
+    assert fit.number_per_mL == pytest.approx(number * scale, rel=0.15)
+    assert fit.rms_residual < 0.004  # about the noise level put in
+    assert fit.relative_rms_residual < 0.02
+
+
+def test_compare_sizes_tolerance():
+    assert mie_model.compare_sizes(22.0, 20.0, tolerance_percent=15).agrees
+    result = mie_model.compare_sizes(26.0, 20.0, tolerance_percent=15)
+    assert not result.agrees and result.difference_percent == pytest.approx(30.0)
+
+
+@pytest.mark.parametrize(
+    "call",
+    [
+        lambda: mie_model.mean_cross_section_nm2("Pt", GRID_NM, 20.0),
+        lambda: mie_model.mean_cross_section_nm2("Au", GRID_NM, 20.0, 0.9),
+        lambda: mie_model.mean_cross_section_nm2("Au", GRID_NM, 150.0, 1.5),
+        lambda: mie_model.fit_lognormal_mie(GRID_NM[:5], np.ones(5), "Au"),
+        lambda: mie_model.fit_lognormal_mie(GRID_NM, np.ones(GRID_NM.size - 1), "Au"),
+        lambda: mie_model.absorbance_from_cross_section(1.0, -1.0),
+    ],
+)
+def test_bad_input_raises(call):
+    with pytest.raises(AnalysisInputError):
+        call()
