@@ -1,0 +1,101 @@
+"""Settings shared by every environment.
+
+The embedded default database is SQLite in the git-ignored ``data/`` folder; setting
+``DATABASE_URL`` (e.g. ``postgres://user@127.0.0.1:5432/sersledger``) switches any settings
+module to that database through dj-database-url.
+"""
+
+from pathlib import Path
+import os
+
+import dj_database_url
+
+BASE_DIR = Path(__file__).resolve().parent.parent.parent
+DATA_DIR = Path(os.environ.get("SERSLEDGER_DATA_DIR", BASE_DIR / "data"))
+
+INSTALLED_APPS = [
+    "django.contrib.admin",
+    "django.contrib.auth",
+    "django.contrib.contenttypes",
+    "django.contrib.sessions",
+    "django.contrib.messages",
+    "django.contrib.staticfiles",
+    "inventory",
+    "qc",
+]
+
+MIDDLEWARE = [
+    "django.middleware.security.SecurityMiddleware",
+    "django.contrib.sessions.middleware.SessionMiddleware",
+    "django.middleware.common.CommonMiddleware",
+    "django.middleware.csrf.CsrfViewMiddleware",
+    "django.contrib.auth.middleware.AuthenticationMiddleware",
+    "django.contrib.messages.middleware.MessageMiddleware",
+    "django.middleware.clickjacking.XFrameOptionsMiddleware",
+]
+
+ROOT_URLCONF = "config.urls"
+WSGI_APPLICATION = "config.wsgi.application"
+
+TEMPLATES = [
+    {
+        "BACKEND": "django.template.backends.django.DjangoTemplates",
+        "DIRS": [BASE_DIR / "templates"],
+        "APP_DIRS": True,
+        "OPTIONS": {
+            "context_processors": [
+                "django.template.context_processors.request",
+                "django.contrib.auth.context_processors.auth",
+                "django.contrib.messages.context_processors.messages",
+            ],
+        },
+    },
+]
+
+
+def database_from_environment(default_sqlite_path: Path) -> dict:
+    """DATABASE_URL wins; otherwise SQLite at ``default_sqlite_path``."""
+    url = os.environ.get("DATABASE_URL")
+    if url:
+        return dj_database_url.parse(url, conn_max_age=60)
+    return {
+        "ENGINE": "django.db.backends.sqlite3",
+        "NAME": default_sqlite_path,
+        # Wait for a concurrent writer instead of failing at once (SQLite serialises writes).
+        "OPTIONS": {"timeout": 20},
+    }
+
+
+DATABASES = {"default": database_from_environment(DATA_DIR / "sersledger.sqlite3")}
+
+DEFAULT_AUTO_FIELD = "django.db.models.BigAutoField"
+
+AUTH_PASSWORD_VALIDATORS = [
+    {"NAME": "django.contrib.auth.password_validation.UserAttributeSimilarityValidator"},
+    {"NAME": "django.contrib.auth.password_validation.MinimumLengthValidator",
+     "OPTIONS": {"min_length": 10}},
+    {"NAME": "django.contrib.auth.password_validation.CommonPasswordValidator"},
+    {"NAME": "django.contrib.auth.password_validation.NumericPasswordValidator"},
+]
+
+LANGUAGE_CODE = "en-gb"
+TIME_ZONE = "UTC"
+USE_I18N = True
+USE_TZ = True
+
+STATIC_URL = "static/"
+STATIC_ROOT = DATA_DIR / "static"
+MEDIA_URL = "media/"
+MEDIA_ROOT = DATA_DIR / "media"
+
+LOGIN_URL = "login"
+LOGIN_REDIRECT_URL = "home"
+
+# Uploaded instrument files are kept as uploaded; 50 MB covers a 100 x 100 map of 1,024 shifts.
+DATA_UPLOAD_MAX_MEMORY_SIZE = 5 * 1024 * 1024
+FILE_UPLOAD_MAX_MEMORY_SIZE = 5 * 1024 * 1024
+SERSLEDGER_MAX_UPLOAD_BYTES = 50 * 1024 * 1024
+
+# Extra readiness reasons contributed by other apps, as dotted paths to callables
+# ``provider(substrate, ancestry) -> list[Reason]``.  Inventory never imports them directly.
+SERSLEDGER_READINESS_PROVIDERS: list[str] = []

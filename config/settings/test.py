@@ -1,0 +1,17 @@
+"""Settings for the test suite: fast hashing, temporary media, same database rules."""
+
+import tempfile
+from pathlib import Path
+
+from .base import *  # noqa: F401,F403
+from .base import database_from_environment
+
+DEBUG = False
+SECRET_KEY = "test-only-not-secret"
+ALLOWED_HOSTS = ["testserver", "127.0.0.1", "localhost"]
+
+_TEST_DIR = Path(tempfile.mkdtemp(prefix="sersledger-test-"))
+MEDIA_ROOT = _TEST_DIR / "media"
+DATABASES = {"default": database_from_environment(_TEST_DIR / "test.sqlite3")}
+
+PASSWORD_HASHERS = ["django.contrib.auth.hashers.MD5PasswordHasher"]

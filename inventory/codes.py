@@ -1,0 +1,86 @@
+"""Human-readable record codes (``SUB-00042``) and finding a record from its code.
+
+Codes are handed out from a counter row that is incremented with an UPDATE inside the
+caller's transaction: PostgreSQL holds that row lock until commit and SQLite serialises
+writers, so two requests creating records at the same moment never get the same number.
+The unique constraint on ``code`` is the backstop.
+"""
+
+from __future__ import annotations
+
+from collections import defaultdict
+from functools import lru_cache
+from typing import Iterable
+
+from django.apps import apps
+from django.db import transaction
+from django.db.models import F
+
+from .models import CodeCounter, CodedRecord
+
+
+class RecordNotFound(LookupError):
+    """No record has this code."""
+
+    def __init__(self, code: str):
+        self.code = code
+        super().__init__(f"No record has the ID '{code}'.")
+
+
+def code_next(prefix: str) -> str:
+    """Reserve and return the next code for ``prefix`` (call inside the creating transaction)."""
+    with transaction.atomic():
+        CodeCounter.objects.get_or_create(prefix=prefix)
+        CodeCounter.objects.filter(prefix=prefix).update(last_value=F("last_value") + 1)
+        value = CodeCounter.objects.filter(prefix=prefix).values_list("last_value", flat=True).get()
+    return f"{prefix}-{value:05d}"
+
+
+@lru_cache(maxsize=1)
+def coded_models() -> dict[str, type[CodedRecord]]:
+    """Every concrete model with a ``CODE_PREFIX``, by prefix (any installed app)."""
+    found: dict[str, type[CodedRecord]] = {}
+    for model in apps.get_models():
+        prefix = getattr(model, "CODE_PREFIX", "")
+        if prefix and issubclass(model, CodedRecord):
+            if prefix in found:
+                raise RuntimeError(f"Code prefix {prefix} is used by two models.")
+            found[prefix] = model
+    return found
+
+
+def prefix_of(code: str) -> str:
+    return code.split("-", 1)[0].upper()
+
+
+def model_for_code(code: str) -> type[CodedRecord]:
+    model = coded_models().get(prefix_of(code))
+    if model is None:
+        raise RecordNotFound(code)
+    return model
+
+
+def record_get(code: str) -> CodedRecord:
+    """The record with ``code`` (case-insensitive), or :class:`RecordNotFound`."""
+    normalised = code.strip().upper()
+    model = model_for_code(normalised)
+    try:
+        return model.objects.get(code=normalised)
+    except model.DoesNotExist:
+        raise RecordNotFound(normalised) from None
+
+
+def records_by_code(codes: Iterable[str]) -> dict[str, CodedRecord]:
+    """Fetch many records with one query per record kind, however many codes."""
+    by_prefix: dict[str, list[str]] = defaultdict(list)
+    for code in set(codes):
+        by_prefix[prefix_of(code)].append(code)
+    found: dict[str, CodedRecord] = {}
+    models = coded_models()
+    for prefix, group in by_prefix.items():
+        model = models.get(prefix)
+        if model is None:
+            continue
+        for record in model.objects.filter(code__in=group):
+            found[record.code] = record
+    return found

@@ -1,0 +1,58 @@
+"""The lifecycle rules: which transitions are legal and which inputs may be used."""
+
+from __future__ import annotations
+
+from datetime import date
+
+from django.core.exceptions import ValidationError
+
+from .models import Status
+from .shelf_life import is_expired
+
+ALLOWED_TRANSITIONS: dict[str, frozenset[str]] = {
+    Status.QUARANTINE: frozenset({Status.RELEASED, Status.REJECTED, Status.DISPOSED}),
+    # A released lot can be put back on hold (quarantine) while a deviation is investigated.
+    Status.RELEASED: frozenset({Status.CONSUMED, Status.DISPOSED, Status.QUARANTINE,
+                                Status.REJECTED}),
+    Status.REJECTED: frozenset({Status.DISPOSED}),
+    Status.CONSUMED: frozenset(),
+    Status.DISPOSED: frozenset(),
+}
+
+# Transitions that change a decision already made need a written reason.
+REASON_REQUIRED = frozenset({Status.REJECTED, Status.DISPOSED, Status.QUARANTINE})
+
+UNUSABLE_STATUSES = frozenset({Status.REJECTED, Status.DISPOSED, Status.CONSUMED})
+
+
+def check_transition(record, to_status: str, reason: str) -> None:
+    """Refuse an illegal lifecycle transition with a sentence naming both states."""
+    if to_status not in Status.values:
+        raise ValidationError({"to_status": f"Unknown status '{to_status}'."}, code="unknown_status")
+    current = record.status
+    if to_status not in ALLOWED_TRANSITIONS[current]:
+        allowed = ", ".join(sorted(ALLOWED_TRANSITIONS[current])) or "none (final state)"
+        raise ValidationError(
+            {"to_status": f"{record.code} is {current}; it cannot become {to_status}. "
+                          f"Allowed next: {allowed}."},
+            code="illegal_transition",
+        )
+    if to_status in REASON_REQUIRED and not reason.strip():
+        raise ValidationError({"reason": f"Give a reason for making {record.code} {to_status}."},
+                              code="reason_required")
+
+
+def check_usable(record, *, role: str, on_date: date, field: str) -> None:
+    """Refuse a rejected, disposed, consumed or expired input to a new step."""
+    status = getattr(record, "status", None)
+    if status in UNUSABLE_STATUSES:
+        raise ValidationError(
+            {field: f"{record.code} cannot be used as {role}: it is {status}."},
+            code="input_unusable",
+        )
+    if is_expired(record, on_date):
+        raise ValidationError(
+            {field: f"{record.code} cannot be used as {role} on {on_date.isoformat()}: "
+                    f"it expired on {record.expires_on.isoformat()}."},
+            code="input_expired",
+        )

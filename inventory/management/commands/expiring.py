@@ -1,0 +1,24 @@
+"""expiring --days N: active records whose expiry falls within N days (expired ones first)."""
+
+from django.core.management.base import BaseCommand, CommandError
+
+from inventory.selectors import records_expiring_within
+
+
+class Command(BaseCommand):
+    help = "List quarantined or released records that expire within N days."
+
+    def add_arguments(self, parser):
+        parser.add_argument("--days", type=int, default=14)
+
+    def handle(self, *args, days, **options):
+        if days < 0:
+            raise CommandError("--days must be zero or positive")
+        items = records_expiring_within(days)
+        if not items:
+            self.stdout.write(f"Nothing expires within {days} days.")
+            return
+        for item in items:
+            when = "EXPIRED" if item.days_left < 0 else f"in {item.days_left} d"
+            self.stdout.write(f"{item.expires_on.isoformat()}  {when:>10}  {item.record.code:<12}"
+                              f"  {item.kind_label} ({item.record.status})")

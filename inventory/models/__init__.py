@@ -1,0 +1,28 @@
+"""Inventory records, split by topic; import them from here."""
+
+from .base import CodedRecord, LifecycleRecord, StampedRecord, Status
+from .fabrication import (
+    DepositionRun,
+    LinkerLayer,
+    NanoparticleBatch,
+    ParticleAttachment,
+    Substrate,
+    TemplateAssembly,
+)
+from .materials import (
+    CodeCounter,
+    ReagentKind,
+    ReagentLot,
+    RecordKind,
+    ShelfLifeRule,
+    SphereLot,
+    StorageLocation,
+)
+from .records import Dataset, DatasetFile, Flag, LineageEdge, StatusChange
+
+__all__ = [
+    "CodeCounter", "CodedRecord", "Dataset", "DatasetFile", "DepositionRun", "Flag",
+    "LifecycleRecord", "LineageEdge", "LinkerLayer", "NanoparticleBatch", "ParticleAttachment",
+    "ReagentKind", "ReagentLot", "RecordKind", "ShelfLifeRule", "SphereLot", "StampedRecord",
+    "Status", "StatusChange", "StorageLocation", "Substrate", "TemplateAssembly",
+]

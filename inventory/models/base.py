@@ -1,0 +1,73 @@
+"""Abstract bases: who/when stamps, human-readable codes, lifecycle status and expiry."""
+
+from __future__ import annotations
+
+from typing import ClassVar
+
+from django.conf import settings
+from django.db import models
+
+
+class Status(models.TextChoices):
+    """Lifecycle of a material record (trade terms: quarantine, release, reject)."""
+
+    QUARANTINE = "quarantine", "Quarantine (awaiting QC)"
+    RELEASED = "released", "Released"
+    REJECTED = "rejected", "Rejected"
+    CONSUMED = "consumed", "Consumed"
+    DISPOSED = "disposed", "Disposed"
+
+
+class StampedRecord(models.Model):
+    """Created/updated timestamps, who did it, and a version for conflict detection."""
+
+    created_at = models.DateTimeField(auto_now_add=True)
+    updated_at = models.DateTimeField(auto_now=True)
+    created_by = models.ForeignKey(
+        settings.AUTH_USER_MODEL, null=True, blank=True, on_delete=models.PROTECT,
+        related_name="+",
+    )
+    updated_by = models.ForeignKey(
+        settings.AUTH_USER_MODEL, null=True, blank=True, on_delete=models.PROTECT,
+        related_name="+",
+    )
+    version = models.PositiveIntegerField(default=1, editable=False)
+
+    class Meta:
+        abstract = True
+
+
+class CodedRecord(StampedRecord):
+    """A record with a lab-readable code such as ``SUB-00042``.
+
+    ``CODE_PREFIX`` is unique per model; the code registry finds every model that declares
+    one, which is how lineage and readiness resolve a code without knowing the app.
+    """
+
+    CODE_PREFIX: ClassVar[str] = ""
+
+    code = models.CharField(max_length=24, unique=True, editable=False)
+    notes = models.TextField(blank=True)
+
+    class Meta:
+        abstract = True
+
+    def __str__(self) -> str:
+        return self.code
+
+
+class LifecycleRecord(CodedRecord):
+    """A material that goes through quarantine and release and may expire."""
+
+    status = models.CharField(
+        max_length=16, choices=Status.choices, default=Status.QUARANTINE, db_index=True
+    )
+    # Derived by inventory.shelf_life from the dates and the lab's rules; never typed.
+    expires_on = models.DateField(null=True, blank=True, editable=False, db_index=True)
+    storage = models.ForeignKey(
+        "inventory.StorageLocation", null=True, blank=True, on_delete=models.PROTECT,
+        related_name="+",
+    )
+
+    class Meta:
+        abstract = True

@@ -1,0 +1,185 @@
+"""The fabrication chain: template, deposition, pieces, linker layer, colloid, particles."""
+
+from __future__ import annotations
+
+from django.db import models
+from django.db.models import Q
+
+from .base import CodedRecord, LifecycleRecord
+
+
+class TemplateAssembly(LifecycleRecord):
+    """A sphere monolayer laid on a metal-coated base slide."""
+
+    CODE_PREFIX = "TPL"
+
+    class Method(models.TextChoices):
+        INTERFACE_TRANSFER = "interface_transfer", "Air–water interface transfer"
+        VERTICAL_DEPOSITION = "vertical_deposition", "Vertical (convective) deposition"
+        SPIN_COATING = "spin_coating", "Spin coating"
+        DROP_CASTING = "drop_casting", "Drop casting"
+
+    sphere_lot = models.ForeignKey("inventory.SphereLot", on_delete=models.PROTECT,
+                                   related_name="templates")
+    base_slide_lot = models.ForeignKey("inventory.ReagentLot", on_delete=models.PROTECT,
+                                       related_name="templates")
+    method = models.CharField(max_length=24, choices=Method.choices)
+    slide_area_cm2 = models.FloatField()
+    coverage_percent = models.FloatField(null=True, blank=True)
+    suspension_volume_uL = models.FloatField(null=True, blank=True)
+    made_on = models.DateField()
+
+    class Meta:
+        constraints = [
+            models.CheckConstraint(name="template_area_positive", condition=Q(slide_area_cm2__gt=0)),
+            models.CheckConstraint(name="template_coverage_range",
+                                   condition=Q(coverage_percent__isnull=True)
+                                   | (Q(coverage_percent__gte=0) & Q(coverage_percent__lte=100))),
+        ]
+
+
+class DepositionRun(CodedRecord):
+    """Electrodeposition through a template (or onto a flat base slide).
+
+    The chronoamperogram is kept as uploaded; charge, film height and h/D are computed from
+    it by qc.analysis and stored beside the lab's target.
+    """
+
+    CODE_PREFIX = "DEP"
+
+    class Mode(models.TextChoices):
+        POTENTIOSTATIC = "potentiostatic", "Constant potential"
+        GALVANOSTATIC = "galvanostatic", "Constant current"
+
+    template = models.ForeignKey("inventory.TemplateAssembly", null=True, blank=True,
+                                 on_delete=models.PROTECT, related_name="deposition_runs")
+    base_slide_lot = models.ForeignKey("inventory.ReagentLot", null=True, blank=True,
+                                       on_delete=models.PROTECT, related_name="flat_runs")
+    bath_lot = models.ForeignKey("inventory.ReagentLot", on_delete=models.PROTECT,
+                                 related_name="deposition_runs")
+    metal = models.CharField(max_length=4)
+    electrons_per_atom = models.PositiveSmallIntegerField()
+    current_efficiency = models.FloatField(default=1.0)
+    mode = models.CharField(max_length=16, choices=Mode.choices)
+    setpoint_potential_V = models.FloatField(null=True, blank=True)
+    setpoint_current_mA = models.FloatField(null=True, blank=True)
+    electrode_area_cm2 = models.FloatField()
+    target_height_over_diameter = models.FloatField(null=True, blank=True)
+    made_on = models.DateField()
+    chronoamperogram = models.FileField(upload_to="chronoamperograms/", blank=True)
+    chronoamperogram_sha256 = models.CharField(max_length=64, blank=True)
+    charge_C = models.FloatField(null=True, blank=True, editable=False)
+    film_height_nm = models.FloatField(null=True, blank=True, editable=False)
+    height_over_diameter = models.FloatField(null=True, blank=True, editable=False)
+
+    class Meta:
+        constraints = [
+            models.CheckConstraint(name="deposition_area_positive",
+                                   condition=Q(electrode_area_cm2__gt=0)),
+            models.CheckConstraint(name="deposition_efficiency_fraction",
+                                   condition=Q(current_efficiency__gt=0)
+                                   & Q(current_efficiency__lte=1)),
+            models.CheckConstraint(name="deposition_template_or_flat_slide",
+                                   condition=Q(template__isnull=False)
+                                   | Q(base_slide_lot__isnull=False)),
+        ]
+
+
+class Substrate(LifecycleRecord):
+    """One usable piece: the unit that experiments consume."""
+
+    CODE_PREFIX = "SUB"
+
+    class Stage(models.TextChoices):
+        FILM = "film", "Structured film"
+        LINKER = "linker", "Film with linker layer"
+        PARTICLES = "particles", "Film with bound particles"
+        PURCHASED = "purchased", "Purchased substrate"
+
+    deposition_run = models.ForeignKey("inventory.DepositionRun", null=True, blank=True,
+                                       on_delete=models.PROTECT, related_name="substrates")
+    purchased_lot = models.ForeignKey("inventory.ReagentLot", null=True, blank=True,
+                                      on_delete=models.PROTECT, related_name="substrates")
+    piece_label = models.CharField(max_length=40, blank=True)
+    area_cm2 = models.FloatField(null=True, blank=True)
+    stage = models.CharField(max_length=12, choices=Stage.choices, default=Stage.FILM)
+    made_on = models.DateField()
+
+    class Meta:
+        constraints = [
+            models.CheckConstraint(name="substrate_from_run_or_purchase",
+                                   condition=Q(deposition_run__isnull=False)
+                                   | Q(purchased_lot__isnull=False)),
+            models.CheckConstraint(name="substrate_area_positive",
+                                   condition=Q(area_cm2__isnull=True) | Q(area_cm2__gt=0)),
+        ]
+
+
+class LinkerLayer(CodedRecord):
+    """A self-assembled thiol monolayer step on one or more substrates."""
+
+    CODE_PREFIX = "LNK"
+
+    linker_lot = models.ForeignKey("inventory.ReagentLot", on_delete=models.PROTECT,
+                                   related_name="linker_layers")
+    solvent_lot = models.ForeignKey("inventory.ReagentLot", null=True, blank=True,
+                                    on_delete=models.PROTECT, related_name="+")
+    substrates = models.ManyToManyField("inventory.Substrate", related_name="linker_layers")
+    concentration_mM = models.FloatField()
+    immersion_h = models.FloatField()
+    made_on = models.DateField()
+
+    class Meta:
+        constraints = [
+            models.CheckConstraint(name="linker_concentration_positive",
+                                   condition=Q(concentration_mM__gt=0)),
+            models.CheckConstraint(name="linker_immersion_positive", condition=Q(immersion_h__gt=0)),
+        ]
+
+
+class NanoparticleBatch(LifecycleRecord):
+    """A colloid made in the lab; its UV-vis records live in the qc app."""
+
+    CODE_PREFIX = "NPB"
+
+    class Method(models.TextChoices):
+        CITRATE = "citrate", "Citrate reduction"
+        BOROHYDRIDE = "borohydride", "Borohydride reduction"
+        SEEDED_GROWTH = "seeded_growth", "Seeded growth"
+        HYDROXYLAMINE = "hydroxylamine", "Hydroxylamine reduction"
+
+    metal = models.CharField(max_length=4)
+    synthesis_method = models.CharField(max_length=16, choices=Method.choices)
+    volume_mL = models.FloatField()
+    target_diameter_nm = models.FloatField(null=True, blank=True)
+    made_on = models.DateField()
+    source_lots = models.ManyToManyField("inventory.ReagentLot", blank=True,
+                                         related_name="nanoparticle_batches")
+
+    class Meta:
+        verbose_name_plural = "nanoparticle batches"
+        constraints = [
+            models.CheckConstraint(name="colloid_volume_positive", condition=Q(volume_mL__gt=0)),
+            models.CheckConstraint(name="colloid_target_size_positive",
+                                   condition=Q(target_diameter_nm__isnull=True)
+                                   | Q(target_diameter_nm__gt=0)),
+        ]
+
+
+class ParticleAttachment(CodedRecord):
+    """Particles from one colloid batch bound onto a linker-modified substrate."""
+
+    CODE_PREFIX = "PAT"
+
+    substrate = models.ForeignKey("inventory.Substrate", on_delete=models.PROTECT,
+                                  related_name="particle_attachments")
+    batch = models.ForeignKey("inventory.NanoparticleBatch", on_delete=models.PROTECT,
+                              related_name="attachments")
+    immersion_min = models.FloatField()
+    made_on = models.DateField()
+
+    class Meta:
+        constraints = [
+            models.CheckConstraint(name="attachment_immersion_positive",
+                                   condition=Q(immersion_min__gt=0)),
+        ]

@@ -1,0 +1,182 @@
+"""Purchased and prepared materials, where they are kept, and the lab's shelf-life rules."""
+
+from __future__ import annotations
+
+from django.db import models
+from django.db.models import F, Q
+
+from .base import CodedRecord, LifecycleRecord, StampedRecord
+
+
+class StorageLocation(CodedRecord):
+    """A fridge, desiccator, box or shelf."""
+
+    CODE_PREFIX = "LOC"
+
+    class Kind(models.TextChoices):
+        FRIDGE = "fridge", "Fridge (2–8 °C)"
+        FREEZER = "freezer", "Freezer"
+        DESICCATOR = "desiccator", "Desiccator"
+        CABINET = "cabinet", "Cabinet or shelf"
+        FLAMMABLES = "flammables", "Flammables cabinet"
+        BOX = "box", "Box"
+
+    name = models.CharField(max_length=120, unique=True)
+    kind = models.CharField(max_length=16, choices=Kind.choices)
+    room = models.CharField(max_length=60, blank=True)
+
+    def __str__(self) -> str:
+        return f"{self.code} {self.name}"
+
+
+class ReagentKind(models.TextChoices):
+    PLATING_BATH = "plating_bath", "Plating bath"
+    LINKER_THIOL = "linker_thiol", "Linker thiol"
+    METAL_SALT = "metal_salt", "Metal salt"
+    REDUCTANT = "reductant", "Reductant"
+    STABILISER = "stabiliser", "Stabiliser"
+    REFERENCE_ANALYTE = "reference_analyte", "Reference analyte"
+    SOLVENT = "solvent", "Solvent"
+    BASE_SLIDE = "base_slide", "Metal-coated base slides"
+    PURCHASED_SUBSTRATE = "purchased_substrate", "Purchased SERS substrates"
+    OTHER = "other", "Other"
+
+
+class ReagentLot(LifecycleRecord):
+    """Any purchased or lab-prepared chemical or consumable lot.
+
+    ``ghs_hazard_codes`` holds GHS hazard statement codes (e.g. ``H300 H310``) so that pages
+    and labels can print the statements; the supplier's safety data sheet remains the
+    authority.
+    """
+
+    CODE_PREFIX = "RGT"
+
+    name = models.CharField(max_length=160)
+    kind = models.CharField(max_length=24, choices=ReagentKind.choices, db_index=True)
+    supplier = models.CharField(max_length=120, blank=True)
+    supplier_lot = models.CharField(max_length=80, blank=True)
+    received_on = models.DateField(null=True, blank=True)
+    opened_on = models.DateField(null=True, blank=True)
+    prepared_on = models.DateField(null=True, blank=True)
+    quantity = models.DecimalField(max_digits=12, decimal_places=3, null=True, blank=True)
+    quantity_unit = models.CharField(max_length=16, blank=True)
+    concentration_mM = models.FloatField(null=True, blank=True)
+    ghs_hazard_codes = models.CharField(max_length=200, blank=True)
+    prepared_from = models.ManyToManyField("self", symmetrical=False, blank=True,
+                                           related_name="used_to_prepare")
+
+    class Meta:
+        constraints = [
+            models.CheckConstraint(
+                name="reagent_received_or_prepared",
+                condition=Q(received_on__isnull=False) | Q(prepared_on__isnull=False),
+            ),
+            models.CheckConstraint(
+                name="reagent_opened_after_received",
+                condition=Q(opened_on__isnull=True) | Q(received_on__isnull=True)
+                | Q(opened_on__gte=F("received_on")),
+            ),
+            models.CheckConstraint(
+                name="reagent_quantity_non_negative",
+                condition=Q(quantity__isnull=True) | Q(quantity__gte=0),
+            ),
+            models.CheckConstraint(
+                name="reagent_concentration_positive",
+                condition=Q(concentration_mM__isnull=True) | Q(concentration_mM__gt=0),
+            ),
+        ]
+
+    def __str__(self) -> str:
+        return f"{self.code} {self.name}"
+
+
+class SphereLot(LifecycleRecord):
+    """Template spheres as received: material, nominal size, size spread and solids content."""
+
+    CODE_PREFIX = "SPH"
+
+    class Material(models.TextChoices):
+        POLYSTYRENE = "polystyrene", "Polystyrene"
+        SILICA = "silica", "Silica"
+        PMMA = "pmma", "PMMA"
+
+    material = models.CharField(max_length=16, choices=Material.choices)
+    nominal_diameter_nm = models.FloatField()
+    size_cv_percent = models.FloatField(null=True, blank=True)
+    solids_percent_w_v = models.FloatField()
+    supplier = models.CharField(max_length=120, blank=True)
+    supplier_lot = models.CharField(max_length=80, blank=True)
+    received_on = models.DateField()
+    opened_on = models.DateField(null=True, blank=True)
+    volume_mL = models.FloatField(null=True, blank=True)
+
+    class Meta:
+        constraints = [
+            models.CheckConstraint(name="sphere_diameter_positive",
+                                   condition=Q(nominal_diameter_nm__gt=0)),
+            models.CheckConstraint(name="sphere_solids_range",
+                                   condition=Q(solids_percent_w_v__gt=0)
+                                   & Q(solids_percent_w_v__lte=100)),
+            models.CheckConstraint(name="sphere_cv_non_negative",
+                                   condition=Q(size_cv_percent__isnull=True)
+                                   | Q(size_cv_percent__gte=0)),
+            models.CheckConstraint(name="sphere_opened_after_received",
+                                   condition=Q(opened_on__isnull=True)
+                                   | Q(opened_on__gte=F("received_on"))),
+        ]
+
+
+class RecordKind(models.TextChoices):
+    """Kinds of record a shelf-life rule can apply to."""
+
+    REAGENT_LOT = "reagentlot", "Reagent lot"
+    SPHERE_LOT = "spherelot", "Sphere lot"
+    TEMPLATE_ASSEMBLY = "templateassembly", "Template assembly"
+    SUBSTRATE = "substrate", "Substrate"
+    LINKER_LAYER = "linkerlayer", "Linker layer (age limit)"
+    NANOPARTICLE_BATCH = "nanoparticlebatch", "Nanoparticle batch"
+
+
+class ShelfLifeRule(StampedRecord):
+    """How long a kind of record stays usable, counted from which of its dates.
+
+    A rule with a ``reagent_kind`` applies to reagent lots of that kind and wins over the
+    general reagent rule.  ``is_example`` marks the values shipped with the demo, which a lab
+    must replace with its own.
+    """
+
+    class CountedFrom(models.TextChoices):
+        MADE = "made", "Date made"
+        RECEIVED = "received", "Date received"
+        OPENED = "opened", "Date opened"
+        PREPARED = "prepared", "Date prepared"
+
+    record_kind = models.CharField(max_length=24, choices=RecordKind.choices)
+    reagent_kind = models.CharField(max_length=24, choices=ReagentKind.choices, blank=True)
+    shelf_life_days = models.PositiveIntegerField()
+    counted_from = models.CharField(max_length=12, choices=CountedFrom.choices)
+    is_example = models.BooleanField(default=False)
+    rationale = models.TextField(blank=True)
+
+    class Meta:
+        constraints = [
+            models.UniqueConstraint(fields=["record_kind", "reagent_kind"],
+                                    name="one_shelf_life_rule_per_kind"),
+            models.CheckConstraint(name="shelf_life_positive", condition=Q(shelf_life_days__gt=0)),
+            models.CheckConstraint(
+                name="reagent_kind_only_for_reagents",
+                condition=Q(reagent_kind="") | Q(record_kind="reagentlot"),
+            ),
+        ]
+
+    def __str__(self) -> str:
+        scope = f"{self.record_kind}/{self.reagent_kind}" if self.reagent_kind else self.record_kind
+        return f"{scope}: {self.shelf_life_days} d from {self.counted_from}"
+
+
+class CodeCounter(models.Model):
+    """The last number handed out for each code prefix (see inventory.codes)."""
+
+    prefix = models.CharField(max_length=8, primary_key=True)
+    last_value = models.PositiveBigIntegerField(default=0)

@@ -1,0 +1,7 @@
+from django.apps import AppConfig
+
+
+class QcConfig(AppConfig):
+    name = "qc"
+    verbose_name = "Quality control"
+    default_auto_field = "django.db.models.BigAutoField"

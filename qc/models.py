@@ -1,0 +1,1 @@
+"""Quality-control records (measurements, limits, UV-vis records) live here."""
