@@ -123,7 +123,9 @@ def parse_chronoamperogram(
         current_column, names, ("current", "i", "j"), default=1, field="current_column"
     )
     if time_index == current_index:
-        raise AnalysisInputError("time and current cannot be the same column", field="current_column")
+        raise AnalysisInputError(
+            "time and current cannot be the same column", field="current_column"
+        )
 
     time_unit_used, time_scale = _unit(
         time_unit, names, time_index, TIME_UNITS_S, names_line, field="time_unit"

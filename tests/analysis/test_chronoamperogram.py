@@ -57,11 +57,13 @@ def test_decimal_comma_with_semicolon_delimiter():
     text = "time/s;current/mA\n" + "\n".join(f"{k},5;-0,{k + 1}25" for k in range(5)) + "\n"
     record = parse_chronoamperogram(text)
     np.testing.assert_allclose(record.time_s, [0.5, 1.5, 2.5, 3.5, 4.5])
-    np.testing.assert_allclose(record.current_A, [-0.125e-3, -0.225e-3, -0.325e-3, -0.425e-3, -0.525e-3])
+    expected_mA = [-0.125, -0.225, -0.325, -0.425, -0.525]
+    np.testing.assert_allclose(record.current_A, np.array(expected_mA) * 1e-3)
 
 
 def test_keyword_units_override_header():
-    record = parse_chronoamperogram(_table("time/s,current/mA", ","), time_unit="ms", current_unit="nA")
+    text = _table("time/s,current/mA", ",")
+    record = parse_chronoamperogram(text, time_unit="ms", current_unit="nA")
     np.testing.assert_allclose(record.time_s, np.array(TIMES) * 1e-3)
     np.testing.assert_allclose(record.current_A, np.array(CURRENTS) * 1e-9)
     assert (record.time_unit, record.current_unit) == ("ms", "nA")
