@@ -198,13 +198,11 @@ def _find_data_start(lines, delimiter, time_column, current_column) -> tuple[int
 
 
 def _column_names(lines, start, delimiter_name) -> tuple[list[str] | None, int | None]:
-    """Column names from the last non-blank, non-comment header line, with its line number."""
+    """Column names from the last non-blank header line (a leading "#" dropped), and its line."""
     for index in range(start - 1, -1, -1):
-        stripped = lines[index].strip()
+        stripped = lines[index].strip().lstrip("#").strip()
         if not stripped:
             continue
-        if stripped.startswith("#"):
-            return None, None
         if delimiter_name == "whitespace":
             return _split_whitespace_names(stripped), index + 1
         return _split(stripped, delimiter_name), index + 1

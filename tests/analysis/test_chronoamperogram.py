@@ -93,6 +93,12 @@ def test_metadata_lines_are_header_and_line_numbers_count_them():
     assert record.first_data_line == 4
 
 
+def test_commented_column_header_is_read():
+    record = parse_chronoamperogram(_table("# time/ms, current/uA", ","))
+    np.testing.assert_allclose(record.time_s, np.array(TIMES) * 1e-3)
+    np.testing.assert_allclose(record.current_A, np.array(CURRENTS) * 1e-6)
+
+
 def test_arrays_are_read_only():
     record = parse_chronoamperogram(_table("time/s,current/mA", ","))
     with pytest.raises(ValueError):
