@@ -20,7 +20,6 @@ from .models import (
     NanoparticleBatch,
     ReagentKind,
     RecordKind,
-    ShelfLifeRule,
     Status,
     StorageLocation,
     Substrate,

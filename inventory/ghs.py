@@ -10,7 +10,9 @@ from __future__ import annotations
 
 import re
 
-from django.core.exceptions import ValidationError
+from django.core.exceptions import ValidationError  # noqa: F401
+
+from .errors import refusal
 
 # From memory (UN GHS Annex 3 wording); verify against the supplier's SDS.
 STATEMENTS = {
@@ -62,10 +64,7 @@ def normalise_codes(text: str) -> str:
             continue
         code = token.upper()
         if not _CODE.match(code):
-            raise ValidationError(
-                {"ghs_hazard_codes": f"'{token}' is not a GHS hazard code (e.g. H300, EUH032)."},
-                code="bad_ghs_code",
-            )
+            raise refusal("ghs_hazard_codes", f"'{token}' is not a GHS hazard code (e.g. H300, EUH032).", "bad_ghs_code")
         if code not in codes:
             codes.append(code)
     return " ".join(codes)

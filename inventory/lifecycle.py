@@ -4,8 +4,7 @@ from __future__ import annotations
 
 from datetime import date
 
-from django.core.exceptions import ValidationError
-
+from .errors import refusal
 from .models import Status
 from .shelf_life import is_expired
 
@@ -28,31 +27,21 @@ UNUSABLE_STATUSES = frozenset({Status.REJECTED, Status.DISPOSED, Status.CONSUMED
 def check_transition(record, to_status: str, reason: str) -> None:
     """Refuse an illegal lifecycle transition with a sentence naming both states."""
     if to_status not in Status.values:
-        raise ValidationError({"to_status": f"Unknown status '{to_status}'."}, code="unknown_status")
+        raise refusal("to_status", f"Unknown status '{to_status}'.", "unknown_status")
     current = record.status
     if to_status not in ALLOWED_TRANSITIONS[current]:
         allowed = ", ".join(sorted(ALLOWED_TRANSITIONS[current])) or "none (final state)"
-        raise ValidationError(
-            {"to_status": f"{record.code} is {current}; it cannot become {to_status}. "
-                          f"Allowed next: {allowed}."},
-            code="illegal_transition",
-        )
+        raise refusal("to_status", f"{record.code} is {current}; it cannot become {to_status}. "
+                          f"Allowed next: {allowed}.", "illegal_transition")
     if to_status in REASON_REQUIRED and not reason.strip():
-        raise ValidationError({"reason": f"Give a reason for making {record.code} {to_status}."},
-                              code="reason_required")
+        raise refusal("reason", f"Give a reason for making {record.code} {to_status}.", "reason_required")
 
 
 def check_usable(record, *, role: str, on_date: date, field: str) -> None:
     """Refuse a rejected, disposed, consumed or expired input to a new step."""
     status = getattr(record, "status", None)
     if status in UNUSABLE_STATUSES:
-        raise ValidationError(
-            {field: f"{record.code} cannot be used as {role}: it is {status}."},
-            code="input_unusable",
-        )
+        raise refusal(field, f"{record.code} cannot be used as {role}: it is {status}.", "input_unusable")
     if is_expired(record, on_date):
-        raise ValidationError(
-            {field: f"{record.code} cannot be used as {role} on {on_date.isoformat()}: "
-                    f"it expired on {record.expires_on.isoformat()}."},
-            code="input_expired",
-        )
+        raise refusal(field, f"{record.code} cannot be used as {role} on {on_date.isoformat()}: "
+                    f"it expired on {record.expires_on.isoformat()}.", "input_expired")

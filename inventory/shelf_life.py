@@ -10,8 +10,7 @@ from __future__ import annotations
 from datetime import date, timedelta
 from typing import Iterable
 
-from django.core.exceptions import ValidationError
-
+from .errors import refusal
 from .models import LifecycleRecord, ReagentLot, RecordKind, ShelfLifeRule
 
 DATE_FIELD_FOR = {
@@ -61,10 +60,7 @@ def validate_rule_date(record_kind: str, counted_from: str) -> None:
     field_name = DATE_FIELD_FOR.get(counted_from)
     field_names = {field.name for field in model._meta.get_fields()}
     if field_name not in field_names:
-        raise ValidationError(
-            {"counted_from": f"A {model._meta.verbose_name} has no '{counted_from}' date."},
-            code="no_such_date",
-        )
+        raise refusal("counted_from", f"A {model._meta.verbose_name} has no '{counted_from}' date.", "no_such_date")
 
 
 def refresh_expiry(record: LifecycleRecord, rules: dict | None = None) -> date | None:

@@ -5,8 +5,8 @@ The embedded default database is SQLite in the git-ignored ``data/`` folder; set
 module to that database through dj-database-url.
 """
 
-from pathlib import Path
 import os
+from pathlib import Path
 
 import dj_database_url
 

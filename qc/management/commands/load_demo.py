@@ -2,8 +2,13 @@
 
 from django.core.management.base import BaseCommand
 
-from inventory.demo import DEMO_LAB, DEMO_PASSWORD, apply_rule_correction, demo_is_loaded, \
-    load_inventory_demo
+from inventory.demo import (
+    DEMO_LAB,
+    DEMO_PASSWORD,
+    apply_rule_correction,
+    demo_is_loaded,
+    load_inventory_demo,
+)
 
 
 class Command(BaseCommand):

@@ -1,0 +1,31 @@
+"""Every write in the inventory: each function validates, saves atomically and returns.
+
+Pages, the API, commands and the demo loader call these and nothing else, so a rule holds
+the same way everywhere.  Errors are ``ValidationError`` keyed by field with a stable code.
+Split by topic; import from ``inventory.services``.
+"""
+
+from .fabrication import (
+    deposition_run_record,
+    linker_layer_apply,
+    nanoparticle_batch_make,
+    particle_attach,
+    substrate_receive,
+    template_assemble,
+)
+from .lifecycle import record_transition
+from .materials import (
+    reagent_lot_open,
+    reagent_lot_receive,
+    shelf_life_rule_set,
+    sphere_lot_receive,
+    storage_location_create,
+)
+from .records import dataset_register, flag_raise, flag_resolve, sha256_of
+
+__all__ = [
+    "dataset_register", "deposition_run_record", "flag_raise", "flag_resolve",
+    "linker_layer_apply", "nanoparticle_batch_make", "particle_attach", "reagent_lot_open",
+    "reagent_lot_receive", "record_transition", "sha256_of", "shelf_life_rule_set",
+    "sphere_lot_receive", "storage_location_create", "substrate_receive", "template_assemble",
+]

@@ -1,0 +1,216 @@
+"""The fabrication chain: template, deposition run and pieces, linker, colloid, particles."""
+
+from __future__ import annotations
+
+from datetime import date
+from typing import Sequence
+
+from django.db import transaction
+from django.utils import timezone
+
+from ..errors import refusal
+from ..lifecycle import check_usable
+from ..models import (
+    CodedRecord,
+    DepositionRun,
+    LineageEdge,
+    LinkerLayer,
+    NanoparticleBatch,
+    ParticleAttachment,
+    ReagentKind,
+    ReagentLot,
+    SphereLot,
+    Status,
+    StorageLocation,
+    Substrate,
+    TemplateAssembly,
+)
+from ._common import (
+    User,
+    _check_substrates_usable,
+    _link,
+    _require_kind,
+    _require_not_future,
+    _save_new,
+)
+from .lifecycle import record_transition
+
+
+@transaction.atomic
+def template_assemble(
+    *, actor: User | None, sphere_lot: SphereLot, base_slide_lot: ReagentLot, method: str,
+    slide_area_cm2: float, made_on: date, coverage_percent: float | None = None,
+    suspension_volume_uL: float | None = None, storage: StorageLocation | None = None,
+    notes: str = "",
+) -> TemplateAssembly:
+    _require_not_future(made_on, field="made_on")
+    check_usable(sphere_lot, role="template spheres", on_date=made_on, field="sphere_lot")
+    _require_kind(base_slide_lot, [ReagentKind.BASE_SLIDE], field="base_slide_lot")
+    check_usable(base_slide_lot, role="a base slide", on_date=made_on, field="base_slide_lot")
+    template = _save_new(TemplateAssembly(
+        sphere_lot=sphere_lot, base_slide_lot=base_slide_lot, method=method,
+        slide_area_cm2=slide_area_cm2, coverage_percent=coverage_percent,
+        suspension_volume_uL=suspension_volume_uL, made_on=made_on, storage=storage,
+        notes=notes,
+    ), actor=actor)
+    _link([(sphere_lot, "spheres"), (base_slide_lot, "base slide")], template,
+          used_on=made_on, actor=actor)
+    return template
+
+
+@transaction.atomic
+def deposition_run_record(
+    *, actor: User | None, bath_lot: ReagentLot, metal: str, electrons_per_atom: int,
+    mode: str, electrode_area_cm2: float, made_on: date, pieces: int,
+    template: TemplateAssembly | None = None, base_slide_lot: ReagentLot | None = None,
+    current_efficiency: float = 1.0, setpoint_potential_V: float | None = None,
+    setpoint_current_mA: float | None = None, target_height_over_diameter: float | None = None,
+    piece_area_cm2: float | None = None, storage: StorageLocation | None = None,
+    notes: str = "",
+) -> tuple[DepositionRun, list[Substrate]]:
+    """Record a deposition run and the ``pieces`` substrates it was cut into, atomically.
+
+    Through a template (which is consumed) or, without one, onto a flat base slide.
+    """
+    _require_not_future(made_on, field="made_on")
+    if (template is None) == (base_slide_lot is None):
+        raise refusal("template", "Give either a template or, for a flat film, a base "
+                                           "slide lot (not both).", "template_or_flat")
+    if not 1 <= pieces <= 200:
+        raise refusal("pieces", "A run yields between 1 and 200 pieces.", "pieces_range")
+    _require_kind(bath_lot, [ReagentKind.PLATING_BATH], field="bath_lot")
+    check_usable(bath_lot, role="the plating bath", on_date=made_on, field="bath_lot")
+    inputs: list[tuple[CodedRecord, str]] = [(bath_lot, "plating bath")]
+    if template is not None:
+        check_usable(template, role="the template", on_date=made_on, field="template")
+        if template.status != Status.RELEASED:
+            raise refusal("template", f"{template.code} is {template.status}; release "
+                                               "the template before plating through it.", "template_not_released")
+        if made_on < template.made_on:
+            raise refusal("made_on", "A run cannot be made before its template.", "date_order")
+        inputs.append((template, "template"))
+    else:
+        _require_kind(base_slide_lot, [ReagentKind.BASE_SLIDE], field="base_slide_lot")
+        check_usable(base_slide_lot, role="a base slide", on_date=made_on, field="base_slide_lot")
+        inputs.append((base_slide_lot, "base slide"))
+    run = _save_new(DepositionRun(
+        template=template, base_slide_lot=base_slide_lot, bath_lot=bath_lot, metal=metal,
+        electrons_per_atom=electrons_per_atom, current_efficiency=current_efficiency, mode=mode,
+        setpoint_potential_V=setpoint_potential_V, setpoint_current_mA=setpoint_current_mA,
+        electrode_area_cm2=electrode_area_cm2,
+        target_height_over_diameter=target_height_over_diameter, made_on=made_on, notes=notes,
+    ), actor=actor)
+    _link(inputs, run, used_on=made_on, actor=actor)
+    if template is not None:
+        record_transition(actor=actor, record=template, to_status=Status.CONSUMED,
+                          reason=f"plated in {run.code}")
+    substrates = []
+    for number in range(1, pieces + 1):
+        piece = _save_new(Substrate(
+            deposition_run=run, piece_label=f"{run.code}/{number}", area_cm2=piece_area_cm2,
+            made_on=made_on, storage=storage,
+        ), actor=actor)
+        substrates.append(piece)
+    LineageEdge.objects.bulk_create([
+        LineageEdge(parent_code=run.code, child_code=piece.code, role="cut from",
+                    used_on=made_on, created_by=actor) for piece in substrates
+    ])
+    return run, substrates
+
+
+@transaction.atomic
+def substrate_receive(*, actor: User | None, purchased_lot: ReagentLot, pieces: int,
+                      received_on: date, storage: StorageLocation | None = None
+                      ) -> list[Substrate]:
+    """Register pieces of a purchased substrate lot as substrates."""
+    _require_kind(purchased_lot, [ReagentKind.PURCHASED_SUBSTRATE], field="purchased_lot")
+    check_usable(purchased_lot, role="purchased substrates", on_date=received_on,
+                 field="purchased_lot")
+    substrates = [
+        _save_new(Substrate(purchased_lot=purchased_lot, piece_label=f"{purchased_lot.code}/{n}",
+                            stage=Substrate.Stage.PURCHASED, made_on=received_on,
+                            storage=storage), actor=actor)
+        for n in range(1, pieces + 1)
+    ]
+    for piece in substrates:
+        _link([(purchased_lot, "supplied as")], piece, used_on=received_on, actor=actor)
+    return substrates
+
+
+@transaction.atomic
+def linker_layer_apply(
+    *, actor: User | None, linker_lot: ReagentLot, substrates: Sequence[Substrate],
+    concentration_mM: float, immersion_h: float, made_on: date,
+    solvent_lot: ReagentLot | None = None, notes: str = "",
+) -> LinkerLayer:
+    """A thiol monolayer self-assembled on one or more substrates in one immersion."""
+    _require_not_future(made_on, field="made_on")
+    _require_kind(linker_lot, [ReagentKind.LINKER_THIOL], field="linker_lot")
+    check_usable(linker_lot, role="the linker", on_date=made_on, field="linker_lot")
+    inputs: list[tuple[CodedRecord, str]] = [(linker_lot, "linker")]
+    if solvent_lot is not None:
+        _require_kind(solvent_lot, [ReagentKind.SOLVENT], field="solvent_lot")
+        check_usable(solvent_lot, role="the solvent", on_date=made_on, field="solvent_lot")
+        inputs.append((solvent_lot, "solvent"))
+    _check_substrates_usable(substrates, role="a linker substrate", on_date=made_on)
+    for substrate in substrates:
+        if substrate.stage == Substrate.Stage.PARTICLES:
+            raise refusal("substrates", f"{substrate.code} already carries particles.", "wrong_stage")
+    layer = _save_new(LinkerLayer(
+        linker_lot=linker_lot, solvent_lot=solvent_lot, concentration_mM=concentration_mM,
+        immersion_h=immersion_h, made_on=made_on, notes=notes,
+    ), actor=actor)
+    layer.substrates.set(substrates)
+    _link(inputs, layer, used_on=made_on, actor=actor)
+    LineageEdge.objects.bulk_create([
+        LineageEdge(parent_code=layer.code, child_code=s.code, role="linker layer",
+                    used_on=made_on, created_by=actor) for s in substrates
+    ])
+    Substrate.objects.filter(pk__in=[s.pk for s in substrates]).update(
+        stage=Substrate.Stage.LINKER, updated_by=actor, updated_at=timezone.now())
+    return layer
+
+
+@transaction.atomic
+def nanoparticle_batch_make(
+    *, actor: User | None, metal: str, synthesis_method: str, volume_mL: float, made_on: date,
+    source_lots: Sequence[ReagentLot] = (), target_diameter_nm: float | None = None,
+    storage: StorageLocation | None = None, notes: str = "",
+) -> NanoparticleBatch:
+    _require_not_future(made_on, field="made_on")
+    for lot in source_lots:
+        check_usable(lot, role="a colloid reagent", on_date=made_on, field="source_lots")
+    batch = _save_new(NanoparticleBatch(
+        metal=metal, synthesis_method=synthesis_method, volume_mL=volume_mL, made_on=made_on,
+        target_diameter_nm=target_diameter_nm, storage=storage, notes=notes,
+    ), actor=actor)
+    if source_lots:
+        batch.source_lots.set(source_lots)
+        _link([(lot, lot.get_kind_display().lower()) for lot in source_lots], batch,
+              used_on=made_on, actor=actor)
+    return batch
+
+
+@transaction.atomic
+def particle_attach(*, actor: User | None, substrate: Substrate, batch: NanoparticleBatch,
+                    immersion_min: float, made_on: date, notes: str = "") -> ParticleAttachment:
+    """Bind particles of ``batch`` onto a substrate that carries a linker layer."""
+    _require_not_future(made_on, field="made_on")
+    _check_substrates_usable([substrate], role="a substrate for particles", on_date=made_on,
+                             field="substrate")
+    if substrate.stage != Substrate.Stage.LINKER:
+        raise refusal("substrate", f"{substrate.code} has no linker layer yet "
+                                            f"(stage: {substrate.get_stage_display()}).", "wrong_stage")
+    check_usable(batch, role="the colloid", on_date=made_on, field="batch")
+    if made_on < batch.made_on:
+        raise refusal("made_on", "Particles cannot be bound before the colloid was made.", "date_order")
+    attachment = _save_new(ParticleAttachment(
+        substrate=substrate, batch=batch, immersion_min=immersion_min, made_on=made_on,
+        notes=notes,
+    ), actor=actor)
+    _link([(batch, "colloid")], attachment, used_on=made_on, actor=actor)
+    _link([(attachment, "particles")], substrate, used_on=made_on, actor=actor)
+    Substrate.objects.filter(pk=substrate.pk).update(
+        stage=Substrate.Stage.PARTICLES, updated_by=actor, updated_at=timezone.now())
+    substrate.stage = Substrate.Stage.PARTICLES
+    return attachment

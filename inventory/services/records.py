@@ -1,0 +1,78 @@
+"""Datasets with file digests, and flags on any record."""
+
+from __future__ import annotations
+
+import hashlib
+from datetime import date
+from typing import Sequence
+
+from django.core.files.base import ContentFile
+from django.db import transaction
+from django.utils import timezone
+
+from ..errors import refusal
+from ..models import CodedRecord, Dataset, DatasetFile, Flag, Status, Substrate
+from ._common import (
+    User,
+    _check_substrates_usable,
+    _link,
+    _require_not_future,
+    _save_changed,
+    _save_new,
+)
+from .lifecycle import record_transition
+
+
+def sha256_of(content: bytes) -> str:
+    return hashlib.sha256(content).hexdigest()
+
+
+@transaction.atomic
+def dataset_register(
+    *, actor: User | None, title: str, substrates: Sequence[Substrate], acquired_on: date,
+    files: Sequence[tuple[str, bytes]] = (), instrument: str = "", operator: str = "",
+    consume_substrates: bool = False, notes: str = "",
+) -> Dataset:
+    """Record data made on substrates; files are stored with their SHA-256 digests."""
+    _require_not_future(acquired_on, field="acquired_on")
+    _check_substrates_usable(substrates, role="a measured substrate", on_date=acquired_on)
+    digests = [sha256_of(content) for _, content in files]
+    if len(set(digests)) != len(digests):
+        raise refusal("files", "The same file was given twice.", "duplicate_file")
+    dataset = _save_new(Dataset(title=title, instrument=instrument, operator=operator,
+                                acquired_on=acquired_on, notes=notes), actor=actor)
+    dataset.substrates.set(substrates)
+    for (name, content), digest in zip(files, digests):
+        DatasetFile.objects.create(dataset=dataset, file=ContentFile(content, name=name),
+                                   original_name=name, size_bytes=len(content), sha256=digest)
+    _link([(s, "measured on") for s in substrates], dataset, used_on=acquired_on, actor=actor)
+    if consume_substrates:
+        for substrate in substrates:
+            if substrate.status == Status.RELEASED:
+                record_transition(actor=actor, record=substrate, to_status=Status.CONSUMED,
+                                  reason=f"used for {dataset.code}")
+    return dataset
+
+
+@transaction.atomic
+def flag_raise(*, actor: User | None, target: CodedRecord, category: str, message: str) -> Flag:
+    """Record a deviation on any record; an open flag blocks readiness downstream."""
+    if not message.strip():
+        raise refusal("message", "Say what deviates.", "required")
+    return _save_new(Flag(target_code=target.code, category=category, message=message),
+                     actor=actor)
+
+
+@transaction.atomic
+def flag_resolve(*, actor: User | None, flag: Flag, resolution: str) -> Flag:
+    flag = Flag.objects.select_for_update().get(pk=flag.pk)
+    if flag.state != Flag.State.OPEN:
+        raise refusal("state", f"{flag.code} is already resolved.", "resolved")
+    if not resolution.strip():
+        raise refusal("resolution", "Say how the deviation was resolved.", "required")
+    flag.state = Flag.State.RESOLVED
+    flag.resolution = resolution
+    flag.resolved_by = actor
+    flag.resolved_at = timezone.now()
+    _save_changed(flag, actor=actor)
+    return flag

@@ -1,0 +1,3 @@
+"""Colloid UV-vis QC (models)."""
+
+__all__: list[str] = []

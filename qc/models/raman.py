@@ -1,0 +1,3 @@
+"""Reference-analyte Raman QC (models)."""
+
+__all__: list[str] = []

@@ -1,0 +1,3 @@
+"""Colloid UV-vis QC (selectors)."""
+
+__all__: list[str] = []

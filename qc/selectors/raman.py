@@ -1,0 +1,3 @@
+"""Reference-analyte Raman QC (selectors)."""
+
+__all__: list[str] = []

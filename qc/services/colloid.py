@@ -1,0 +1,3 @@
+"""Colloid UV-vis QC (services)."""
+
+__all__: list[str] = []

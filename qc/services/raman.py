@@ -1,0 +1,3 @@
+"""Reference-analyte Raman QC (services)."""
+
+__all__: list[str] = []

@@ -1,0 +1,98 @@
+"""Shared fixtures: state is always built through the product's own service functions."""
+
+from __future__ import annotations
+
+from datetime import date, timedelta
+
+import pytest
+
+TODAY = date(2026, 6, 15)
+
+
+@pytest.fixture
+def today(monkeypatch):
+    """Freeze the service layer's idea of today so dates in tests are exact."""
+    from django.utils import timezone
+
+    monkeypatch.setattr(timezone, "localdate", lambda *a, **k: TODAY)
+    return TODAY
+
+
+@pytest.fixture
+def maker(django_user_model):
+    return django_user_model.objects.create_user("maker", password="pw-maker-123456")
+
+
+@pytest.fixture
+def reviewer(django_user_model):
+    return django_user_model.objects.create_user("reviewer", password="pw-review-123456")
+
+
+class ChainBuilder:
+    """Builds records through inventory.services, releasing what a test wants released."""
+
+    def __init__(self, maker, reviewer, today):
+        from inventory import services
+
+        self.s = services
+        self.maker = maker
+        self.reviewer = reviewer
+        self.today = today
+
+    def day(self, days_ago: int) -> date:
+        return self.today - timedelta(days=days_ago)
+
+    def release(self, record):
+        return self.s.record_transition(actor=self.reviewer, record=record, to_status="released")
+
+    def lot(self, kind="plating_bath", days_ago=30, release=True, **extra):
+        lot = self.s.reagent_lot_receive(actor=self.maker, name=f"{kind} lot", kind=kind,
+                                         received_on=self.day(days_ago), **extra)
+        return self.release(lot) if release else lot
+
+    def spheres(self, days_ago=30, release=True):
+        lot = self.s.sphere_lot_receive(actor=self.maker, material="polystyrene",
+                                        nominal_diameter_nm=500, solids_percent_w_v=10,
+                                        received_on=self.day(days_ago))
+        return self.release(lot) if release else lot
+
+    def template(self, spheres=None, slides=None, days_ago=10, release=True):
+        template = self.s.template_assemble(
+            actor=self.maker, sphere_lot=spheres or self.spheres(),
+            base_slide_lot=slides or self.lot("base_slide"), method="interface_transfer",
+            slide_area_cm2=2.0, made_on=self.day(days_ago))
+        return self.release(template) if release else template
+
+    def run(self, pieces=2, days_ago=9, template=None, bath=None):
+        return self.s.deposition_run_record(
+            actor=self.maker, template=template or self.template(days_ago=days_ago + 1),
+            bath_lot=bath or self.lot("plating_bath"), metal="Au", electrons_per_atom=1,
+            mode="potentiostatic", electrode_area_cm2=1.0, made_on=self.day(days_ago),
+            pieces=pieces)
+
+    def batch(self, days_ago=5, release=True, sources=()):
+        batch = self.s.nanoparticle_batch_make(actor=self.maker, metal="Ag",
+                                               synthesis_method="citrate", volume_mL=50,
+                                               made_on=self.day(days_ago), source_lots=sources)
+        return self.release(batch) if release else batch
+
+    def decorated_substrate(self, linker_days_ago=2, batch=None, linker_lot=None):
+        """Run → piece → linker layer → particles; the piece is released."""
+        from inventory.models import Substrate
+
+        run, pieces = self.run(pieces=1, days_ago=linker_days_ago + 3)
+        piece = pieces[0]
+        self.s.linker_layer_apply(actor=self.maker, linker_lot=linker_lot
+                                  or self.lot("linker_thiol"), substrates=[piece],
+                                  concentration_mM=1, immersion_h=12,
+                                  made_on=self.day(linker_days_ago))
+        batch = batch or self.batch(days_ago=linker_days_ago + 1)
+        piece = Substrate.objects.get(pk=piece.pk)
+        self.s.particle_attach(actor=self.maker, substrate=piece, batch=batch, immersion_min=30,
+                               made_on=self.day(max(linker_days_ago - 1, 0)))
+        return self.release(Substrate.objects.get(pk=piece.pk))
+
+
+@pytest.fixture
+def chain(db, maker, reviewer, today):
+    return ChainBuilder(maker, reviewer, today)
