@@ -1,1 +1,0 @@
-"""Quality-control records (measurements, limits, UV-vis records) live here."""
