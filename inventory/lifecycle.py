@@ -38,7 +38,15 @@ def check_transition(record, to_status: str, reason: str) -> None:
 
 
 def check_usable(record, *, role: str, on_date: date, field: str) -> None:
-    """Refuse a rejected, disposed, consumed or expired input to a new step."""
+    """Refuse a rejected, disposed, consumed or expired input to a new step.
+
+    The status and expiry are re-read under a row lock, so a caller holding a stale copy
+    (or a reviewer rejecting the lot at the same moment) cannot slip an unusable input in.
+    """
+    if hasattr(record, "status"):
+        current = (type(record).objects.select_for_update().filter(pk=record.pk)
+                   .values("status", "expires_on").get())
+        record.status, record.expires_on = current["status"], current["expires_on"]
     status = getattr(record, "status", None)
     if status in UNUSABLE_STATUSES:
         raise refusal(field, f"{record.code} cannot be used as {role}: it is {status}.", "input_unusable")

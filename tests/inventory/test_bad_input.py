@@ -1,0 +1,89 @@
+"""Bad input gets a clear error naming the field, and nothing partial is saved."""
+
+from datetime import timedelta
+
+import pytest
+from django.core.exceptions import ValidationError
+
+from inventory.models import DepositionRun, LineageEdge, ReagentLot, SphereLot, Substrate
+
+
+def _fields(error: ValidationError) -> set[str]:
+    return set(error.error_dict)
+
+
+def test_negative_or_zero_sphere_size_is_refused(chain):
+    for size in (0, -500):
+        with pytest.raises(ValidationError) as error:
+            chain.s.sphere_lot_receive(actor=chain.maker, material="polystyrene",
+                                       nominal_diameter_nm=size, solids_percent_w_v=10,
+                                       received_on=chain.day(1))
+        assert "__all__" in _fields(error.value) or "nominal_diameter_nm" in _fields(error.value)
+        assert "sphere_diameter_positive" in str(error.value)
+    assert SphereLot.objects.count() == 0
+
+
+def test_zero_electrode_area_saves_no_run_and_no_pieces(chain):
+    template = chain.template()
+    bath = chain.lot("plating_bath")
+    with pytest.raises(ValidationError) as error:
+        chain.s.deposition_run_record(actor=chain.maker, template=template, bath_lot=bath,
+                                      metal="Au", electrons_per_atom=1, mode="potentiostatic",
+                                      electrode_area_cm2=0, made_on=chain.day(1), pieces=3)
+    assert "deposition_area_positive" in str(error.value)
+    assert DepositionRun.objects.count() == 0 and Substrate.objects.count() == 0
+    template.refresh_from_db()
+    assert template.status == "released"  # not consumed by a refused run
+
+
+def test_dates_in_the_wrong_order_are_refused(chain):
+    with pytest.raises(ValidationError) as error:
+        chain.s.reagent_lot_receive(actor=chain.maker, name="x", kind="solvent",
+                                    received_on=chain.day(1), opened_on=chain.day(5))
+    assert _fields(error.value) == {"opened_on"}
+    template = chain.template(days_ago=2)
+    with pytest.raises(ValidationError) as error:
+        chain.run(template=template, days_ago=4)  # run before its template
+    assert _fields(error.value) == {"made_on"}
+
+
+def test_future_dates_are_refused(chain):
+    with pytest.raises(ValidationError) as error:
+        chain.s.reagent_lot_receive(actor=chain.maker, name="x", kind="solvent",
+                                    received_on=chain.today + timedelta(days=1))
+    assert _fields(error.value) == {"received_on"}
+
+
+def test_wrong_kind_of_lot_is_refused_with_its_code(chain):
+    solvent = chain.lot("solvent")
+    with pytest.raises(ValidationError) as error:
+        chain.run(bath=solvent)
+    assert solvent.code in str(error.value) and _fields(error.value) == {"bath_lot"}
+
+
+def test_bad_ghs_code_is_refused_and_codes_are_normalised(chain):
+    with pytest.raises(ValidationError) as error:
+        chain.lot("plating_bath", ghs_hazard_codes="H300 toxic")
+    assert _fields(error.value) == {"ghs_hazard_codes"}
+    lot = chain.lot("plating_bath", ghs_hazard_codes="h300+h310, H330;EUH032")
+    assert lot.ghs_hazard_codes == "H300 H310 H330 EUH032"
+
+
+def test_refused_prepared_lot_leaves_no_edges(chain):
+    source = chain.lot("other")
+    chain.s.record_transition(actor=chain.reviewer, record=source, to_status="rejected",
+                              reason="contaminated")
+    before = (ReagentLot.objects.count(), LineageEdge.objects.count())
+    with pytest.raises(ValidationError):
+        chain.s.reagent_lot_receive(actor=chain.maker, name="mix", kind="other",
+                                    prepared_on=chain.day(0), prepared_from=[source])
+    assert (ReagentLot.objects.count(), LineageEdge.objects.count()) == before
+
+
+def test_same_file_twice_in_one_dataset_is_refused(chain):
+    run, (piece,) = chain.run(pieces=1)
+    with pytest.raises(ValidationError) as error:
+        chain.s.dataset_register(actor=chain.maker, title="t", substrates=[piece],
+                                 acquired_on=chain.day(0),
+                                 files=[("a.csv", b"1,2\n"), ("b.csv", b"1,2\n")])
+    assert _fields(error.value) == {"files"}
