@@ -18,25 +18,21 @@ from django.db import connection
 from .codes import record_get, records_by_code
 from .models import CodedRecord, LineageEdge
 
-_UP_SQL = """
+_WALK_SQL = """
 WITH RECURSIVE walk(parent_code, child_code, role, used_on) AS (
-    SELECT parent_code, child_code, role, used_on FROM {table} WHERE child_code = %s
+    SELECT parent_code, child_code, role, used_on FROM {table} WHERE {start} = %s
     UNION
     SELECT e.parent_code, e.child_code, e.role, e.used_on
-    FROM {table} e JOIN walk w ON e.child_code = w.parent_code
+    FROM {table} e JOIN walk w ON e.{near} = w.{far}
 )
 SELECT parent_code, child_code, role, used_on FROM walk
 """
-
-_DOWN_SQL = """
-WITH RECURSIVE walk(parent_code, child_code, role, used_on) AS (
-    SELECT parent_code, child_code, role, used_on FROM {table} WHERE parent_code = %s
-    UNION
-    SELECT e.parent_code, e.child_code, e.role, e.used_on
-    FROM {table} e JOIN walk w ON e.parent_code = w.child_code
-)
-SELECT parent_code, child_code, role, used_on FROM walk
-"""
+# Walking up starts at edges whose child is the root and joins on e.child = w.parent;
+# walking down is the mirror image.
+_DIRECTIONS = {
+    "ancestors": {"start": "child_code", "near": "child_code", "far": "parent_code"},
+    "descendants": {"start": "parent_code", "near": "parent_code", "far": "child_code"},
+}
 
 
 @dataclass(frozen=True)
@@ -71,8 +67,9 @@ class Lineage:
         return [e for e in self.edges if e.parent_code == code]
 
 
-def _walk_edges(sql: str, code: str) -> list[Edge]:
-    query = sql.format(table=connection.ops.quote_name(LineageEdge._meta.db_table))
+def _walk_edges(direction: str, code: str) -> list[Edge]:
+    query = _WALK_SQL.format(table=connection.ops.quote_name(LineageEdge._meta.db_table),
+                             **_DIRECTIONS[direction])
     with connection.cursor() as cursor:
         cursor.execute(query, [code])
         rows = cursor.fetchall()
@@ -101,8 +98,7 @@ def _depths(root_code: str, edges: list[Edge], direction: str) -> dict[str, int]
 
 
 def _lineage(root: CodedRecord, direction: str) -> Lineage:
-    sql = _UP_SQL if direction == "ancestors" else _DOWN_SQL
-    edges = _walk_edges(sql, root.code)
+    edges = _walk_edges(direction, root.code)
     depth = _depths(root.code, edges, direction)
     return Lineage(root=root, direction=direction, edges=edges,
                    records=records_by_code(depth), depth=depth)
