@@ -27,11 +27,16 @@ from .spectrum import Spectrum
 _NM_PER_CM = 1.0e7  # 1 cm = 10^7 nm, so 1e7 / λ[nm] is a wavenumber in cm⁻¹
 
 
+def _first_not_positive(values: np.ndarray) -> int | None:
+    """Flat index of the first value that is not finite or not > 0, else None."""
+    bad = np.flatnonzero(~(np.isfinite(values) & (values > 0)))
+    return int(bad[0]) if bad.size else None
+
+
 def _positive_wavelengths(values, *, field: str) -> np.ndarray:
     wavelength_nm = np.asarray(values, dtype=float)
-    bad = ~np.isfinite(wavelength_nm) | (wavelength_nm <= 0)
-    if np.any(bad):
-        index = int(np.flatnonzero(bad.ravel())[0])
+    index = _first_not_positive(wavelength_nm.ravel())
+    if index is not None:
         raise AnalysisInputError(
             f"wavelengths must be finite and positive; value at index {index} is "
             f"{wavelength_nm.ravel()[index]}",
@@ -98,9 +103,8 @@ def scattered_wavelength_nm(shift_cm1, laser_nm: float) -> np.ndarray:
     laser = require_positive(laser_nm, field="laser_nm")
     shift = np.asarray(shift_cm1, dtype=float)
     scattered_wavenumber_cm1 = _NM_PER_CM / laser - shift
-    bad = ~np.isfinite(scattered_wavenumber_cm1) | (scattered_wavenumber_cm1 <= 0)
-    if np.any(bad):
-        index = int(np.flatnonzero(bad.ravel())[0])
+    index = _first_not_positive(scattered_wavenumber_cm1.ravel())
+    if index is not None:
         raise AnalysisInputError(
             f"shift {shift.ravel()[index]} cm⁻¹ at index {index} is not finite or not below "
             f"the laser wavenumber {_NM_PER_CM / laser:.2f} cm⁻¹",
@@ -109,7 +113,9 @@ def scattered_wavelength_nm(shift_cm1, laser_nm: float) -> np.ndarray:
     return _NM_PER_CM / scattered_wavenumber_cm1
 
 
-def spectrum_to_raman_shift(spectrum: Spectrum, laser_nm: float | None = None) -> Spectrum:
+def spectrum_to_raman_shift(
+    spectrum: Spectrum, laser_nm: float | None = None
+) -> Spectrum:
     """Turn a spectrum whose x is absolute wavelength (nm) into one in Raman shift (cm⁻¹).
 
     Parameters
@@ -144,7 +150,8 @@ def spectrum_to_raman_shift(spectrum: Spectrum, laser_nm: float | None = None) -
         laser_nm = spectrum.metadata.get("laser_nm")
         if laser_nm is None:
             raise AnalysisInputError(
-                "the laser wavelength is needed to compute a Raman shift", field="laser_nm"
+                "the laser wavelength is needed to compute a Raman shift",
+                field="laser_nm",
             )
     shift = raman_shift_cm1(spectrum.x, laser_nm)
     metadata = dict(spectrum.metadata, laser_nm=float(laser_nm))

@@ -93,7 +93,9 @@ def _split_records(text: str) -> list[_Record]:
     if label_line is not None:
         records.append(_make_record(*label_line, body))
     if not records:
-        raise AnalysisInputError("no JCAMP-DX labelled data records found (##LABEL=value)", line=1)
+        raise AnalysisInputError(
+            "no JCAMP-DX labelled data records found (##LABEL=value)", line=1
+        )
     return records
 
 
@@ -126,11 +128,14 @@ def _single_block(records: list[_Record]) -> list[_Record]:
     else:
         raise AnalysisInputError("the file ends without ##END=", line=records[-1].line)
     if block[-1].body:
-        raise AnalysisInputError("unexpected text after ##END=", line=block[-1].body[0][0])
-    later = records[len(block):]
+        raise AnalysisInputError(
+            "unexpected text after ##END=", line=block[-1].body[0][0]
+        )
+    later = records[len(block) :]
     if later:
         raise AnalysisInputError(
-            "records after ##END= (multiple blocks) are not supported", line=later[0].line
+            "records after ##END= (multiple blocks) are not supported",
+            line=later[0].line,
         )
     return block
 
@@ -141,10 +146,13 @@ def _number(record: _Record) -> float:
         value = float(text)
     except ValueError:
         raise AnalysisInputError(
-            f"##{record.raw_label}= needs a number, got '{record.value}'", line=record.line
+            f"##{record.raw_label}= needs a number, got '{record.value}'",
+            line=record.line,
         ) from None
     if not np.isfinite(value):
-        raise AnalysisInputError(f"##{record.raw_label}= must be finite", line=record.line)
+        raise AnalysisInputError(
+            f"##{record.raw_label}= must be finite", line=record.line
+        )
     return value
 
 
@@ -152,8 +160,12 @@ def _number(record: _Record) -> float:
 # Reading: ASDF/AFFN tokens
 # ---------------------------------------------------------------------------------------
 
-_SQZ = {c: v for v, c in enumerate("@ABCDEFGHI")} | {c: -v for v, c in enumerate("abcdefghi", 1)}
-_DIF = {c: v for v, c in enumerate("%JKLMNOPQR")} | {c: -v for v, c in enumerate("jklmnopqr", 1)}
+_SQZ = {c: v for v, c in enumerate("@ABCDEFGHI")} | {
+    c: -v for v, c in enumerate("abcdefghi", 1)
+}
+_DIF = {c: v for v, c in enumerate("%JKLMNOPQR")} | {
+    c: -v for v, c in enumerate("jklmnopqr", 1)
+}
 _DUP = {c: v for v, c in enumerate("STUVWXYZs", 1)}
 
 _TOKEN = re.compile(
@@ -169,7 +181,9 @@ _TOKEN = re.compile(
 
 def _pseudo_value(lead: int, digits: str) -> float:
     # The pseudo-digit is the leading digit with its sign; the rest are plain digits.
-    magnitude = float(f"{abs(lead)}{digits}") if digits not in ("", ".") else float(abs(lead))
+    magnitude = (
+        float(f"{abs(lead)}{digits}") if digits not in ("", ".") else float(abs(lead))
+    )
     return -magnitude if lead < 0 else magnitude
 
 
@@ -181,16 +195,32 @@ def _tokens(text: str, line: int) -> list[tuple[str, float]]:
         if kind == "affn":
             tokens.append(("abs", float(match.group("affn"))))
         elif kind == "sqz":
-            tokens.append(("abs", _pseudo_value(_SQZ[match.group("sqz_lead")], match.group("sqz_digits"))))
+            tokens.append(
+                (
+                    "abs",
+                    _pseudo_value(
+                        _SQZ[match.group("sqz_lead")], match.group("sqz_digits")
+                    ),
+                )
+            )
         elif kind == "dif":
-            tokens.append(("dif", _pseudo_value(_DIF[match.group("dif_lead")], match.group("dif_digits"))))
+            tokens.append(
+                (
+                    "dif",
+                    _pseudo_value(
+                        _DIF[match.group("dif_lead")], match.group("dif_digits")
+                    ),
+                )
+            )
         elif kind == "dup":
             count = int(f"{_DUP[match.group('dup_lead')]}{match.group('dup_digits')}")
             tokens.append(("dup", float(count)))
         elif kind == "bad":
             char = match.group("bad")
             what = "a missing value '?'" if char == "?" else f"the character {char!r}"
-            raise AnalysisInputError(f"{what} is not allowed in JCAMP-DX data", line=line)
+            raise AnalysisInputError(
+                f"{what} is not allowed in JCAMP-DX data", line=line
+            )
     return tokens
 
 
@@ -224,7 +254,8 @@ def _decode_y_tokens(tokens, line: int, max_points: int):
                 )
             if len(values) + value - 1 > max_points:
                 raise AnalysisInputError(
-                    f"duplicate count {int(value)} gives more points than ##NPOINTS=", line=line
+                    f"duplicate count {int(value)} gives more points than ##NPOINTS=",
+                    line=line,
                 )
             values.extend(values[-1] + step * np.arange(1, int(value)))
             can_repeat = False
@@ -240,7 +271,8 @@ def _read_xydata(record: _Record, header: dict[str, _Record]):
     variable_list = record.value.replace(" ", "").upper()
     if variable_list != "(X++(Y..Y))":
         raise AnalysisInputError(
-            f"only ##XYDATA=(X++(Y..Y)) is supported, got '{record.value}'", line=record.line
+            f"only ##XYDATA=(X++(Y..Y)) is supported, got '{record.value}'",
+            line=record.line,
         )
     for label in ("FIRSTX", "LASTX", "NPOINTS"):
         if label not in header:
@@ -250,7 +282,9 @@ def _read_xydata(record: _Record, header: dict[str, _Record]):
     x_factor = _factor(header, "XFACTOR")
     y_factor = _factor(header, "YFACTOR")
     if first_x == last_x:
-        raise AnalysisInputError("##FIRSTX= and ##LASTX= are equal", line=header["LASTX"].line)
+        raise AnalysisInputError(
+            "##FIRSTX= and ##LASTX= are equal", line=header["LASTX"].line
+        )
     spacing = (last_x - first_x) / (n_points - 1)
     if "DELTAX" in header:
         delta_x = _number(header["DELTAX"])
@@ -270,8 +304,12 @@ def _read_xydata(record: _Record, header: dict[str, _Record]):
             continue
         kind, x_value = tokens[0]
         if kind != "abs":
-            raise AnalysisInputError("each XYDATA line must start with an x value", line=line)
-        room = n_points + 1 - len(y_scaled)  # +1: this line may start with a check value
+            raise AnalysisInputError(
+                "each XYDATA line must start with an x value", line=line
+            )
+        room = (
+            n_points + 1 - len(y_scaled)
+        )  # +1: this line may start with a check value
         values, ended_in_difference = _decode_y_tokens(tokens[1:], line, room)
         index_of_line_x = len(y_scaled)
         if previous_ended_in_difference:
@@ -285,7 +323,9 @@ def _read_xydata(record: _Record, header: dict[str, _Record]):
                 )
             values = values[1:]
             index_of_line_x -= 1
-        _check_line_x(x_value * x_factor, first_x + index_of_line_x * spacing, spacing, line)
+        _check_line_x(
+            x_value * x_factor, first_x + index_of_line_x * spacing, spacing, line
+        )
         y_scaled.extend(values)
         if len(y_scaled) > n_points:
             raise AnalysisInputError(
@@ -352,7 +392,8 @@ def _read_xy_pairs(record: _Record, header: dict[str, _Record]):
     pair_lines = np.asarray(lines[1::2])
     if pairs.shape[0] < 2:
         raise AnalysisInputError(
-            "a spectrum needs at least 2 points", line=pair_lines[0] if pairs.size else record.line
+            "a spectrum needs at least 2 points",
+            line=pair_lines[0] if pairs.size else record.line,
         )
     if "NPOINTS" in header and _npoints(header["NPOINTS"]) != pairs.shape[0]:
         raise AnalysisInputError(
@@ -364,8 +405,12 @@ def _read_xy_pairs(record: _Record, header: dict[str, _Record]):
     order = np.argsort(x, kind="stable")
     repeated = np.flatnonzero(np.diff(x[order]) == 0)
     if repeated.size:
-        line = int(max(pair_lines[order[repeated[0]]], pair_lines[order[repeated[0] + 1]]))
-        raise AnalysisInputError(f"x value {x[order[repeated[0]]]:g} occurs twice", line=line)
+        line = int(
+            max(pair_lines[order[repeated[0]]], pair_lines[order[repeated[0] + 1]])
+        )
+        raise AnalysisInputError(
+            f"x value {x[order[repeated[0]]]:g} occurs twice", line=line
+        )
     return x[order], y[order]
 
 
@@ -384,7 +429,9 @@ def _factor(header: dict[str, _Record], label: str) -> float:
         return 1.0
     value = _number(header[label])
     if value == 0:
-        raise AnalysisInputError(f"##{label}= must not be zero", line=header[label].line)
+        raise AnalysisInputError(
+            f"##{label}= must not be zero", line=header[label].line
+        )
     return value
 
 
@@ -440,9 +487,13 @@ def read_jcamp(text: str) -> Spectrum:
         elif record.label not in header:
             header[record.label] = record
         elif not record.label.startswith("$"):  # private records may repeat; first kept
-            raise AnalysisInputError(f"##{record.raw_label}= appears twice", line=record.line)
+            raise AnalysisInputError(
+                f"##{record.raw_label}= appears twice", line=record.line
+            )
     if "JCAMPDX" not in header:
-        raise AnalysisInputError("the ##JCAMP-DX= version record is missing", line=block[0].line)
+        raise AnalysisInputError(
+            "the ##JCAMP-DX= version record is missing", line=block[0].line
+        )
     if len(data) != 1:
         raise AnalysisInputError(
             "expected exactly one ##XYDATA=, ##XYPOINTS= or ##PEAK TABLE= record, "
@@ -510,7 +561,9 @@ def _dup_count(count: int) -> str:
 
 
 def _x_text(value: float) -> str:
-    return repr(float(value)).upper()  # shortest exact form; E exponent as the standard has
+    return repr(
+        float(value)
+    ).upper()  # shortest exact form; E exponent as the standard has
 
 
 def _value_tokens(y_values: np.ndarray, compression: str) -> list[str]:
@@ -575,15 +628,15 @@ def _difference_lines(x, y_int: np.ndarray, use_dup: bool) -> list[str]:
 def _single_line(value: str, field: str) -> str:
     text = str(value)
     if "\n" in text or "\r" in text or "$$" in text or "##" in text:
-        raise AnalysisInputError(
-            "must be one line without '$$' or '##'", field=field
-        )
+        raise AnalysisInputError("must be one line without '$$' or '##'", field=field)
     return text.strip()
 
 
 def _is_equally_spaced(x: np.ndarray) -> bool:
     steps = np.diff(x)
-    return bool(np.allclose(steps, steps.mean(), rtol=1e-9, atol=1e-12 * np.abs(x).max()))
+    return bool(
+        np.allclose(steps, steps.mean(), rtol=1e-9, atol=1e-12 * np.abs(x).max())
+    )
 
 
 def _auto_y_factor(y: np.ndarray) -> float:
@@ -652,12 +705,20 @@ def write_jcamp(
         )
     x, y = spectrum.x, spectrum.y
     exact_affn = form == "AFFN" and y_factor is None
-    factor = 1.0 if exact_affn else (_auto_y_factor(y) if y_factor is None else float(y_factor))
+    factor = (
+        1.0
+        if exact_affn
+        else (_auto_y_factor(y) if y_factor is None else float(y_factor))
+    )
     if not np.isfinite(factor) or factor == 0:
-        raise AnalysisInputError(f"must be finite and non-zero, got {y_factor}", field="y_factor")
+        raise AnalysisInputError(
+            f"must be finite and non-zero, got {y_factor}", field="y_factor"
+        )
     y_scaled = y if exact_affn else np.round(y / factor)
     if not np.all(np.abs(y_scaled) < 2**53):
-        raise AnalysisInputError("y / y_factor is too large to store as an integer", field="y_factor")
+        raise AnalysisInputError(
+            "y / y_factor is too large to store as an integer", field="y_factor"
+        )
 
     header = [
         f"##TITLE={_single_line(title, 'title')}",
@@ -685,7 +746,9 @@ def write_jcamp(
     else:
         header.insert(-2, f"##DELTAX={_x_text((x[-1] - x[0]) / (x.size - 1))}")
         if form in ("DIF", "DIFDUP"):
-            lines = _difference_lines(x, y_scaled.astype(np.int64), use_dup=form == "DIFDUP")
+            lines = _difference_lines(
+                x, y_scaled.astype(np.int64), use_dup=form == "DIFDUP"
+            )
         else:
             lines = _plain_lines(x, y_scaled, form)
         body = ["##XYDATA=(X++(Y..Y))", *lines]

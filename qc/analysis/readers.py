@@ -40,10 +40,13 @@ def decode_text(data: str | bytes) -> str:
         return data
     if not isinstance(data, (bytes, bytearray, memoryview)):
         raise AnalysisInputError(
-            f"expected file contents as str or bytes, got {type(data).__name__}", field="data"
+            f"expected file contents as str or bytes, got {type(data).__name__}",
+            field="data",
         )
     raw = bytes(data)
-    if raw.startswith((b"\xff\xfe", b"\xfe\xff")):  # some instrument software writes UTF-16
+    if raw.startswith(
+        (b"\xff\xfe", b"\xfe\xff")
+    ):  # some instrument software writes UTF-16
         try:
             return raw.decode("utf-16")
         except UnicodeDecodeError:
@@ -95,14 +98,20 @@ def _detect_delimiter(line: str) -> str | None:
     if "," in line:
         cells = line.split()
         with_comma = [c for c in cells if "," in c]
-        if len(cells) >= 2 and all(_DECIMAL_COMMA_CELL.fullmatch(c) for c in with_comma):
+        if len(cells) >= 2 and all(
+            _DECIMAL_COMMA_CELL.fullmatch(c) for c in with_comma
+        ):
             return None  # "1001,4 523,1": blanks separate, commas are decimal marks
         return ","
     return None
 
 
 def _split(line: str, delimiter: str | None) -> list[str]:
-    return line.split() if delimiter is None else [c.strip() for c in line.split(delimiter)]
+    return (
+        line.split()
+        if delimiter is None
+        else [c.strip() for c in line.split(delimiter)]
+    )
 
 
 def _first_numeric(lines: _Lines) -> int:
@@ -124,10 +133,14 @@ def _parse_block(
     decimal_comma = delimiter != "," and any("," in t for t in texts)
     rows = [t.replace(",", ".") for t in texts] if decimal_comma else texts
     try:
-        block = np.loadtxt(rows, delimiter=delimiter, comments=None, ndmin=2, dtype=float)
+        block = np.loadtxt(
+            rows, delimiter=delimiter, comments=None, ndmin=2, dtype=float
+        )
     except ValueError:
         _explain_parse_failure(rows, numbers, delimiter, n_columns)
-        raise AnalysisInputError("the data could not be read as numbers", line=numbers[0])
+        raise AnalysisInputError(
+            "the data could not be read as numbers", line=numbers[0]
+        )
     if n_columns is not None and block.shape[1] != n_columns:
         _explain_parse_failure(rows, numbers, delimiter, n_columns)
     bad = ~np.isfinite(block)
@@ -166,7 +179,9 @@ def _ascending(x: np.ndarray, numbers: list[int], what: str) -> np.ndarray:
     steps = np.diff(x)
     if np.any(steps == 0):
         index = int(np.flatnonzero(steps == 0)[0]) + 1
-        raise AnalysisInputError(f"{what} {x[index]:g} repeats the line before", line=numbers[index])
+        raise AnalysisInputError(
+            f"{what} {x[index]:g} repeats the line before", line=numbers[index]
+        )
     if x.size > 1 and not (np.all(steps > 0) or np.all(steps < 0)):
         index = int(np.flatnonzero(np.sign(steps) != np.sign(steps[0]))[0]) + 1
         raise AnalysisInputError(
@@ -180,7 +195,9 @@ def _ascending(x: np.ndarray, numbers: list[int], what: str) -> np.ndarray:
 # ---------------------------------------------------------------------------------------
 
 
-def read_two_column(data: str | bytes, *, x_unit: str = "1/cm", y_unit: str = "counts") -> Spectrum:
+def read_two_column(
+    data: str | bytes, *, x_unit: str = "1/cm", y_unit: str = "counts"
+) -> Spectrum:
     """Read a two-column (x, y) text spectrum.
 
     Parameters
@@ -211,7 +228,9 @@ def read_two_column(data: str | bytes, *, x_unit: str = "1/cm", y_unit: str = "c
     texts, numbers = lines.texts[start:], lines.numbers[start:]
     block, decimal_comma = _parse_block(texts, numbers, delimiter, n_columns=2)
     if block.shape[0] < 2:
-        raise AnalysisInputError("a spectrum needs at least 2 points, found 1", line=numbers[0])
+        raise AnalysisInputError(
+            "a spectrum needs at least 2 points, found 1", line=numbers[0]
+        )
     order = _ascending(block[:, 0], numbers, "x value")
     metadata = {
         "header_lines": start,
@@ -244,7 +263,9 @@ def read_spectrum(data: str | bytes, filename: str | None = None) -> Spectrum:
 # ---------------------------------------------------------------------------------------
 
 
-def _map_metadata(lines: _Lines, header_lines: int, delimiter, decimal_comma, layout) -> dict:
+def _map_metadata(
+    lines: _Lines, header_lines: int, delimiter, decimal_comma, layout
+) -> dict:
     return {
         "layout": layout,
         "header_lines": header_lines,
@@ -263,7 +284,8 @@ def _refuse_repeated_positions(x_um, y_um, numbers) -> None:
         seen[first] = True
         row = int(np.flatnonzero(~seen)[0])
         raise AnalysisInputError(
-            f"position ({x_um[row]:g}, {y_um[row]:g}) µm occurs twice", line=numbers[row]
+            f"position ({x_um[row]:g}, {y_um[row]:g}) µm occurs twice",
+            line=numbers[row],
         )
 
 
@@ -287,7 +309,9 @@ def read_map_wide(data: str | bytes) -> RamanMap:
     header_text, header_line = lines.texts[0], lines.numbers[0]
     delimiter = _detect_delimiter(header_text)
     decimal_comma = delimiter != "," and "," in header_text
-    cells = _split(header_text.replace(",", ".") if decimal_comma else header_text, delimiter)
+    cells = _split(
+        header_text.replace(",", ".") if decimal_comma else header_text, delimiter
+    )
     if len(cells) < 4:
         raise AnalysisInputError(
             "a wide map header needs x, y and at least two shifts", line=header_line
@@ -301,15 +325,23 @@ def read_map_wide(data: str | bytes) -> RamanMap:
             line=header_line,
         ) from None
     if not np.all(np.isfinite(shift)):
-        raise AnalysisInputError("a shift in the header is not finite", line=header_line)
+        raise AnalysisInputError(
+            "a shift in the header is not finite", line=header_line
+        )
     order = _ascending(shift, [header_line] * shift.size, "shift")
     texts, numbers = lines.texts[1:], lines.numbers[1:]
     if not texts:
         raise AnalysisInputError("the map has a header but no points", line=header_line)
-    block, comma_in_rows = _parse_block(texts, numbers, delimiter, n_columns=2 + shift.size)
+    block, comma_in_rows = _parse_block(
+        texts, numbers, delimiter, n_columns=2 + shift.size
+    )
     _refuse_repeated_positions(block[:, 0], block[:, 1], numbers)
-    metadata = _map_metadata(lines, 1, delimiter, decimal_comma or comma_in_rows, "wide")
-    return RamanMap(block[:, 0], block[:, 1], shift[order], block[:, 2:][:, order], None, metadata)
+    metadata = _map_metadata(
+        lines, 1, delimiter, decimal_comma or comma_in_rows, "wide"
+    )
+    return RamanMap(
+        block[:, 0], block[:, 1], shift[order], block[:, 2:][:, order], None, metadata
+    )
 
 
 def read_map_long(data: str | bytes) -> RamanMap:
@@ -331,7 +363,9 @@ def read_map_long(data: str | bytes) -> RamanMap:
     texts, numbers = lines.texts[start:], np.asarray(lines.numbers[start:])
     block, decimal_comma = _parse_block(texts, list(numbers), delimiter, n_columns=4)
     positions = block[:, :2]
-    _, first_row, inverse = np.unique(positions, axis=0, return_index=True, return_inverse=True)
+    _, first_row, inverse = np.unique(
+        positions, axis=0, return_index=True, return_inverse=True
+    )
     inverse = inverse.ravel()
     rank = np.empty(first_row.size, dtype=np.intp)
     rank[np.argsort(first_row)] = np.arange(first_row.size)
@@ -365,7 +399,9 @@ def read_map_long(data: str | bytes) -> RamanMap:
             line=int(numbers[row]),
         )
     if n_shift < 2:
-        raise AnalysisInputError("each point needs at least 2 shifts", line=int(numbers[0]))
+        raise AnalysisInputError(
+            "each point needs at least 2 shifts", line=int(numbers[0])
+        )
     point_rows = order.reshape(-1, n_shift)[:, 0]
     metadata = _map_metadata(lines, start, delimiter, decimal_comma, "long")
     return RamanMap(
@@ -400,7 +436,11 @@ def read_map(data: str | bytes) -> RamanMap:
     decimal_comma = delimiter != "," and "," in first
     cells = _split(first.replace(",", ".") if decimal_comma else first, delimiter)
     all_numeric = all(_is_number(c) for c in cells)
-    if len(cells) >= 4 and not _is_number(cells[0]) and all(_is_number(c) for c in cells[2:]):
+    if (
+        len(cells) >= 4
+        and not _is_number(cells[0])
+        and all(_is_number(c) for c in cells[2:])
+    ):
         return read_map_wide(text)
     if len(cells) == 4 and (all_numeric or not any(_is_number(c) for c in cells)):
         return read_map_long(text)

@@ -138,7 +138,9 @@ class RamanMap:
         x = as_finite_1d(self.x_um, field="x_um")
         y = as_finite_1d(self.y_um, field="y_um")
         if x.shape != y.shape:
-            raise AnalysisInputError(f"x_um has {x.size} values but y_um has {y.size}", field="y_um")
+            raise AnalysisInputError(
+                f"x_um has {x.size} values but y_um has {y.size}", field="y_um"
+            )
         shift = as_finite_1d(self.shift_cm1, field="shift_cm1", min_points=2)
         _require_ascending(shift, field="shift_cm1")
         intensity = np.asarray(self.intensity, dtype=float)
@@ -184,8 +186,12 @@ class RamanMap:
                 f"point index {index} is outside 0..{self.n_points - 1}", field="index"
             )
         unit = y_unit or self.metadata.get("intensity_unit", "counts")
-        point_metadata = dict(self.metadata, x_um=float(self.x_um[index]), y_um=float(self.y_um[index]))
-        return Spectrum(self.shift_cm1, self.intensity[index], "1/cm", unit, point_metadata)
+        point_metadata = dict(
+            self.metadata, x_um=float(self.x_um[index]), y_um=float(self.y_um[index])
+        )
+        return Spectrum(
+            self.shift_cm1, self.intensity[index], "1/cm", unit, point_metadata
+        )
 
     def grid_axes(self) -> tuple[np.ndarray, np.ndarray]:
         """Return the distinct x and y positions (µm), ascending: the image's column and row axes."""
@@ -236,7 +242,9 @@ class RamanMap:
 
 def _require_distinct_positions(x: np.ndarray, y: np.ndarray) -> None:
     positions = np.column_stack([x, y])
-    _, first, counts = np.unique(positions, axis=0, return_index=True, return_counts=True)
+    _, first, counts = np.unique(
+        positions, axis=0, return_index=True, return_counts=True
+    )
     if np.any(counts > 1):
         repeated = np.sort(first[counts > 1])[0]
         raise AnalysisInputError(

@@ -7,7 +7,11 @@ ch. 1): shift [cm⁻¹] = 1e7/λ_laser[nm] − 1e7/λ_scattered[nm], Stokes posi
 import numpy as np
 import pytest
 
-from qc.analysis.axes import raman_shift_cm1, scattered_wavelength_nm, spectrum_to_raman_shift
+from qc.analysis.axes import (
+    raman_shift_cm1,
+    scattered_wavelength_nm,
+    spectrum_to_raman_shift,
+)
 from qc.analysis.errors import AnalysisInputError
 from qc.analysis.spectrum import Spectrum
 
@@ -19,7 +23,9 @@ def test_polystyrene_band_with_785_nm_laser_matches_hand_calculation():
     laser_wavenumber = 1e7 / 785.0
     expected_nm = 1e7 / (laser_wavenumber - 1001.4)
     assert expected_nm == pytest.approx(851.97, abs=0.01)  # the hand value above
-    assert scattered_wavelength_nm(1001.4, 785.0) == pytest.approx(expected_nm, rel=1e-12)
+    assert scattered_wavelength_nm(1001.4, 785.0) == pytest.approx(
+        expected_nm, rel=1e-12
+    )
     assert raman_shift_cm1(expected_nm, 785.0) == pytest.approx(1001.4, abs=1e-9)
 
 
@@ -43,7 +49,9 @@ def test_vectorised_round_trip_over_a_2d_array():
     wavelengths_nm = rng.uniform(790.0, 1000.0, size=(40, 25))
     shift = raman_shift_cm1(wavelengths_nm, 785.0)
     assert shift.shape == wavelengths_nm.shape
-    np.testing.assert_allclose(scattered_wavelength_nm(shift, 785.0), wavelengths_nm, rtol=1e-12)
+    np.testing.assert_allclose(
+        scattered_wavelength_nm(shift, 785.0), wavelengths_nm, rtol=1e-12
+    )
 
 
 @pytest.mark.parametrize("bad", [0.0, -532.0, np.nan, np.inf])
@@ -73,7 +81,9 @@ def test_spectrum_in_nm_becomes_ascending_raman_shift():
         Spectrum(wavelengths_nm, counts, "nm", "counts", {"laser_nm": 785.0})
     )
     # Each x recomputed from the definition, not from the function.
-    np.testing.assert_allclose(converted.x, 1e7 / 785.0 - 1e7 / wavelengths_nm, rtol=1e-12)
+    np.testing.assert_allclose(
+        converted.x, 1e7 / 785.0 - 1e7 / wavelengths_nm, rtol=1e-12
+    )
     assert np.all(np.diff(converted.x) > 0)
     np.testing.assert_array_equal(converted.y, counts)
     assert converted.x_unit == "1/cm"

@@ -97,7 +97,10 @@ def test_descending_axis_is_returned_ascending_with_factors_applied():
     # FIRSTX 20 → LASTX 2 (XFACTOR 2 on the line x), YFACTOR 0.1: y = 0.1 × (5 6 7 8 9 … ).
     text = _file(
         ["10 5 6 7 8 9", "5 10 11 12 13 14"],
-        first_x=20, last_x=2, npoints=10, y_factor=0.1,
+        first_x=20,
+        last_x=2,
+        npoints=10,
+        y_factor=0.1,
         extra="##DELTAX=-2\n",
     ).replace("##XFACTOR=1", "##XFACTOR=2")
     spectrum = read_jcamp(text)
@@ -126,7 +129,12 @@ def test_xypoints_and_peak_table():
     "lines, kwargs, line, message",
     [
         (["1 1 2 3"], {}, 10, "NPOINTS"),  # 3 points for NPOINTS=10; NPOINTS is line 10
-        (["1ABCCBA@abc", "20A"], {"npoints": 11, "last_x": 11}, 13, "x ="),  # x out of step
+        (
+            ["1ABCCBA@abc", "20A"],
+            {"npoints": 11, "last_x": 11},
+            13,
+            "x =",
+        ),  # x out of step
         (["1AJJ?jjjjj"], {}, 12, "missing value"),  # '?' is not a value
         (["1jABC"], {}, 12, "absolute"),  # a difference cannot open a line
         (["1TABC"], {}, 12, "duplicate"),  # a DUP count needs something to repeat
@@ -178,18 +186,26 @@ def test_labels_are_compared_ignoring_case_blanks_dashes_and_comments():
 
 def _data_lines(text):
     lines = text.splitlines()
-    start = next(i for i, line in enumerate(lines) if line.startswith(("##XYDATA", "##XYPOINTS")))
+    start = next(
+        i for i, line in enumerate(lines) if line.startswith(("##XYDATA", "##XYPOINTS"))
+    )
     return lines[start + 1 : -1]
 
 
 def test_writer_encodes_the_paper_sequence_as_derived_by_hand():
     spectrum = Spectrum(np.arange(1.0, 11.0), np.array(PAPER_SEQUENCE, dtype=float))
-    difdup = write_jcamp(spectrum, title="t", origin="o", owner="w", compression="DIFDUP", y_factor=1)
+    difdup = write_jcamp(
+        spectrum, title="t", origin="o", owner="w", compression="DIFDUP", y_factor=1
+    )
     # x "1.0", then the DIFDUP characters of the paper; closing check line x=10, y=c (−3).
     assert _data_lines(difdup) == ["1.0" + PAPER_FORMS["DIFDUP"], "10.0c"]
-    sqz = write_jcamp(spectrum, title="t", origin="o", owner="w", compression="SQZ", y_factor=1)
+    sqz = write_jcamp(
+        spectrum, title="t", origin="o", owner="w", compression="SQZ", y_factor=1
+    )
     assert _data_lines(sqz) == ["1.0" + PAPER_FORMS["SQZ"]]
-    pac = write_jcamp(spectrum, title="t", origin="o", owner="w", compression="PAC", y_factor=1)
+    pac = write_jcamp(
+        spectrum, title="t", origin="o", owner="w", compression="PAC", y_factor=1
+    )
     assert _data_lines(pac) == ["1.0+1+2+3+3+2+1+0-1-2-3"]  # PAC: every value signed
 
 
@@ -198,15 +214,23 @@ def test_round_trip_is_exact_for_integer_scaled_data(compression):
     # Seeded synthetic Raman-like data on integer counts × YFACTOR 0.25 (exact in binary),
     # with a flat run so DUP has something to compress.
     rng = np.random.default_rng(2024)
-    counts = np.round(rng.normal(4000, 300, 700)) + np.round(5e4 * np.exp(-0.5 * ((np.arange(700) - 350) / 6.0) ** 2))
+    counts = np.round(rng.normal(4000, 300, 700)) + np.round(
+        5e4 * np.exp(-0.5 * ((np.arange(700) - 350) / 6.0) ** 2)
+    )
     counts[10:40] = counts[10]
     shift = np.linspace(200.0, 1800.0, 700)
     spectrum = Spectrum(shift, counts * 0.25, "1/cm", "counts", {"laser_nm": 785.0})
     text = write_jcamp(
-        spectrum, title="round trip", origin="seeded synthetic", owner="test",
-        compression=compression, y_factor=0.25,
+        spectrum,
+        title="round trip",
+        origin="seeded synthetic",
+        owner="test",
+        compression=compression,
+        y_factor=0.25,
     )
-    assert max(len(line) for line in text.splitlines()) <= 80  # the standard's line limit
+    assert (
+        max(len(line) for line in text.splitlines()) <= 80
+    )  # the standard's line limit
     back = read_jcamp(text)
     np.testing.assert_array_equal(back.x, spectrum.x)
     np.testing.assert_array_equal(back.y, spectrum.y)
@@ -217,15 +241,27 @@ def test_round_trip_is_exact_for_integer_scaled_data(compression):
 def test_difdup_is_smaller_than_affn():
     # The purpose of ASDF (McDonald & Wilks 1988, section 5.2) is compression.
     rng = np.random.default_rng(5)
-    spectrum = Spectrum(np.linspace(100, 3000, 2000), np.round(rng.normal(1000, 5, 2000)))
-    sizes = {c: len(write_jcamp(spectrum, title="t", origin="o", owner="w", compression=c)) for c in ("AFFN", "DIFDUP")}
+    spectrum = Spectrum(
+        np.linspace(100, 3000, 2000), np.round(rng.normal(1000, 5, 2000))
+    )
+    sizes = {
+        c: len(write_jcamp(spectrum, title="t", origin="o", owner="w", compression=c))
+        for c in ("AFFN", "DIFDUP")
+    }
     assert sizes["DIFDUP"] < 0.6 * sizes["AFFN"]
 
 
 def test_affn_without_factor_keeps_arbitrary_floats_exactly():
     rng = np.random.default_rng(11)
-    spectrum = Spectrum(np.linspace(-50.0, 3000.0, 301), rng.normal(0.0, 1e-4, 301), "1/cm", "absorbance")
-    back = read_jcamp(write_jcamp(spectrum, title="t", origin="o", owner="w", compression="AFFN"))
+    spectrum = Spectrum(
+        np.linspace(-50.0, 3000.0, 301),
+        rng.normal(0.0, 1e-4, 301),
+        "1/cm",
+        "absorbance",
+    )
+    back = read_jcamp(
+        write_jcamp(spectrum, title="t", origin="o", owner="w", compression="AFFN")
+    )
     np.testing.assert_array_equal(back.y, spectrum.y)
     assert back.y_unit == "absorbance"
 

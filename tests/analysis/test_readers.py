@@ -54,7 +54,10 @@ def test_fixture_with_header_comments_and_descending_axis():
     assert spectrum.metadata["header"] == ["Raman shift (cm-1),Intensity (counts)"]
     # The file runs 1010 → 992; returned ascending with y following x.
     np.testing.assert_array_equal(spectrum.x[[0, -1]], [992.0, 1010.0])
-    assert spectrum.y[np.argmax(spectrum.y)] == 700.0 and spectrum.x[np.argmax(spectrum.y)] == 1001.0
+    assert (
+        spectrum.y[np.argmax(spectrum.y)] == 700.0
+        and spectrum.x[np.argmax(spectrum.y)] == 1001.0
+    )
 
 
 def test_decimal_comma_fixture():
@@ -89,10 +92,16 @@ def test_bad_two_column_input_names_the_line(text, line, message):
 
 def test_bytes_are_decoded_utf8_then_latin1():
     header = "Raman shift (cm⁻¹),I\n1,2\n3,4\n"
-    assert read_two_column(header.encode("utf-8")).metadata["header"] == ["Raman shift (cm⁻¹),I"]
-    latin = "Verschiebung µ,I\n1,2\n3,4\n".encode("latin-1")  # 0xB5 is invalid UTF-8 here
+    assert read_two_column(header.encode("utf-8")).metadata["header"] == [
+        "Raman shift (cm⁻¹),I"
+    ]
+    latin = "Verschiebung µ,I\n1,2\n3,4\n".encode(
+        "latin-1"
+    )  # 0xB5 is invalid UTF-8 here
     assert read_two_column(latin).metadata["header"] == ["Verschiebung µ,I"]
-    assert decode_text("\ufeffx".encode("utf-8")) == "x"  # a UTF-8 byte-order mark is dropped
+    assert (
+        decode_text("\ufeffx".encode("utf-8")) == "x"
+    )  # a UTF-8 byte-order mark is dropped
     assert decode_text("1,2".encode("utf-16")) == "1,2"
     with pytest.raises(AnalysisInputError):
         decode_text(12)
@@ -133,13 +142,21 @@ def test_long_map_fixture_in_mixed_row_order():
     np.testing.assert_array_equal(raman_map.shift_cm1, [1000.0, 1001.0])
     np.testing.assert_array_equal(raman_map.x_um, [0, 2, 0, 2])
     np.testing.assert_array_equal(raman_map.y_um, [0, 0, 2, 2])
-    np.testing.assert_array_equal(raman_map.intensity, [[4, 5], [6, 7], [8, 9], [10, 11]])
+    np.testing.assert_array_equal(
+        raman_map.intensity, [[4, 5], [6, 7], [8, 9], [10, 11]]
+    )
     assert raman_map.grid_shape == (2, 2)
 
 
 def test_read_map_detects_the_layout():
-    assert read_map((FIXTURES / "invented_map_wide.csv").read_bytes()).metadata["layout"] == "wide"
-    assert read_map((FIXTURES / "invented_map_long.tsv").read_bytes()).metadata["layout"] == "long"
+    assert (
+        read_map((FIXTURES / "invented_map_wide.csv").read_bytes()).metadata["layout"]
+        == "wide"
+    )
+    assert (
+        read_map((FIXTURES / "invented_map_long.tsv").read_bytes()).metadata["layout"]
+        == "long"
+    )
     assert read_map("0,0,100,1\n0,0,200,2\n").metadata["layout"] == "long"  # no header
     with pytest.raises(AnalysisInputError, match="layout") as caught:
         read_map("# c\na,b,c\n1,2,3\n")
@@ -185,10 +202,17 @@ def test_wide_reader_names_a_bad_header_cell():
 
 def _wide_map_text(n_side, n_shift, rng):
     shift = np.linspace(200.0, 3200.0, n_shift)
-    yy, xx = np.meshgrid(np.arange(n_side) * 0.5, np.arange(n_side) * 0.5, indexing="ij")
+    yy, xx = np.meshgrid(
+        np.arange(n_side) * 0.5, np.arange(n_side) * 0.5, indexing="ij"
+    )
     intensity = np.round(rng.normal(1000.0, 30.0, (n_side * n_side, n_shift)), 1)
     buffer = io.StringIO()
-    np.savetxt(buffer, np.column_stack([xx.ravel(), yy.ravel(), intensity]), delimiter=",", fmt="%.1f")
+    np.savetxt(
+        buffer,
+        np.column_stack([xx.ravel(), yy.ravel(), intensity]),
+        delimiter=",",
+        fmt="%.1f",
+    )
     header = "x_um,y_um," + ",".join(f"{v:.4f}" for v in shift)
     return header + "\n" + buffer.getvalue(), shift, intensity
 
@@ -200,8 +224,12 @@ def test_wide_map_values_survive_and_a_100_by_100_map_reads_fast():
     raman_map = read_map(text)
     seconds = time.perf_counter() - started
     assert raman_map.grid_shape == (100, 100)
-    np.testing.assert_allclose(raman_map.shift_cm1, shift, atol=5e-5)  # written to 4 decimals
-    np.testing.assert_array_equal(raman_map.intensity, intensity)  # written to 1 decimal
+    np.testing.assert_allclose(
+        raman_map.shift_cm1, shift, atol=5e-5
+    )  # written to 4 decimals
+    np.testing.assert_array_equal(
+        raman_map.intensity, intensity
+    )  # written to 1 decimal
     # Measured about 1.1 s on the development machine; generous ceiling against slow CI.
     assert seconds < 8.0, f"reading took {seconds:.2f} s"
 
@@ -219,7 +247,8 @@ def test_long_and_wide_layouts_agree():
     shuffled = [rows[i] for i in rng.permutation(len(rows))]
     long_map = read_map_long("x,y,shift,intensity\n" + "\n".join(shuffled))
     wide_text = "x,y,100,150,200\n" + "\n".join(
-        f"{px},{py}," + ",".join(str(v) for v in intensity[p]) for p, (px, py) in enumerate(zip(x.ravel(), y.ravel()))
+        f"{px},{py}," + ",".join(str(v) for v in intensity[p])
+        for p, (px, py) in enumerate(zip(x.ravel(), y.ravel()))
     )
     wide_map = read_map_wide(wide_text)
     for raman_map in (long_map, wide_map):

@@ -23,14 +23,16 @@ FUZZ = settings(
 
 # Characters that matter to the parsers: digits, signs, separators, decimal marks,
 # exponents, every ASDF pseudo-digit, comment and label markers, and a few oddities.
-_ALPHABET = "0123456789+-.,;\t \n#%$=?@ABCDEFGHIJKLMNOPQRSTUVWXYZabcdefghijklmnopqrsEe()XY/naif"
+_ALPHABET = (
+    "0123456789+-.,;\t \n#%$=?@ABCDEFGHIJKLMNOPQRSTUVWXYZabcdefghijklmnopqrsEe()XY/naif"
+)
 noisy_text = st.text(alphabet=_ALPHABET, max_size=300)
 
 
 def _numeric_cell():
     return st.one_of(
         st.floats(allow_nan=True, allow_infinity=True, width=64).map(repr),
-        st.integers(-10**6, 10**6).map(str),
+        st.integers(-(10**6), 10**6).map(str),
         st.sampled_from(["", "x", "1,5", "1e400", "--1", "nan", "."]),
     )
 
@@ -48,11 +50,17 @@ def table_text(draw):
 def jcamp_text(draw):
     """A valid JCAMP-DX file from the writer, then damaged in a random place."""
     n = draw(st.integers(2, 40))
-    y = np.asarray(draw(st.lists(st.integers(-5000, 5000), min_size=n, max_size=n)), float)
+    y = np.asarray(
+        draw(st.lists(st.integers(-5000, 5000), min_size=n, max_size=n)), float
+    )
     compression = draw(st.sampled_from(["AFFN", "PAC", "SQZ", "DIF", "DIFDUP"]))
     text = write_jcamp(
-        Spectrum(np.linspace(100.0, 100.0 + n, n), y), title="f", origin="o", owner="w",
-        compression=compression, y_factor=1,
+        Spectrum(np.linspace(100.0, 100.0 + n, n), y),
+        title="f",
+        origin="o",
+        owner="w",
+        compression=compression,
+        y_factor=1,
     )
     position = draw(st.integers(0, len(text)))
     cut = draw(st.integers(0, 5))
@@ -97,7 +105,11 @@ def test_map_reader(text):
 
 
 @FUZZ
-@given(st.one_of(jcamp_text(), noisy_text.map(lambda t: "##TITLE=t\n##JCAMP-DX=4.24\n" + t)))
+@given(
+    st.one_of(
+        jcamp_text(), noisy_text.map(lambda t: "##TITLE=t\n##JCAMP-DX=4.24\n" + t)
+    )
+)
 def test_jcamp_reader(text):
     _only_valid_or_refused(read_jcamp, text, _assert_valid_spectrum)
 
@@ -105,10 +117,14 @@ def test_jcamp_reader(text):
 @FUZZ
 @given(st.binary(max_size=300), st.sampled_from([None, "a.jdx", "a.csv", "a.txt"]))
 def test_read_spectrum_on_random_bytes(data, filename):
-    _only_valid_or_refused(lambda d: read_spectrum(d, filename), data, _assert_valid_spectrum)
+    _only_valid_or_refused(
+        lambda d: read_spectrum(d, filename), data, _assert_valid_spectrum
+    )
 
 
 @FUZZ
 @given(jcamp_text())
 def test_read_spectrum_on_damaged_jcamp_bytes(text):
-    _only_valid_or_refused(read_spectrum, text.encode("latin-1"), _assert_valid_spectrum)
+    _only_valid_or_refused(
+        read_spectrum, text.encode("latin-1"), _assert_valid_spectrum
+    )
