@@ -1,3 +1,180 @@
-"""Colloid UV-vis QC (models)."""
+"""Colloid UV-vis QC (models): one record per spectrum, the lab's limits, a silver calibration.
 
-__all__: list[str] = []
+Numbers are computed by qc.analysis at import (qc.services.colloid) and stored with units in
+their names; absorbances marked ``_1cm`` are for the undiluted colloid in a 1 cm cell.
+"""
+
+from __future__ import annotations
+
+from django.db import models
+from django.db.models import F, Q
+
+from inventory.models import CodedRecord, StampedRecord
+
+__all__ = ["ColloidLimitSet", "ColloidMetal", "SilverCalibration", "UvVisRecord"]
+
+
+class ColloidMetal(models.TextChoices):
+    SILVER = "Ag", "Silver"
+    GOLD = "Au", "Gold"
+
+
+class ColloidLimitSet(StampedRecord):
+    """The lab's limits for colloids of one metal (edited by an administrator).
+
+    ``is_example`` marks values shipped with the demo, which a lab must replace with its
+    own.  ``flag_size_disagreement`` makes a Mie-versus-calibration size difference beyond
+    the tolerance an open flag rather than only a note on the record.
+    """
+
+    metal = models.CharField(max_length=4, choices=ColloidMetal.choices, unique=True)
+    peak_min_nm = models.FloatField()
+    peak_max_nm = models.FloatField()
+    fwhm_max_nm = models.FloatField()
+    peak_shift_max_nm = models.FloatField()
+    absorbance_loss_max_fraction = models.FloatField()
+    aggregation_index_max = models.FloatField()
+    size_tolerance_percent = models.FloatField(default=15.0)
+    flag_size_disagreement = models.BooleanField(default=False)
+    is_example = models.BooleanField(default=False)
+    rationale = models.TextField(blank=True)
+
+    class Meta:
+        constraints = [
+            models.CheckConstraint(name="colloid_peak_window_ordered",
+                                   condition=Q(peak_min_nm__gt=0) & Q(peak_min_nm__lt=F("peak_max_nm"))),
+            models.CheckConstraint(name="colloid_limits_positive",
+                                   condition=Q(fwhm_max_nm__gt=0) & Q(peak_shift_max_nm__gt=0)
+                                   & Q(aggregation_index_max__gt=0)
+                                   & Q(size_tolerance_percent__gt=0)),
+            models.CheckConstraint(name="colloid_loss_fraction_range",
+                                   condition=Q(absorbance_loss_max_fraction__gt=0)
+                                   & Q(absorbance_loss_max_fraction__lte=1)),
+        ]
+
+    def __str__(self) -> str:
+        return f"{self.metal} colloid limits{' (example)' if self.is_example else ''}"
+
+
+class SilverCalibration(StampedRecord):
+    """The lab's own silver table: plasmon peak → mean diameter and molar extinction.
+
+    ``rows`` is a list of ``[peak_nm, diameter_nm, extinction_M1cm1]``; ``provenance`` says
+    where the numbers come from (e.g. the lab's TEM sizing series).  At most one table is
+    active; without one, imports use the built-in Mie-derived table and say so.
+    """
+
+    name = models.CharField(max_length=120)
+    provenance = models.TextField()
+    rows = models.JSONField()
+    is_active = models.BooleanField(default=True)
+
+    class Meta:
+        constraints = [
+            models.UniqueConstraint(fields=["is_active"], condition=Q(is_active=True),
+                                    name="one_active_silver_calibration"),
+            models.CheckConstraint(name="silver_calibration_has_provenance",
+                                   condition=~Q(provenance="")),
+        ]
+
+    def __str__(self) -> str:
+        return f"{self.name} ({len(self.rows)} rows)"
+
+
+class UvVisRecord(CodedRecord):
+    """One UV-vis spectrum of a colloid batch at a date, dilution and path length.
+
+    The raw file (and optional blank) is kept as uploaded with its SHA-256 digest; every
+    computed number is for the undiluted colloid in 1 cm.  Stability numbers compare this
+    record with the batch's first (``first_record``; empty on the first record itself).
+    The Mie curve is redrawn from the stored median, σ_g, N and fit range
+    (qc.selectors.colloid.uvvis_record_get_curves).
+    """
+
+    CODE_PREFIX = "UV"
+
+    batch = models.ForeignKey("inventory.NanoparticleBatch", on_delete=models.PROTECT,
+                              related_name="uvvis_records")
+    measured_on = models.DateField()
+    dilution_factor = models.FloatField(default=1.0)
+    path_length_cm = models.FloatField(default=1.0)
+    raw_file = models.FileField(upload_to="uvvis/")
+    raw_file_name = models.CharField(max_length=255)
+    raw_sha256 = models.CharField(max_length=64, db_index=True)
+    blank_file = models.FileField(upload_to="uvvis/blanks/", blank=True)
+    blank_sha256 = models.CharField(max_length=64, blank=True)
+    point_count = models.PositiveIntegerField()
+    wavelength_min_nm = models.FloatField()
+    wavelength_max_nm = models.FloatField()
+
+    # Plasmon band (qc.analysis.uvvis.measure_plasmon_band).
+    peak_nm = models.FloatField()
+    peak_absorbance_1cm = models.FloatField()
+    fwhm_nm = models.FloatField(null=True, blank=True)
+    half_width_blue_nm = models.FloatField(null=True, blank=True)
+    half_width_red_nm = models.FloatField(null=True, blank=True)
+    fwhm_note = models.CharField(max_length=200, blank=True)
+    absorbance_450_1cm = models.FloatField()
+    ratio_spr_450 = models.FloatField()
+    aggregation_index = models.FloatField()
+
+    # Gold: Haiss et al. (2007), ratio and peak-position methods.
+    haiss_ratio_diameter_nm = models.FloatField(null=True, blank=True)
+    haiss_ratio_in_range = models.BooleanField(null=True, blank=True)
+    haiss_ratio_is_estimate = models.BooleanField(null=True, blank=True)
+    haiss_ratio_note = models.CharField(max_length=300, blank=True)
+    haiss_peak_diameter_nm = models.FloatField(null=True, blank=True)
+    haiss_peak_in_range = models.BooleanField(null=True, blank=True)
+    haiss_peak_note = models.CharField(max_length=300, blank=True)
+
+    # Silver: calibration table (the lab's own when active, else the built-in Mie table).
+    silver_table_diameter_nm = models.FloatField(null=True, blank=True)
+    silver_table_in_range = models.BooleanField(null=True, blank=True)
+    silver_table_note = models.CharField(max_length=300, blank=True)
+    silver_calibration = models.ForeignKey(SilverCalibration, null=True, blank=True,
+                                           on_delete=models.PROTECT, related_name="records")
+    calibration_source = models.TextField(blank=True)
+
+    # The calibration size used for concentration and the Mie comparison.
+    diameter_nm = models.FloatField(null=True, blank=True)
+    diameter_method = models.CharField(max_length=200, blank=True)
+    number_per_mL = models.FloatField(null=True, blank=True)
+    molar_concentration_M = models.FloatField(null=True, blank=True)
+    concentration_note = models.CharField(max_length=300, blank=True)
+
+    # Log-normal Mie fit (qc.analysis.mie_model.fit_lognormal_mie).
+    mie_median_diameter_nm = models.FloatField()
+    mie_geometric_sigma = models.FloatField()
+    mie_number_per_mL = models.FloatField()
+    mie_rms_residual = models.FloatField()
+    mie_relative_residual = models.FloatField()
+    mie_fit_min_nm = models.FloatField()
+    mie_fit_max_nm = models.FloatField()
+    size_difference_percent = models.FloatField(null=True, blank=True)
+    sizes_agree = models.BooleanField(null=True, blank=True)
+    size_agreement_message = models.CharField(max_length=300, blank=True)
+
+    # Versus the batch's first record (qc.analysis.colloid_stability.compare_with_first).
+    first_record = models.ForeignKey("self", null=True, blank=True, on_delete=models.PROTECT,
+                                     related_name="+")
+    age_days = models.IntegerField()
+    peak_shift_nm = models.FloatField(null=True, blank=True)
+    absorbance_loss_fraction = models.FloatField(null=True, blank=True)
+    broadening_nm = models.FloatField(null=True, blank=True)
+    aggregation_index_change = models.FloatField(null=True, blank=True)
+
+    # Evaluation against the lab's limits at import time.
+    limit_set = models.ForeignKey(ColloidLimitSet, null=True, blank=True,
+                                  on_delete=models.PROTECT, related_name="records")
+    limits_note = models.CharField(max_length=300, blank=True)
+    breaches = models.JSONField(default=list, blank=True)
+
+    class Meta:
+        ordering = ["batch", "measured_on", "id"]
+        constraints = [
+            models.UniqueConstraint(fields=["batch", "raw_sha256"], name="uvvis_file_once_per_batch"),
+            models.CheckConstraint(name="uvvis_dilution_at_least_one",
+                                   condition=Q(dilution_factor__gte=1)),
+            models.CheckConstraint(name="uvvis_path_positive", condition=Q(path_length_cm__gt=0)),
+            models.CheckConstraint(name="uvvis_age_non_negative", condition=Q(age_days__gte=0)),
+        ]

@@ -1,3 +1,470 @@
-"""Colloid UV-vis QC (services)."""
+"""Colloid UV-vis QC (services): limits, the lab's silver table, and importing a spectrum.
 
-__all__: list[str] = []
+``uvvis_record_import`` is the one place where a colloid spectrum becomes a record: it reads
+the file, calls qc.analysis for every number, compares with the batch's first record,
+evaluates the lab's limits, stores it all and raises an open flag on the batch for each
+breach.  An open flag on a batch already makes every substrate decorated with it NOT
+READY (inventory.readiness), so no readiness provider is needed here.
+
+Disagreement between the calibration size and the Mie-fitted size is stored and reported,
+but is a flag only when the lab turns ``ColloidLimitSet.flag_size_disagreement`` on: the two
+routes are both estimates (Haiss's ratio method alone deviates 11 % on average; the
+built-in silver table shifts a few nm with the coarse optical-constant grid), so a
+difference says the size is uncertain, not that the colloid is unfit.  Aggregation, which
+is what spoils a colloid, is caught by the stability limits.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from datetime import date
+
+import numpy as np
+from django.core.exceptions import ValidationError
+from django.core.files.base import ContentFile
+from django.db import transaction
+from scipy import constants
+
+from inventory.errors import refusal
+from inventory.models import Flag, NanoparticleBatch
+from inventory.services import flag_raise, sha256_of
+from inventory.services._common import User, _link, _require_not_future, _save_new
+from qc.analysis import gold_haiss, silver_calibration
+from qc.analysis.colloid_stability import ColloidSnapshot, colloid_snapshot, compare_with_first
+from qc.analysis.errors import AnalysisInputError
+from qc.analysis.mie_model import compare_sizes, fit_lognormal_mie
+from qc.analysis.readers import read_spectrum
+from qc.analysis.spectrum import Spectrum
+from qc.analysis.uvvis import PlasmonBand, subtract_blank, to_undiluted_1cm
+
+from ..models.colloid import ColloidLimitSet, ColloidMetal, SilverCalibration, UvVisRecord
+
+__all__ = [
+    "UvVisImport", "colloid_limit_set_set", "silver_calibration_active", "silver_calibration_record",
+    "uvvis_record_import",
+]
+
+FLAG_CATEGORY = "colloid"
+MIE_FIT_RANGE_NM = (350.0, 800.0)
+_PARAMETER_FIELDS = {"dilution_factor", "path_length_cm"}
+
+
+@dataclass(frozen=True)
+class UvVisImport:
+    """What an import did: the record, whether it was already there, breaches and flags."""
+
+    record: UvVisRecord
+    duplicate: bool
+    breaches: tuple[dict, ...]
+    flags_raised: tuple[Flag, ...]
+
+
+# --------------------------------------------------------------------------------------
+# Limits and calibration tables
+# --------------------------------------------------------------------------------------
+
+
+@transaction.atomic
+def colloid_limit_set_set(
+    *, actor: User | None, metal: str, peak_min_nm: float, peak_max_nm: float,
+    fwhm_max_nm: float, peak_shift_max_nm: float, absorbance_loss_max_fraction: float,
+    aggregation_index_max: float, size_tolerance_percent: float = 15.0,
+    flag_size_disagreement: bool = False, is_example: bool = False, rationale: str = "",
+) -> ColloidLimitSet:
+    """Create or change the lab's colloid limits for ``metal``; records keep their verdicts."""
+    limits = ColloidLimitSet.objects.select_for_update().filter(metal=metal).first()
+    if limits is None:
+        limits = ColloidLimitSet(metal=metal, created_by=actor)
+    else:
+        limits.version += 1
+    limits.peak_min_nm, limits.peak_max_nm = peak_min_nm, peak_max_nm
+    limits.fwhm_max_nm = fwhm_max_nm
+    limits.peak_shift_max_nm = peak_shift_max_nm
+    limits.absorbance_loss_max_fraction = absorbance_loss_max_fraction
+    limits.aggregation_index_max = aggregation_index_max
+    limits.size_tolerance_percent = size_tolerance_percent
+    limits.flag_size_disagreement = flag_size_disagreement
+    limits.is_example = is_example
+    limits.rationale = rationale
+    limits.updated_by = actor
+    limits.full_clean()
+    limits.save()
+    return limits
+
+
+@transaction.atomic
+def silver_calibration_record(
+    *, actor: User | None, name: str, provenance: str,
+    rows: list[tuple[float, float, float]],
+) -> SilverCalibration:
+    """Store the lab's silver table (peak_nm, diameter_nm, extinction_M1cm1 rows) and use it.
+
+    The previously active table is kept but no longer used.  A bad table is refused with
+    the row at fault (qc.analysis.silver_calibration.CalibrationTable checks it).
+    """
+    try:
+        if len(rows) < 3 or any(len(row) != 3 for row in rows):
+            raise AnalysisInputError("give at least 3 rows of peak_nm, diameter_nm, "
+                                     "extinction_M1cm1", field="rows")
+        rows = [[float(value) for value in row] for row in rows]
+        silver_calibration.CalibrationTable(*(tuple(column) for column in zip(*rows)),
+                                            provenance=provenance)
+    except AnalysisInputError as error:
+        field = "provenance" if error.field == "provenance" else "rows"
+        raise refusal(field, str(error), "bad_calibration") from None
+    except (TypeError, ValueError):
+        raise refusal("rows", "every cell must be a number", "bad_calibration") from None
+    SilverCalibration.objects.filter(is_active=True).update(is_active=False)
+    table = SilverCalibration(name=name, provenance=provenance,
+                              rows=rows,
+                              created_by=actor, updated_by=actor)
+    table.full_clean()
+    table.save()
+    return table
+
+
+def silver_calibration_active() -> tuple[silver_calibration.CalibrationTable, SilverCalibration | None]:
+    """The table silver imports use: the lab's active one, else the built-in Mie table."""
+    stored = SilverCalibration.objects.filter(is_active=True).first()
+    if stored is None:
+        return silver_calibration.silver_table_from_mie(), None
+    peak, diameter, extinction = (tuple(column) for column in zip(*stored.rows))
+    return silver_calibration.CalibrationTable(peak, diameter, extinction,
+                                               provenance=stored.provenance), stored
+
+
+# --------------------------------------------------------------------------------------
+# Import
+# --------------------------------------------------------------------------------------
+
+
+@transaction.atomic
+def uvvis_record_import(
+    *, actor: User | None, batch: NanoparticleBatch, filename: str, content: bytes,
+    measured_on: date, dilution_factor: float = 1, path_length_cm: float = 1,
+    blank: tuple[str, bytes] | None = None, notes: str = "",
+) -> UvVisImport:
+    """Import one UV-vis spectrum of ``batch`` and evaluate it; all or nothing.
+
+    ``blank`` is an optional ``(filename, content)`` blank spectrum subtracted point by
+    point.  The same file (by SHA-256) for the same batch is recognised and returns the
+    existing record with ``duplicate=True`` (refused if its dilution, path or date differ).
+    Bad files raise ``ValidationError`` keyed ``raw_file`` / ``blank_file`` naming the line
+    where known; bad parameters are keyed by the parameter.
+    """
+    if batch.metal not in ColloidMetal.values:
+        raise refusal("batch", f"{batch.code} is a {batch.metal} colloid; UV-vis sizing covers "
+                               "silver (Ag) and gold (Au) only.", "unsupported_metal")
+    digest = sha256_of(content)
+    existing = UvVisRecord.objects.filter(batch=batch, raw_sha256=digest).first()
+    if existing is not None:
+        return _recognise_duplicate(existing, measured_on, dilution_factor, path_length_cm)
+    first = _check_dates(batch, measured_on)
+
+    record = UvVisRecord(batch=batch, measured_on=measured_on, dilution_factor=dilution_factor,
+                         path_length_cm=path_length_cm, raw_file_name=filename,
+                         raw_sha256=digest, notes=notes,
+                         age_days=(measured_on - batch.made_on).days)
+    snapshot, absorbance_1cm, wavelength_nm = _measure(record, batch.metal, filename, content, blank)
+    _store_band(record, snapshot)
+    calibration_diameter = _store_calibration(record, batch.metal, snapshot.band)
+    _store_mie(record, batch.metal, wavelength_nm, absorbance_1cm, calibration_diameter)
+    limits = ColloidLimitSet.objects.filter(metal=batch.metal).first()
+    _store_size_agreement(record, limits)
+    if first is not None:
+        _store_stability(record, first, snapshot)
+
+    record.raw_file = ContentFile(content, name=filename)
+    if blank is not None:
+        record.blank_file = ContentFile(blank[1], name=blank[0])
+        record.blank_sha256 = sha256_of(blank[1])
+    breaches = _evaluate(record, limits)
+    record = _save_new(record, actor=actor)
+    _link([(batch, "colloid measured")], record, used_on=measured_on, actor=actor)
+    flags = _flag_breaches(actor, batch, record, breaches)
+    record.breaches = breaches
+    UvVisRecord.objects.filter(pk=record.pk).update(breaches=breaches)
+    return UvVisImport(record=record, duplicate=False, breaches=tuple(breaches),
+                       flags_raised=tuple(flags))
+
+
+def _recognise_duplicate(existing: UvVisRecord, measured_on, dilution_factor,
+                         path_length_cm) -> UvVisImport:
+    same = (existing.measured_on == measured_on
+            and np.isclose(existing.dilution_factor, float(dilution_factor))
+            and np.isclose(existing.path_length_cm, float(path_length_cm)))
+    if not same:
+        raise refusal("raw_file", f"This file was already imported as {existing.code} "
+                                  f"(measured {existing.measured_on.isoformat()}, dilution "
+                                  f"{existing.dilution_factor:g}, path {existing.path_length_cm:g}"
+                                  " cm); the same spectrum cannot be a second measurement.",
+                      "duplicate_file")
+    return UvVisImport(record=existing, duplicate=True, breaches=tuple(existing.breaches),
+                       flags_raised=())
+
+
+def _check_dates(batch: NanoparticleBatch, measured_on: date) -> UvVisRecord | None:
+    """Refuse impossible dates; return the batch's first record (None if this is the first)."""
+    _require_not_future(measured_on, field="measured_on")
+    if measured_on < batch.made_on:
+        raise refusal("measured_on", f"{batch.code} was made on {batch.made_on.isoformat()}, "
+                                     "after this measurement.", "date_order")
+    first = UvVisRecord.objects.filter(batch=batch).order_by("measured_on", "id").first()
+    if first is not None and measured_on < first.measured_on:
+        raise refusal("measured_on", f"Records are compared with the batch's first, "
+                                     f"{first.code} of {first.measured_on.isoformat()}; a record "
+                                     "dated before it cannot be added afterwards.", "date_order")
+    return first
+
+
+def _analysis_refusal(error: AnalysisInputError, *, file_field: str, filename: str) -> ValidationError:
+    """AnalysisInputError → ValidationError keyed by the file (with its line) or the parameter."""
+    if error.field in _PARAMETER_FIELDS:
+        return refusal(error.field, error.message, "bad_value")
+    where = f"{filename}, line {error.line}" if error.line is not None else filename
+    return refusal(file_field, f"{where}: {error.message}", "bad_file")
+
+
+def _read(filename: str, content: bytes, *, file_field: str) -> Spectrum:
+    try:
+        spectrum = read_spectrum(content, filename=filename)
+    except AnalysisInputError as error:
+        raise _analysis_refusal(error, file_field=file_field, filename=filename) from None
+    # A JCAMP-DX file states its x unit; a two-column text file does not (its axis is
+    # checked for plausible nm values by the analysis instead).
+    if "jcamp_dx" in spectrum.metadata and spectrum.x_unit != "nm":
+        raise refusal(file_field, f"{filename}: the x axis is in '{spectrum.x_unit}', not "
+                                  "nanometres (##XUNITS=NANOMETERS).", "wrong_unit")
+    return spectrum
+
+
+def _measure(record: UvVisRecord, metal: str, filename: str, content: bytes,
+             blank: tuple[str, bytes] | None):
+    """Read, blank-correct and measure; returns the snapshot, A (undiluted, 1 cm) and λ."""
+    spectrum = _read(filename, content, file_field="raw_file")
+    wavelength_nm, absorbance = spectrum.x, spectrum.y
+    if blank is not None:
+        blank_spectrum = _read(blank[0], blank[1], file_field="blank_file")
+        try:
+            absorbance = subtract_blank(wavelength_nm, absorbance, blank_spectrum.x, blank_spectrum.y)
+        except AnalysisInputError as error:
+            field = "blank_file" if error.field and error.field.startswith("blank") else "raw_file"
+            name = blank[0] if field == "blank_file" else filename
+            raise _analysis_refusal(error, file_field=field, filename=name) from None
+    try:
+        snapshot = colloid_snapshot(wavelength_nm, absorbance, metal=metal, day=record.age_days,
+                                    dilution_factor=record.dilution_factor,
+                                    path_length_cm=record.path_length_cm)
+        absorbance_1cm = to_undiluted_1cm(absorbance, dilution_factor=record.dilution_factor,
+                                          path_length_cm=record.path_length_cm)
+    except AnalysisInputError as error:
+        raise _analysis_refusal(error, file_field="raw_file", filename=filename) from None
+    record.point_count = int(wavelength_nm.size)
+    record.wavelength_min_nm = float(wavelength_nm[0])
+    record.wavelength_max_nm = float(wavelength_nm[-1])
+    return snapshot, absorbance_1cm, wavelength_nm
+
+
+def _store_band(record: UvVisRecord, snapshot: ColloidSnapshot) -> None:
+    band = snapshot.band
+    record.peak_nm = band.peak_nm
+    record.peak_absorbance_1cm = band.peak_absorbance_1cm
+    record.fwhm_nm = band.fwhm_nm
+    record.half_width_blue_nm = band.half_width_blue_nm
+    record.half_width_red_nm = band.half_width_red_nm
+    record.fwhm_note = band.fwhm_note
+    record.absorbance_450_1cm = band.absorbance_450_1cm
+    record.ratio_spr_450 = band.ratio_spr_450
+    record.aggregation_index = snapshot.aggregation_index
+
+
+def _store_calibration(record: UvVisRecord, metal: str, band: PlasmonBand) -> float | None:
+    """Size and concentration from the metal's calibration; returns the size used."""
+    if metal == ColloidMetal.GOLD:
+        return _store_gold(record, band)
+    return _store_silver(record, band)
+
+
+def _store_gold(record: UvVisRecord, band: PlasmonBand) -> float | None:
+    ratio = gold_haiss.diameter_from_ratio(band.ratio_spr_450)
+    peak = gold_haiss.diameter_from_peak(band.peak_nm)
+    record.haiss_ratio_diameter_nm = ratio.value
+    record.haiss_ratio_in_range = ratio.within_range
+    record.haiss_ratio_is_estimate = ratio.is_estimate
+    record.haiss_ratio_note = ratio.note
+    record.haiss_peak_diameter_nm = peak.value
+    record.haiss_peak_in_range = peak.within_range
+    record.haiss_peak_note = peak.note
+    # Haiss et al. advise the peak position above 35 nm and the ratio below.
+    if peak.value is not None and peak.value >= gold_haiss.PEAK_ADVISED_MIN_NM:
+        chosen, method = peak, "Haiss et al. 2007, peak position"
+    elif ratio.value is not None:
+        chosen, method = ratio, "Haiss et al. 2007, A_spr/A_450 ratio (experimental B1, B2)"
+    else:
+        chosen, method = peak, "Haiss et al. 2007, peak position"
+    record.calibration_source = "Haiss, Thanh, Aveyard & Fernig, Anal. Chem. 79, 4215 (2007)"
+    if chosen.value is None:
+        record.concentration_note = "no calibration size in range, so no concentration"
+        return None
+    record.diameter_nm, record.diameter_method = chosen.value, method
+    number = gold_haiss.number_concentration_per_mL(band.absorbance_450_1cm, chosen.value)
+    record.concentration_note = number.note
+    if number.value is not None:
+        record.number_per_mL = number.value
+        record.molar_concentration_M = gold_haiss.molar_concentration_M(number.value)
+    return chosen.value
+
+
+def _store_silver(record: UvVisRecord, band: PlasmonBand) -> float | None:
+    table, stored = silver_calibration_active()
+    record.silver_calibration = stored
+    record.calibration_source = (f"lab table '{stored.name}': {stored.provenance}" if stored
+                                 else f"built-in table ({table.provenance})")
+    size = silver_calibration.diameter_from_peak(table, band.peak_nm)
+    record.silver_table_diameter_nm = size.value
+    record.silver_table_in_range = size.within_range
+    record.silver_table_note = size.note
+    molar = silver_calibration.molar_concentration_M(table, band.peak_nm, band.peak_absorbance_1cm)
+    record.concentration_note = molar.note
+    if molar.value is not None:
+        record.molar_concentration_M = molar.value
+        # Unit conversion mol/L → particles/mL: N = c·N_A/1000 (N_A, CODATA).
+        record.number_per_mL = molar.value * constants.Avogadro / 1000.0
+    if size.value is None:
+        return None
+    record.diameter_nm = size.value
+    record.diameter_method = "silver calibration table, peak position (PCHIP)"
+    return size.value
+
+
+def _store_mie(record: UvVisRecord, metal: str, wavelength_nm, absorbance_1cm,
+               calibration_diameter_nm: float | None) -> None:
+    try:
+        fit = fit_lognormal_mie(wavelength_nm, absorbance_1cm, metal, fit_range_nm=MIE_FIT_RANGE_NM,
+                                initial_diameter_nm=calibration_diameter_nm or 30.0)
+    except AnalysisInputError as error:
+        raise _analysis_refusal(error, file_field="raw_file", filename=record.raw_file_name) from None
+    record.mie_median_diameter_nm = fit.median_diameter_nm
+    record.mie_geometric_sigma = fit.geometric_sigma
+    record.mie_number_per_mL = fit.number_per_mL
+    record.mie_rms_residual = fit.rms_residual
+    record.mie_relative_residual = fit.relative_rms_residual
+    record.mie_fit_min_nm, record.mie_fit_max_nm = MIE_FIT_RANGE_NM
+
+
+def _store_size_agreement(record: UvVisRecord, limits: ColloidLimitSet | None) -> None:
+    if record.diameter_nm is None:
+        record.size_agreement_message = "no calibration size to compare with the Mie fit"
+        return
+    tolerance = limits.size_tolerance_percent if limits else 15.0
+    agreement = compare_sizes(record.mie_median_diameter_nm, record.diameter_nm,
+                              tolerance_percent=tolerance)
+    record.size_difference_percent = agreement.difference_percent
+    record.sizes_agree = agreement.agrees
+    record.size_agreement_message = agreement.message + ("" if limits else " (default tolerance: "
+                                                         "no limits set for this metal)")
+
+
+def _snapshot_of(record: UvVisRecord) -> ColloidSnapshot:
+    """Rebuild the stored numbers of a record as the analysis' snapshot (no re-reading)."""
+    band = PlasmonBand(record.peak_nm, record.peak_absorbance_1cm, record.fwhm_nm,
+                       record.half_width_blue_nm, record.half_width_red_nm, record.fwhm_note,
+                       record.absorbance_450_1cm, record.ratio_spr_450)
+    return ColloidSnapshot(float(record.age_days), band, record.aggregation_index)
+
+
+def _store_stability(record: UvVisRecord, first: UvVisRecord, snapshot: ColloidSnapshot) -> None:
+    # compare_with_first sorts stably by day, so a same-day first record stays the baseline.
+    (change,) = compare_with_first([_snapshot_of(first), snapshot])
+    record.first_record = first
+    record.peak_shift_nm = change.peak_shift_nm
+    record.absorbance_loss_fraction = change.absorbance_loss_fraction
+    record.broadening_nm = change.broadening_nm
+    record.aggregation_index_change = change.aggregation_index_change
+
+
+# --------------------------------------------------------------------------------------
+# Limits and flags
+# --------------------------------------------------------------------------------------
+
+
+def _breach(limit: str, value: float, limit_value: float, sentence: str) -> dict:
+    return {"limit": limit, "value": float(value), "limit_value": float(limit_value),
+            "message": sentence, "flag_code": "", "flag_raised": False}
+
+
+def _evaluate(record: UvVisRecord, limits: ColloidLimitSet | None) -> list[dict]:
+    """The lab's colloid rules: one breach per limit exceeded (stored on the record)."""
+    if limits is None:
+        record.limits_note = f"no colloid limits are set for {record.batch.metal}; not evaluated"
+        return []
+    record.limit_set = limits
+    notes, breaches = [], []
+    if not limits.peak_min_nm <= record.peak_nm <= limits.peak_max_nm:
+        breaches.append(_breach("peak_window_nm", record.peak_nm, limits.peak_min_nm
+                                if record.peak_nm < limits.peak_min_nm else limits.peak_max_nm,
+                                f"peak at {record.peak_nm:.1f} nm is outside "
+                                f"{limits.peak_min_nm:g}–{limits.peak_max_nm:g} nm"))
+    if record.fwhm_nm is None:
+        notes.append(f"FWHM not evaluated ({record.fwhm_note})")
+    elif record.fwhm_nm > limits.fwhm_max_nm:
+        breaches.append(_breach("fwhm_max_nm", record.fwhm_nm, limits.fwhm_max_nm,
+                                f"FWHM {record.fwhm_nm:.1f} nm exceeds {limits.fwhm_max_nm:g} nm"))
+    if record.aggregation_index > limits.aggregation_index_max:
+        breaches.append(_breach("aggregation_index_max", record.aggregation_index,
+                                limits.aggregation_index_max,
+                                f"aggregation index {record.aggregation_index:.3f} exceeds "
+                                f"{limits.aggregation_index_max:g}"))
+    if record.first_record is not None:
+        breaches.extend(_stability_breaches(record, limits))
+    if limits.flag_size_disagreement and record.sizes_agree is False:
+        breaches.append(_breach("size_tolerance_percent", record.size_difference_percent,
+                                limits.size_tolerance_percent, record.size_agreement_message))
+    record.limits_note = "; ".join(notes)
+    return breaches
+
+
+def _stability_breaches(record: UvVisRecord, limits: ColloidLimitSet) -> list[dict]:
+    since = f"since {record.first_record.code}"
+    found = []
+    # A shift either way is a change of the particles (red: growth or coupling; blue: etching).
+    if abs(record.peak_shift_nm) > limits.peak_shift_max_nm:
+        found.append(_breach("peak_shift_max_nm", record.peak_shift_nm, limits.peak_shift_max_nm,
+                             f"peak shifted {record.peak_shift_nm:+.1f} nm {since} (limit "
+                             f"±{limits.peak_shift_max_nm:g} nm)"))
+    if record.absorbance_loss_fraction > limits.absorbance_loss_max_fraction:
+        found.append(_breach("absorbance_loss_max_fraction", record.absorbance_loss_fraction,
+                             limits.absorbance_loss_max_fraction,
+                             f"peak absorbance fell {100 * record.absorbance_loss_fraction:.0f} % "
+                             f"{since} (limit {100 * limits.absorbance_loss_max_fraction:g} %)"))
+    return found
+
+
+def _open_flags_by_limit(batch: NanoparticleBatch, exclude: UvVisRecord) -> dict[str, str]:
+    """Limit name → code of an open flag an earlier UV-vis record raised for it."""
+    raised: dict[str, str] = {}
+    for breaches in UvVisRecord.objects.filter(batch=batch).exclude(pk=exclude.pk) \
+            .values_list("breaches", flat=True):
+        for breach in breaches:
+            if breach.get("flag_raised"):
+                raised.setdefault(breach["limit"], breach["flag_code"])
+    still_open = set(Flag.objects.filter(code__in=raised.values(), state=Flag.State.OPEN)
+                     .values_list("code", flat=True))
+    return {limit: code for limit, code in raised.items() if code in still_open}
+
+
+def _flag_breaches(actor, batch: NanoparticleBatch, record: UvVisRecord,
+                   breaches: list[dict]) -> list[Flag]:
+    """One open flag per breach, unless a UV-vis flag for that limit is still open."""
+    open_by_limit = _open_flags_by_limit(batch, record)
+    flags = []
+    for breach in breaches:
+        if breach["limit"] in open_by_limit:
+            breach["flag_code"] = open_by_limit[breach["limit"]]
+            continue
+        flag = flag_raise(actor=actor, target=batch, category=FLAG_CATEGORY,
+                          message=f"UV-vis {record.code} of {record.measured_on.isoformat()}: "
+                                  f"{breach['message']}.")
+        breach["flag_code"], breach["flag_raised"] = flag.code, True
+        flags.append(flag)
+    return flags
