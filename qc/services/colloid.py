@@ -30,14 +30,23 @@ from inventory.models import Flag, NanoparticleBatch
 from inventory.services import flag_raise, sha256_of
 from inventory.services._common import User, _link, _require_not_future, _save_new
 from qc.analysis import gold_haiss, silver_calibration
-from qc.analysis.colloid_stability import ColloidSnapshot, colloid_snapshot, compare_with_first
+from qc.analysis.colloid_stability import (
+    ColloidSnapshot,
+    colloid_snapshot,
+    compare_with_first,
+)
 from qc.analysis.errors import AnalysisInputError
 from qc.analysis.mie_model import compare_sizes, fit_lognormal_mie
 from qc.analysis.readers import read_spectrum
 from qc.analysis.spectrum import Spectrum
 from qc.analysis.uvvis import PlasmonBand, subtract_blank, to_undiluted_1cm
 
-from ..models.colloid import ColloidLimitSet, ColloidMetal, SilverCalibration, UvVisRecord
+from ..models.colloid import (
+    ColloidLimitSet,
+    ColloidMetal,
+    SilverCalibration,
+    UvVisRecord,
+)
 
 __all__ = [
     "UvVisImport", "colloid_limit_set_set", "silver_calibration_active", "silver_calibration_record",

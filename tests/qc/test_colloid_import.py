@@ -19,7 +19,6 @@ from inventory.models import LineageEdge
 from qc.analysis import silver_calibration
 from qc.analysis.colloid_stability import colloid_snapshot
 from qc.analysis.mie_model import fit_lognormal_mie
-from qc.analysis.readers import read_two_column
 from qc.analysis.uvvis import to_undiluted_1cm
 from qc.models import UvVisRecord
 from qc.selectors import (
