@@ -222,10 +222,6 @@ def load_inventory_demo(*, today: date | None = None) -> DemoScenario:
         actor=reviewer, record=Substrate.objects.get(pk=s.substrates["older_bare"].pk),
         to_status=Status.REJECTED, reason="Film visibly patchy after template removal.")
 
-    services.flag_raise(actor=reviewer, target=s.batches["silver_ageing"], category="colloid",
-                        message="Plasmon band broadened and red-shifted since the first record "
-                                "(possible aggregation).")
-
     services.dataset_register(
         actor=maker, title="Thiram screening in apple-peel extract, series 1 (invented demo)",
         substrates=[Substrate.objects.get(pk=s.substrates["ready_b"].pk)], acquired_on=day(1),

@@ -1,6 +1,7 @@
 """Load the invented demo laboratory (idempotent: a second run changes nothing)."""
 
 from django.core.management.base import BaseCommand
+from django.db import transaction
 
 from inventory.demo import (
     DEMO_LAB,
@@ -9,6 +10,7 @@ from inventory.demo import (
     demo_is_loaded,
     load_inventory_demo,
 )
+from qc.demo_colloid import load_colloid_demo
 
 
 class Command(BaseCommand):
@@ -18,8 +20,10 @@ class Command(BaseCommand):
         if demo_is_loaded():
             self.stdout.write("The demo scenario is already loaded; nothing changed.")
             return
-        scenario = load_inventory_demo()
-        apply_rule_correction(scenario)
+        with transaction.atomic():
+            scenario = load_inventory_demo()
+            apply_rule_correction(scenario)
+            load_colloid_demo(scenario)
         self.stdout.write(self.style.SUCCESS(f"Loaded the demo scenario: {DEMO_LAB}."))
         self.stdout.write("Demo sign-in (demo only): rin.okafor (maker), tomas.lind (reviewer), "
                           f"lab.admin (administrator); password '{DEMO_PASSWORD}'.")
