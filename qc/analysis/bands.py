@@ -1,0 +1,354 @@
+"""Reference-band metrics: peak fitting of one band, fast array metrics for maps, and
+intensity normalisation to laser power and integration time.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+from scipy.optimize import curve_fit
+
+from ._validation import as_finite_1d, as_strictly_monotonic_axis, require_positive
+from .errors import AnalysisInputError
+
+_LN2 = np.log(2.0)
+PROFILES = ("lorentzian", "pseudo_voigt")
+
+
+@dataclass(frozen=True, eq=False)
+class BandFit:
+    """A fitted band (all intensities in the units of the input, e.g. counts or counts/(mW·s)).
+
+    Attributes
+    ----------
+    profile : str
+        ``"lorentzian"`` or ``"pseudo_voigt"``.
+    position_cm1, height, fwhm_cm1, area : float
+        Fitted centre (cm⁻¹), peak height above the local line, full width at half maximum
+        (cm⁻¹) and integrated area (intensity × cm⁻¹).
+    eta : float
+        Lorentzian fraction of the pseudo-Voigt (1.0 for a pure Lorentzian).
+    position_se_cm1, height_se, fwhm_se_cm1, area_se, eta_se : float
+        Standard errors from the least-squares covariance (scaled by the residual variance).
+    snr : float
+        Signal-to-noise: fitted height divided by the standard deviation of the fit
+        residuals inside the window.
+    residual_sd : float
+        Standard deviation of the residuals (ddof = number of fitted parameters).
+    window_shift_cm1, window_intensity, fitted_curve : numpy.ndarray
+        The window's axis and data, and the fitted model on it (for plotting).
+    """
+
+    profile: str
+    position_cm1: float
+    height: float
+    fwhm_cm1: float
+    area: float
+    eta: float
+    position_se_cm1: float
+    height_se: float
+    fwhm_se_cm1: float
+    area_se: float
+    eta_se: float
+    snr: float
+    residual_sd: float
+    window_shift_cm1: np.ndarray
+    window_intensity: np.ndarray
+    fitted_curve: np.ndarray
+
+
+@dataclass(frozen=True, eq=False)
+class MapBandMetrics:
+    """Band metrics of every spectrum of a map, from array operations.
+
+    Attributes
+    ----------
+    height : numpy.ndarray, shape (n_points,)
+        Maximum inside the window above the local line through the window edges.
+    area : numpy.ndarray, shape (n_points,)
+        Trapezoidal integral over the window above that line (intensity × cm⁻¹).
+    position_cm1 : numpy.ndarray, shape (n_points,)
+        Raman shift of the maximum (cm⁻¹, on the measured grid).
+    """
+
+    height: np.ndarray
+    area: np.ndarray
+    position_cm1: np.ndarray
+
+
+def lorentzian(shift_cm1, position_cm1: float, height: float, fwhm_cm1: float):
+    """Lorentzian band ``h / (1 + ((x − x0)/(Γ/2))²)``; its area is ``π·h·Γ/2``."""
+    return height / (1.0 + ((np.asarray(shift_cm1) - position_cm1) / (fwhm_cm1 / 2.0)) ** 2)
+
+
+def pseudo_voigt(shift_cm1, position_cm1: float, height: float, fwhm_cm1: float, eta: float):
+    """Pseudo-Voigt ``h·[η·L + (1 − η)·G]`` with one FWHM for both parts (peak value h).
+
+    ``G = exp(−4 ln2 (x − x0)²/Γ²)``; area ``h·Γ/2·[η·π + (1 − η)·√(π/ln2)]``.
+    """
+    x = np.asarray(shift_cm1) - position_cm1
+    lorentz = 1.0 / (1.0 + (x / (fwhm_cm1 / 2.0)) ** 2)
+    gauss = np.exp(-4.0 * _LN2 * x**2 / fwhm_cm1**2)
+    return height * (eta * lorentz + (1.0 - eta) * gauss)
+
+
+def _area_factor(eta):
+    """Area per (height × FWHM) of a pseudo-Voigt: ½·[η·π + (1 − η)·√(π/ln2)]."""
+    return 0.5 * (eta * np.pi + (1.0 - eta) * np.sqrt(np.pi / _LN2))
+
+
+def check_band_window(shift_cm1, band_center_cm1: float, band_window_cm1: float) -> np.ndarray:
+    """Return the boolean window ``|x − centre| ≤ window/2``, refusing a band off the axis."""
+    axis = np.asarray(shift_cm1, dtype=float)
+    center = float(band_center_cm1)
+    width = require_positive(band_window_cm1, field="band_window_cm1")
+    low, high = axis.min(), axis.max()
+    if not np.isfinite(center) or center - width / 2 < low or center + width / 2 > high:
+        raise AnalysisInputError(
+            f"band window {center - width / 2:g}–{center + width / 2:g} cm⁻¹ lies outside the "
+            f"measured range {low:g}–{high:g} cm⁻¹",
+            field="band_center_cm1",
+        )
+    inside = np.abs(axis - center) <= width / 2
+    if np.count_nonzero(inside) < 7:
+        raise AnalysisInputError(
+            "the band window holds fewer than 7 points; widen it", field="band_window_cm1"
+        )
+    return inside
+
+
+def fit_band(
+    shift_cm1,
+    intensity,
+    *,
+    band_center_cm1: float,
+    band_window_cm1: float,
+    profile: str = "lorentzian",
+) -> BandFit:
+    """Fit one band plus a local straight line by non-linear least squares.
+
+    Model inside the window ``|x − x_c| ≤ w/2``:
+    ``y = P(x; x0, h, Γ[, η]) + a + b·(x − x_c)`` with P a Lorentzian or pseudo-Voigt,
+    fitted with :func:`scipy.optimize.curve_fit` (trust-region reflective, bounded).
+
+    Parameters
+    ----------
+    shift_cm1 : array_like, shape (n,)
+        Raman shift (cm⁻¹), strictly monotonic.
+    intensity : array_like, shape (n,)
+        Baseline-corrected (or raw) intensities; the local line absorbs what is left.
+    band_center_cm1 : float
+        Expected band position (cm⁻¹).
+    band_window_cm1 : float
+        Full width of the fitting window (cm⁻¹), centred on ``band_center_cm1``.
+    profile : {"lorentzian", "pseudo_voigt"}
+
+    Returns
+    -------
+    BandFit
+        Position, height, FWHM, area (area = π·h·Γ/2 for a Lorentzian) with standard
+        errors; area errors propagated from the parameter covariance to first order.
+        S/N is the fitted height over the residual standard deviation in the window.
+
+    Notes
+    -----
+    Standard errors assume independent residuals of equal variance (the covariance is
+    scaled by the reduced chi-square, ``absolute_sigma=False``).
+
+    References
+    ----------
+    .. [1] Virtanen, P. et al. SciPy 1.0: fundamental algorithms for scientific computing in
+       Python. Nature Methods 2020, 17, 261–272 (``scipy.optimize.curve_fit``).
+    .. [2] Thompson, P.; Cox, D. E.; Hastings, J. B. Rietveld refinement of Debye–Scherrer
+       synchrotron X-ray data from Al2O3. J. Appl. Crystallogr. 1987, 20, 79–83
+       (pseudo-Voigt as a Lorentzian–Gaussian sum).
+    """
+    axis = as_strictly_monotonic_axis(shift_cm1, field="shift_cm1", min_points=7)
+    values = as_finite_1d(intensity, field="intensity")
+    if values.size != axis.size:
+        raise AnalysisInputError(
+            f"has {values.size} points but shift_cm1 has {axis.size}", field="intensity"
+        )
+    if profile not in PROFILES:
+        raise AnalysisInputError(f"must be one of {PROFILES}", field="profile")
+    inside = check_band_window(axis, band_center_cm1, band_window_cm1)
+    x, y = axis[inside], values[inside]
+    center, width = float(band_center_cm1), float(band_window_cm1)
+
+    step = np.median(np.abs(np.diff(x)))
+    edge = max(2, x.size // 10)
+    slope0 = (y[-edge:].mean() - y[:edge].mean()) / (x[-edge:].mean() - x[:edge].mean())
+    line0 = y[:edge].mean() + slope0 * (x - x[:edge].mean())
+    height0 = max(float(np.max(y - line0)), np.finfo(float).tiny)
+    guess = [float(x[np.argmax(y - line0)]), height0, width / 4]
+    lower = [center - width / 2, 0.0, step]
+    upper = [center + width / 2, np.inf, 2 * width]
+    if profile == "pseudo_voigt":
+        guess.append(0.5)
+        lower.append(0.0)
+        upper.append(1.0)
+    offset0 = float(np.mean(line0 - slope0 * (x - center)))
+    guess += [offset0, float(slope0)]
+    lower += [-np.inf, -np.inf]
+    upper += [np.inf, np.inf]
+
+    n_shape = 4 if profile == "pseudo_voigt" else 3
+
+    def model(xv, *params):
+        shape = params[:n_shape]
+        peak = pseudo_voigt(xv, *shape) if n_shape == 4 else lorentzian(xv, *shape)
+        return peak + params[n_shape] + params[n_shape + 1] * (xv - center)
+
+    if x.size <= len(guess):
+        raise AnalysisInputError(
+            "the band window holds too few points for the fit", field="band_window_cm1"
+        )
+    try:
+        params, cov = curve_fit(model, x, y, p0=guess, bounds=(lower, upper), maxfev=20000)
+    except (RuntimeError, ValueError) as exc:
+        raise AnalysisInputError(
+            f"the band could not be fitted ({exc})", field="band_center_cm1"
+        ) from exc
+    fitted = model(x, *params)
+    residuals = y - fitted
+    residual_sd = float(np.sqrt(np.sum(residuals**2) / (x.size - len(params))))
+    errors = np.sqrt(np.clip(np.diag(cov), 0, None)) if np.all(np.isfinite(cov)) else (
+        np.full(len(params), np.nan)
+    )
+
+    position, height, fwhm = (float(v) for v in params[:3])
+    eta = float(params[3]) if n_shape == 4 else 1.0
+    factor = _area_factor(eta)
+    area = height * fwhm * factor
+    # First-order propagation: ∂A/∂h = Γ·f, ∂A/∂Γ = h·f, ∂A/∂η = h·Γ·½(π − √(π/ln2)).
+    gradient = np.zeros(len(params))
+    gradient[1], gradient[2] = fwhm * factor, height * factor
+    if n_shape == 4:
+        gradient[3] = height * fwhm * 0.5 * (np.pi - np.sqrt(np.pi / _LN2))
+    area_se = float(np.sqrt(max(gradient @ cov @ gradient, 0.0))) if np.all(np.isfinite(cov)) else np.nan
+    return BandFit(
+        profile=profile,
+        position_cm1=position,
+        height=height,
+        fwhm_cm1=fwhm,
+        area=float(area),
+        eta=eta,
+        position_se_cm1=float(errors[0]),
+        height_se=float(errors[1]),
+        fwhm_se_cm1=float(errors[2]),
+        area_se=area_se,
+        eta_se=float(errors[3]) if n_shape == 4 else 0.0,
+        snr=height / residual_sd if residual_sd > 0 else float("inf"),
+        residual_sd=residual_sd,
+        window_shift_cm1=x,
+        window_intensity=y,
+        fitted_curve=fitted,
+    )
+
+
+def band_metrics_map(
+    shift_cm1,
+    intensity,
+    *,
+    band_center_cm1: float,
+    band_window_cm1: float,
+    edge_points: int = 3,
+) -> MapBandMetrics:
+    """Band height, area and position for every spectrum of a map with array operations.
+
+    Inside the window ``|x − x_c| ≤ w/2`` a straight line through the means of the first
+    and last ``edge_points`` points is subtracted (a local linear term), then
+    ``height = max(y − line)``, ``position = x[argmax]`` and
+    ``area = ∫ (y − line) dx`` by the trapezoidal rule.
+
+    Parameters
+    ----------
+    shift_cm1 : array_like, shape (n_shift,)
+        Raman shift (cm⁻¹), strictly monotonic.
+    intensity : array_like, shape (n_points, n_shift)
+        Baseline-corrected spectra, one per row.
+    band_center_cm1, band_window_cm1 : float
+        Expected band position and full window width (cm⁻¹).
+    edge_points : int, default 3
+        Points averaged at each window edge to anchor the local line.
+
+    Returns
+    -------
+    MapBandMetrics
+
+    Notes
+    -----
+    This is the direct-integration counterpart of :func:`fit_band` (common practice for
+    fast map metrics): no model is assumed, so a band wider than the window is truncated.
+    """
+    axis = as_strictly_monotonic_axis(shift_cm1, field="shift_cm1", min_points=7)
+    spectra = np.asarray(intensity, dtype=float)
+    if spectra.ndim != 2 or spectra.shape[1] != axis.size:
+        raise AnalysisInputError(
+            f"expected shape (n_points, {axis.size}), got {spectra.shape}", field="intensity"
+        )
+    inside = check_band_window(axis, band_center_cm1, band_window_cm1)
+    index = np.flatnonzero(inside)
+    if int(edge_points) != edge_points or not 1 <= edge_points <= index.size // 3:
+        raise AnalysisInputError(
+            f"must be a whole number between 1 and {index.size // 3}", field="edge_points"
+        )
+    x = axis[index]
+    y = spectra[:, index[0] : index[-1] + 1]
+    k = int(edge_points)
+    x_left, x_right = x[:k].mean(), x[-k:].mean()
+    y_left, y_right = y[:, :k].mean(axis=1), y[:, -k:].mean(axis=1)
+    slope = (y_right - y_left) / (x_right - x_left)
+    above_line = y - (y_left[:, None] + slope[:, None] * (x - x_left))
+    peak = np.argmax(above_line, axis=1)
+    height = np.take_along_axis(above_line, peak[:, None], axis=1)[:, 0]
+    area = np.trapezoid(above_line, x, axis=1)
+    if x[0] > x[-1]:  # descending axis: keep the area positive for a positive band
+        area = -area
+    return MapBandMetrics(height=height, area=area, position_cm1=x[peak])
+
+
+def normalised_intensity(
+    intensity,
+    *,
+    power_mW: float,
+    integration_s: float,
+    accumulations: int = 1,
+    accumulations_summed: bool = True,
+):
+    """Intensity per unit laser power and exposure, counts/(mW·s).
+
+    ``I_norm = I / (P · t · N_acc)`` when the instrument summed ``N_acc`` accumulations,
+    ``I / (P · t)`` when it averaged them (``accumulations_summed=False``).
+
+    Parameters
+    ----------
+    intensity : float or array_like
+        Counts (or a count-based metric such as a band height or area).
+    power_mW : float
+        Laser power at the sample (mW), > 0.
+    integration_s : float
+        Integration time per accumulation (s), > 0.
+    accumulations : int, default 1
+        Number of accumulations, ≥ 1.
+    accumulations_summed : bool, default True
+        Whether the file holds the sum (True) or the mean (False) of the accumulations.
+
+    Returns
+    -------
+    float or numpy.ndarray
+        Intensity in counts/(mW·s) (or the metric's unit per mW·s).
+
+    Notes
+    -----
+    Dividing by power and time assumes a linear detector response and no photodamage,
+    common practice for comparing SERS intensities across acquisitions.
+    """
+    power = require_positive(power_mW, field="power_mW")
+    time_s = require_positive(integration_s, field="integration_s")
+    if int(accumulations) != accumulations or accumulations < 1:
+        raise AnalysisInputError("must be a whole number ≥ 1", field="accumulations")
+    divisor = power * time_s * (int(accumulations) if accumulations_summed else 1)
+    result = np.asarray(intensity, dtype=float) / divisor
+    return float(result) if result.ndim == 0 else result
