@@ -1,3 +1,221 @@
-"""Reference-analyte Raman QC (models)."""
+"""Reference-analyte Raman QC: the analyte, its non-enhanced reference, QC measurements, limits.
 
-__all__: list[str] = []
+Raw files are kept exactly as uploaded with their SHA-256 digest; every number below is
+computed from them by ``qc.analysis`` (through ``qc.services.raman``) and stored with its unit
+in the field name.  Intensities normalised to laser power and exposure are counts/(mW·s).
+"""
+
+from __future__ import annotations
+
+from django.db import models
+from django.db.models import Q
+
+from inventory.models import CodedRecord, StampedRecord, Substrate
+
+__all__ = ["QcLimitSet", "QcMeasurement", "ReferenceAnalyte", "ReferenceMeasurement"]
+
+
+class ReferenceAnalyte(StampedRecord):
+    """A molecule used to test substrates (e.g. benzenethiol), and what is known about it.
+
+    ``band_positions_cm1`` lists the Raman bands it is known by; ``band_positions_source``
+    says where they come from ("from memory" when recalled, not looked up).  The QC band is
+    the one measured; the window is the full width around it used for band metrics.
+    ``lots`` are the reagent lots (kind reference analyte) that hold this molecule.
+    """
+
+    name = models.CharField(max_length=120, unique=True)
+    band_positions_cm1 = models.JSONField(default=list)
+    band_positions_source = models.CharField(max_length=200)
+    qc_band_cm1 = models.FloatField()
+    qc_band_window_cm1 = models.FloatField(default=40.0)
+    surface_density_per_nm2 = models.FloatField(
+        help_text="Molecules per nm² in a full monolayer, the default for enhancement factors.")
+    surface_density_source = models.CharField(max_length=200)
+    lots = models.ManyToManyField("inventory.ReagentLot", blank=True,
+                                  related_name="reference_analytes")
+
+    class Meta:
+        constraints = [
+            models.CheckConstraint(name="analyte_band_positive", condition=Q(qc_band_cm1__gt=0)),
+            models.CheckConstraint(name="analyte_window_positive",
+                                   condition=Q(qc_band_window_cm1__gt=0)),
+            models.CheckConstraint(name="analyte_density_positive",
+                                   condition=Q(surface_density_per_nm2__gt=0)),
+        ]
+
+    def __str__(self) -> str:
+        return self.name
+
+
+class _Acquisition(models.Model):
+    """Raw file and instrument settings shared by reference and QC measurements."""
+
+    analyte = models.ForeignKey(ReferenceAnalyte, on_delete=models.PROTECT, related_name="+")
+    analyte_lot = models.ForeignKey("inventory.ReagentLot", on_delete=models.PROTECT,
+                                    related_name="+")
+    measured_on = models.DateField(db_index=True)
+    raw_file = models.FileField(upload_to="qc/raman/")
+    raw_filename = models.CharField(max_length=255)
+    raw_sha256 = models.CharField(max_length=64, db_index=True)
+    laser_nm = models.FloatField()
+    power_mW = models.FloatField()
+    integration_s = models.FloatField()
+    accumulations = models.PositiveIntegerField(default=1)
+    objective = models.CharField(max_length=60, blank=True)
+    band_center_cm1 = models.FloatField()
+    band_window_cm1 = models.FloatField()
+    # Computed from the file (reference band of the processed spectrum or mean map spectrum).
+    band_position_cm1 = models.FloatField(editable=False)
+    band_height_counts = models.FloatField(editable=False)
+    band_area_counts_cm1 = models.FloatField(editable=False)
+    band_fwhm_cm1 = models.FloatField(editable=False)
+    snr = models.FloatField(editable=False)
+    normalised_height_counts_per_mW_s = models.FloatField(editable=False)
+    spikes_removed = models.PositiveIntegerField(default=0, editable=False)
+
+    class Meta:
+        abstract = True
+
+
+def _acquisition_constraints(prefix: str) -> list[models.BaseConstraint]:
+    return [
+        models.CheckConstraint(name=f"{prefix}_laser_positive", condition=Q(laser_nm__gt=0)),
+        models.CheckConstraint(name=f"{prefix}_power_positive", condition=Q(power_mW__gt=0)),
+        models.CheckConstraint(name=f"{prefix}_time_positive", condition=Q(integration_s__gt=0)),
+        models.CheckConstraint(name=f"{prefix}_accumulations_positive",
+                               condition=Q(accumulations__gte=1)),
+    ]
+
+
+class ReferenceMeasurement(_Acquisition, CodedRecord):
+    """Non-enhanced Raman of the analyte at a known concentration, for enhancement factors.
+
+    ``effective_height_um`` (H_eff) and ``effective_area_um2`` (A_eff) describe the
+    scattering volume of the optics used, as Le Ru et al. (2007) define them; the ``*_rel_u``
+    fields are relative standard uncertainties (fractions) carried into the EF.
+    """
+
+    CODE_PREFIX = "REF"
+
+    concentration_mol_L = models.FloatField()
+    effective_height_um = models.FloatField()
+    effective_area_um2 = models.FloatField()
+    concentration_rel_u = models.FloatField(default=0.0)
+    effective_height_rel_u = models.FloatField(default=0.0)
+
+    class Meta:
+        constraints = [
+            *_acquisition_constraints("reference"),
+            models.CheckConstraint(name="reference_concentration_positive",
+                                   condition=Q(concentration_mol_L__gt=0)),
+            models.CheckConstraint(name="reference_height_positive",
+                                   condition=Q(effective_height_um__gt=0)),
+            models.CheckConstraint(name="reference_area_positive",
+                                   condition=Q(effective_area_um2__gt=0)),
+        ]
+
+
+class QcLimitSet(StampedRecord):
+    """The lab's limits for one product kind (substrate stage) tested with one analyte.
+
+    A limit set also says that QC is required for that product kind: readiness reports
+    missing or stale QC only where a limit set exists.  ``min_enhancement_factor`` left
+    empty means enhancement is not judged; ``max_rsd_percent`` applies to maps only.
+    ``is_example`` marks shipped demo values that a lab must replace with its own.
+    """
+
+    product_kind = models.CharField(max_length=12, choices=Substrate.Stage.choices)
+    analyte = models.ForeignKey(ReferenceAnalyte, on_delete=models.PROTECT,
+                                related_name="limit_sets")
+    min_enhancement_factor = models.FloatField(null=True, blank=True)
+    max_rsd_percent = models.FloatField(null=True, blank=True)
+    min_snr = models.FloatField(null=True, blank=True)
+    band_position_tolerance_cm1 = models.FloatField()
+    valid_days = models.PositiveIntegerField()
+    is_example = models.BooleanField(default=False)
+    rationale = models.TextField(blank=True)
+
+    class Meta:
+        constraints = [
+            models.UniqueConstraint(fields=["product_kind", "analyte"],
+                                    name="one_limit_set_per_kind_and_analyte"),
+            models.CheckConstraint(name="limit_ef_positive",
+                                   condition=Q(min_enhancement_factor__isnull=True)
+                                   | Q(min_enhancement_factor__gt=0)),
+            models.CheckConstraint(name="limit_rsd_positive",
+                                   condition=Q(max_rsd_percent__isnull=True)
+                                   | Q(max_rsd_percent__gt=0)),
+            models.CheckConstraint(name="limit_snr_positive",
+                                   condition=Q(min_snr__isnull=True) | Q(min_snr__gt=0)),
+            models.CheckConstraint(name="limit_tolerance_positive",
+                                   condition=Q(band_position_tolerance_cm1__gt=0)),
+            models.CheckConstraint(name="limit_valid_days_positive", condition=Q(valid_days__gt=0)),
+        ]
+
+    def __str__(self) -> str:
+        return f"{self.get_product_kind_display()} / {self.analyte}"
+
+    def as_snapshot(self) -> dict:
+        """The limit values as they were when a measurement was judged."""
+        return {
+            "limit_set_id": self.pk, "product_kind": self.product_kind,
+            "analyte": self.analyte.name, "min_enhancement_factor": self.min_enhancement_factor,
+            "max_rsd_percent": self.max_rsd_percent, "min_snr": self.min_snr,
+            "band_position_tolerance_cm1": self.band_position_tolerance_cm1,
+            "valid_days": self.valid_days, "is_example": self.is_example,
+        }
+
+
+class QcMeasurement(_Acquisition, CodedRecord):
+    """A reference-analyte spectrum or map on one substrate, its numbers and its verdict.
+
+    ``product_kind`` is the substrate's stage when measured: QC of a bare film says nothing
+    about the same piece after particles are bound.  ``point_values`` keeps, for a map, the
+    stage positions (µm) and the normalised band height of every point (counts/(mW·s)) for
+    the heat-map; ``ef_inputs`` keeps every input of the enhancement factor as used;
+    ``limits_used`` the limits as they were when judged; ``failure_reasons`` why it failed.
+    """
+
+    CODE_PREFIX = "QCM"
+
+    substrate = models.ForeignKey("inventory.Substrate", on_delete=models.PROTECT,
+                                  related_name="qc_measurements")
+    reference = models.ForeignKey(ReferenceMeasurement, null=True, blank=True,
+                                  on_delete=models.PROTECT, related_name="qc_measurements")
+    limit_set = models.ForeignKey(QcLimitSet, on_delete=models.PROTECT,
+                                  related_name="measurements")
+    product_kind = models.CharField(max_length=12, choices=Substrate.Stage.choices)
+    is_map = models.BooleanField(default=False)
+    map_nx = models.PositiveIntegerField(null=True, blank=True)
+    map_ny = models.PositiveIntegerField(null=True, blank=True)
+    map_step_um = models.FloatField(null=True, blank=True)
+    n_points = models.PositiveIntegerField(default=1, editable=False)
+    normalised_area_counts_cm1_per_mW_s = models.FloatField(editable=False)
+    median_height_counts_per_mW_s = models.FloatField(null=True, blank=True, editable=False)
+    rsd_percent = models.FloatField(null=True, blank=True, editable=False)
+    fraction_within_20_percent = models.FloatField(null=True, blank=True, editable=False)
+    point_values = models.JSONField(null=True, blank=True, editable=False)
+    enhancement_factor = models.FloatField(null=True, blank=True, editable=False)
+    enhancement_factor_u = models.FloatField(null=True, blank=True, editable=False)
+    log10_enhancement_factor = models.FloatField(null=True, blank=True, editable=False)
+    log10_enhancement_factor_u = models.FloatField(null=True, blank=True, editable=False)
+    ef_inputs = models.JSONField(null=True, blank=True, editable=False)
+    limits_used = models.JSONField(default=dict, editable=False)
+    passed = models.BooleanField(editable=False)
+    failure_reasons = models.JSONField(default=list, editable=False)
+
+    class Meta:
+        ordering = ["-measured_on", "-id"]
+        indexes = [models.Index(fields=["substrate", "product_kind", "measured_on"])]
+        constraints = [
+            *_acquisition_constraints("qc"),
+            models.CheckConstraint(name="qc_map_grid_positive",
+                                   condition=(Q(map_nx__isnull=True) | Q(map_nx__gt=0))
+                                   & (Q(map_ny__isnull=True) | Q(map_ny__gt=0))
+                                   & (Q(map_step_um__isnull=True) | Q(map_step_um__gt=0))),
+            models.CheckConstraint(name="qc_fraction_range",
+                                   condition=Q(fraction_within_20_percent__isnull=True)
+                                   | (Q(fraction_within_20_percent__gte=0)
+                                      & Q(fraction_within_20_percent__lte=1))),
+        ]
