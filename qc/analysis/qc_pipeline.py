@@ -1,0 +1,281 @@
+"""Reference-analyte QC of one spectrum or a whole map: spikes → baseline → band → uniformity.
+
+These two functions (with :mod:`qc.analysis.enhancement`) are what the Django service calls;
+every number a page or the API shows is in the returned dataclasses. Intensities in the
+results are normalised to counts/(mW·s) (see :func:`qc.analysis.bands.normalised_intensity`).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from ._validation import as_finite_1d, as_strictly_monotonic_axis
+from .bands import BandFit, band_metrics_map, check_band_window, fit_band, normalised_intensity
+from .baseline import asls_baseline, asls_baseline_map
+from .errors import AnalysisInputError
+from .spikes import remove_spikes
+from .uniformity import MapUniformity, map_uniformity
+
+
+@dataclass(frozen=True, eq=False)
+class SpectrumQcResult:
+    """QC numbers of one reference-analyte spectrum (intensities in counts/(mW·s)).
+
+    Attributes
+    ----------
+    band : BandFit
+        Fit of the reference band on the processed spectrum (position, height, FWHM, area,
+        standard errors, S/N = height / residual SD, fitted curve for plotting).
+    height_counts_per_mW_s, area_counts_per_mW_s_cm1, position_cm1, fwhm_cm1, snr : float
+        The band's headline numbers, copied from ``band``.
+    spikes_removed : int
+        Points replaced by spike removal.
+    shift_cm1, processed_intensity, baseline : numpy.ndarray
+        Axis (ascending), spike-free baseline-corrected normalised spectrum, and the
+        subtracted baseline (normalised), for plotting.
+    """
+
+    band: BandFit
+    height_counts_per_mW_s: float
+    area_counts_per_mW_s_cm1: float
+    position_cm1: float
+    fwhm_cm1: float
+    snr: float
+    spikes_removed: int
+    shift_cm1: np.ndarray
+    processed_intensity: np.ndarray
+    baseline: np.ndarray
+
+
+@dataclass(frozen=True, eq=False)
+class MapQcResult:
+    """QC numbers of a reference-analyte map (intensities in counts/(mW·s)).
+
+    Attributes
+    ----------
+    n_points : int
+    height_per_point, area_per_point, position_per_point_cm1 : numpy.ndarray
+        Band height above the local line, integrated area, and position of the maximum, for
+        every point (vectorised direct metrics, :func:`qc.analysis.bands.band_metrics_map`).
+    uniformity, area_uniformity : MapUniformity
+        Spread of the height (the headline uniformity) and of the area over the map.
+    median_height_counts_per_mW_s, rsd_percent, fraction_within_tolerance : float
+        Headline numbers, copied from ``uniformity``.
+    spikes_removed : int
+        Points replaced over the whole map.
+    spikes_per_point : numpy.ndarray
+        Points replaced in each spectrum.
+    mean_band : BandFit
+        Fit of the reference band on the mean processed spectrum.
+    snr : float
+        S/N of the mean-spectrum fit (height / residual SD).
+    shift_cm1, mean_spectrum : numpy.ndarray
+        Axis and the mean processed spectrum, for plotting with ``mean_band.fitted_curve``.
+    baseline_converged : bool
+        Whether every spectrum's baseline iteration converged.
+    """
+
+    n_points: int
+    height_per_point: np.ndarray
+    area_per_point: np.ndarray
+    position_per_point_cm1: np.ndarray
+    uniformity: MapUniformity
+    area_uniformity: MapUniformity
+    median_height_counts_per_mW_s: float
+    rsd_percent: float
+    fraction_within_tolerance: float
+    spikes_removed: int
+    spikes_per_point: np.ndarray
+    mean_band: BandFit
+    snr: float
+    shift_cm1: np.ndarray
+    mean_spectrum: np.ndarray
+    baseline_converged: bool
+
+
+def _ascending(shift_cm1, counts):
+    """Return the axis ascending (flipping the data with it), after validation."""
+    axis = as_strictly_monotonic_axis(shift_cm1, field="shift_cm1", min_points=7)
+    if axis[0] > axis[-1]:
+        return axis[::-1].copy(), np.ascontiguousarray(np.asarray(counts)[..., ::-1])
+    return axis, counts
+
+
+def analyse_qc_spectrum(
+    shift_cm1,
+    counts,
+    *,
+    band_center_cm1: float,
+    band_window_cm1: float,
+    power_mW: float,
+    integration_s: float,
+    accumulations: int = 1,
+    accumulations_summed: bool = True,
+    profile: str = "lorentzian",
+    baseline_lam: float = 1e6,
+    baseline_p: float = 1e-2,
+    spike_threshold: float = 6.0,
+) -> SpectrumQcResult:
+    """Spike removal, ASLS baseline, normalisation and band fit of one spectrum.
+
+    Steps: :func:`~qc.analysis.spikes.remove_spikes` (Whitaker & Hayes 2018),
+    :func:`~qc.analysis.baseline.asls_baseline` (Eilers & Boelens 2005, via pybaselines),
+    division by ``power_mW · integration_s`` (× accumulations when summed), and
+    :func:`~qc.analysis.bands.fit_band` in the window ``band_center_cm1 ± band_window_cm1/2``.
+
+    Parameters
+    ----------
+    shift_cm1 : array_like, shape (n,)
+        Raman shift (cm⁻¹), strictly monotonic (a descending axis is flipped).
+    counts : array_like, shape (n,)
+        Raw detector counts.
+    band_center_cm1, band_window_cm1 : float
+        Reference band position and full fitting window (cm⁻¹).
+    power_mW, integration_s : float
+        Laser power at the sample (mW) and integration time per accumulation (s).
+    accumulations : int, default 1
+    accumulations_summed : bool, default True
+        Whether the counts are the sum (True) or the mean of the accumulations.
+    profile : {"lorentzian", "pseudo_voigt"}
+    baseline_lam, baseline_p : float
+        ASLS smoothness λ and asymmetry p.
+    spike_threshold : float, default 6
+        Modified z-score threshold of the spike test.
+
+    Returns
+    -------
+    SpectrumQcResult
+    """
+    axis, values = _ascending(shift_cm1, as_finite_1d(counts, field="counts", min_points=7))
+    if values.size != axis.size:
+        raise AnalysisInputError(
+            f"has {values.size} points but shift_cm1 has {axis.size}", field="counts"
+        )
+    check_band_window(axis, band_center_cm1, band_window_cm1)
+    scale = normalised_intensity(
+        1.0, power_mW=power_mW, integration_s=integration_s,
+        accumulations=accumulations, accumulations_summed=accumulations_summed,
+    )
+    despiked = remove_spikes(values, threshold=spike_threshold)
+    baseline, _ = asls_baseline(axis, despiked.cleaned, lam=baseline_lam, p=baseline_p)
+    processed = (despiked.cleaned - baseline) * scale
+    band = fit_band(
+        axis, processed, band_center_cm1=band_center_cm1,
+        band_window_cm1=band_window_cm1, profile=profile,
+    )
+    return SpectrumQcResult(
+        band=band,
+        height_counts_per_mW_s=band.height,
+        area_counts_per_mW_s_cm1=band.area,
+        position_cm1=band.position_cm1,
+        fwhm_cm1=band.fwhm_cm1,
+        snr=band.snr,
+        spikes_removed=despiked.replaced_count,
+        shift_cm1=axis,
+        processed_intensity=processed,
+        baseline=baseline * scale,
+    )
+
+
+def analyse_qc_map(
+    shift_cm1,
+    counts_2d,
+    *,
+    band_center_cm1: float,
+    band_window_cm1: float,
+    power_mW: float,
+    integration_s: float,
+    accumulations: int = 1,
+    accumulations_summed: bool = True,
+    grid_shape: tuple[int, int] | None = None,
+    tolerance_fraction: float = 0.2,
+    profile: str = "lorentzian",
+    baseline_lam: float = 1e6,
+    baseline_p: float = 1e-2,
+    spike_threshold: float = 6.0,
+) -> MapQcResult:
+    """Vectorised QC of a whole map: spikes, baseline, band metrics per point, uniformity.
+
+    Steps, each on the whole (n_points, n_shift) array at once: spike removal (Whitaker &
+    Hayes 2018), batched P-spline ASLS baselines (:func:`~qc.analysis.baseline.
+    asls_baseline_map`), normalisation to counts/(mW·s), direct band height/area per point
+    (:func:`~qc.analysis.bands.band_metrics_map`), RSD and share within ±tolerance of the
+    median (:func:`~qc.analysis.uniformity.map_uniformity`), and a band fit of the mean
+    processed spectrum.
+
+    Parameters
+    ----------
+    shift_cm1 : array_like, shape (n_shift,)
+        Raman shift (cm⁻¹), strictly monotonic (a descending axis is flipped).
+    counts_2d : array_like, shape (n_points, n_shift)
+        Raw counts, one spectrum per map point.
+    grid_shape : (rows, cols), optional
+        Map grid for the heat-map (row-major in point order).
+    tolerance_fraction : float, default 0.2
+        ±20 % around the median for the uniformity share.
+    Other parameters
+        As for :func:`analyse_qc_spectrum`.
+
+    Returns
+    -------
+    MapQcResult
+    """
+    spectra = np.asarray(counts_2d, dtype=float)
+    if spectra.ndim != 2 or spectra.shape[0] < 2:
+        raise AnalysisInputError(
+            f"expected (n_points ≥ 2, n_shift), got shape {spectra.shape}", field="counts_2d"
+        )
+    axis, spectra = _ascending(shift_cm1, spectra)
+    if spectra.shape[1] != axis.size:
+        raise AnalysisInputError(
+            f"has {spectra.shape[1]} shifts per point but shift_cm1 has {axis.size}",
+            field="counts_2d",
+        )
+    if not np.all(np.isfinite(spectra)):
+        row = int(np.flatnonzero(~np.isfinite(spectra).all(axis=1))[0])
+        raise AnalysisInputError(f"point {row} holds NaN or infinity", field="counts_2d")
+    check_band_window(axis, band_center_cm1, band_window_cm1)
+    scale = normalised_intensity(
+        1.0, power_mW=power_mW, integration_s=integration_s,
+        accumulations=accumulations, accumulations_summed=accumulations_summed,
+    )
+    despiked = remove_spikes(spectra, threshold=spike_threshold)
+    processed = despiked.cleaned
+    baseline, diagnostics = asls_baseline_map(axis, processed, lam=baseline_lam, p=baseline_p)
+    processed -= baseline  # in place: the cleaned copy is ours
+    processed *= scale
+    del baseline
+    metrics = band_metrics_map(
+        axis, processed, band_center_cm1=band_center_cm1, band_window_cm1=band_window_cm1
+    )
+    uniformity = map_uniformity(
+        metrics.height, grid_shape=grid_shape, tolerance_fraction=tolerance_fraction
+    )
+    area_uniformity = map_uniformity(
+        metrics.area, grid_shape=grid_shape, tolerance_fraction=tolerance_fraction
+    )
+    mean_spectrum = processed.mean(axis=0)
+    mean_band = fit_band(
+        axis, mean_spectrum, band_center_cm1=band_center_cm1,
+        band_window_cm1=band_window_cm1, profile=profile,
+    )
+    return MapQcResult(
+        n_points=int(spectra.shape[0]),
+        height_per_point=metrics.height,
+        area_per_point=metrics.area,
+        position_per_point_cm1=metrics.position_cm1,
+        uniformity=uniformity,
+        area_uniformity=area_uniformity,
+        median_height_counts_per_mW_s=uniformity.median,
+        rsd_percent=uniformity.rsd_percent,
+        fraction_within_tolerance=uniformity.fraction_within_tolerance,
+        spikes_removed=despiked.replaced_count,
+        spikes_per_point=despiked.replaced_per_spectrum,
+        mean_band=mean_band,
+        snr=mean_band.snr,
+        shift_cm1=axis,
+        mean_spectrum=mean_spectrum,
+        baseline_converged=bool(diagnostics["converged"].all()),
+    )
