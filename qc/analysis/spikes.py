@@ -149,8 +149,7 @@ def remove_spikes(
         raise AnalysisInputError("must be a whole number ≥ 0", field="widen_points")
 
     spectra = np.atleast_2d(values)
-    z = modified_z_score_of_difference(spectra)
-    mask = _spike_points(z, threshold, int(max_spike_width_points), float(sharpness))
+    mask = _spike_points(spectra, threshold, int(max_spike_width_points), float(sharpness))
     mask = _widen(mask, int(widen_points))
     cleaned = _replace_by_neighbour_mean(spectra, mask, int(replace_window_points))
 
@@ -166,23 +165,56 @@ def remove_spikes(
     )
 
 
-def _spike_points(z: np.ndarray, threshold: float, max_width: int, sharpness: float) -> np.ndarray:
-    """Mark points enclosed by an abnormal sharp jump and an opposite abnormal sharp jump."""
-    n_points, n_diff = z.shape
-    magnitude = np.abs(z)
-    # A jump is sharp when it exceeds `sharpness` times the difference just outside it.
-    before = np.concatenate([np.zeros((n_points, 1)), magnitude[:, :-1]], axis=1)
-    after = np.concatenate([magnitude[:, 1:], np.zeros((n_points, 1))], axis=1)
-    rise_ok = magnitude > sharpness * before  # for the opening jump of a spike
-    fall_ok = magnitude > sharpness * after  # for the closing jump
-    up, down = z > threshold, z < -threshold
-    mask = np.zeros((n_points, n_diff + 1), dtype=bool)
-    for width in range(1, min(max_width, n_diff - 1) + 1):
+def _row_median(values: np.ndarray) -> np.ndarray:
+    """Median of each row (as a column), partitioning a scratch copy in place."""
+    scratch = values.copy()
+    n = scratch.shape[1]
+    middle = n // 2
+    if n % 2:
+        scratch.partition(middle, axis=1)
+        return scratch[:, middle : middle + 1]
+    scratch.partition((middle - 1, middle), axis=1)
+    return scratch[:, middle - 1 : middle + 1].mean(axis=1, keepdims=True)
+
+
+def _spike_points(spectra: np.ndarray, threshold: float, max_width: int, sharpness: float):
+    """Mark points enclosed by an abnormal sharp jump and an opposite abnormal sharp jump.
+
+    ``|z| > threshold`` is tested as ``|Δ − median Δ| > threshold · MAD / 0.6745`` so no
+    z array is formed; abnormal differences are rare, so the pairing and sharpness tests
+    run on the few candidates only.
+    """
+    n_rows, n_points = spectra.shape
+    deviation = np.diff(spectra, axis=1)
+    deviation -= _row_median(deviation)
+    magnitude = np.abs(deviation)
+    mad = _row_median(magnitude)
+    limit = np.where(mad > 0, threshold * mad / _MODIFIED_Z_FACTOR, np.inf)
+    rows, cols = np.nonzero(magnitude > limit)
+    mask = np.zeros((n_rows, n_points), dtype=bool)
+    if rows.size == 0:
+        return mask
+    n_diff = n_points - 1
+    sign = np.sign(deviation[rows, cols])
+    outside_before = np.where(cols > 0, magnitude[rows, np.maximum(cols - 1, 0)], 0.0)
+    outside_after = np.where(cols < n_diff - 1, magnitude[rows, np.minimum(cols + 1, n_diff - 1)], 0.0)
+    sharp_open = magnitude[rows, cols] > sharpness * outside_before
+    sharp_close = magnitude[rows, cols] > sharpness * outside_after
+    keys = rows * n_diff + cols  # sorted, since np.nonzero returns row-major order
+    for width in range(1, max_width + 1):
         # Δ[j] jumps one way and Δ[j + width] the other: points j+1 .. j+width are the spike.
-        opening = rise_ok[:, :-width] & fall_ok[:, width:]
-        start = opening & ((up[:, :-width] & down[:, width:]) | (down[:, :-width] & up[:, width:]))
+        target = keys + width
+        where = np.searchsorted(keys, target)
+        where = np.minimum(where, keys.size - 1)
+        closes = (
+            (keys[where] == target)
+            & (cols + width < n_diff)
+            & sharp_open
+            & sharp_close[where]
+            & (sign[where] == -sign)
+        )
         for offset in range(1, width + 1):
-            mask[:, offset : offset + start.shape[1]] |= start
+            mask[rows[closes], cols[closes] + offset] = True
     return mask
 
 
