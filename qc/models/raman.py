@@ -65,13 +65,15 @@ class _Acquisition(models.Model):
     objective = models.CharField(max_length=60, blank=True)
     band_center_cm1 = models.FloatField()
     band_window_cm1 = models.FloatField()
-    # Computed from the file (reference band of the processed spectrum or mean map spectrum).
+    # Computed from the file: the reference band fitted on the processed spectrum (for a
+    # map, on its mean processed spectrum), intensities per mW of laser and s of exposure.
     band_position_cm1 = models.FloatField(editable=False)
-    band_height_counts = models.FloatField(editable=False)
-    band_area_counts_cm1 = models.FloatField(editable=False)
     band_fwhm_cm1 = models.FloatField(editable=False)
-    snr = models.FloatField(editable=False)
     normalised_height_counts_per_mW_s = models.FloatField(editable=False)
+    normalised_height_u_counts_per_mW_s = models.FloatField(null=True, blank=True,
+                                                            editable=False)
+    normalised_area_counts_cm1_per_mW_s = models.FloatField(editable=False)
+    snr = models.FloatField(editable=False)
     spikes_removed = models.PositiveIntegerField(default=0, editable=False)
 
     class Meta:
@@ -172,8 +174,8 @@ class QcMeasurement(_Acquisition, CodedRecord):
 
     ``product_kind`` is the substrate's stage when measured: QC of a bare film says nothing
     about the same piece after particles are bound.  ``point_values`` keeps, for a map, the
-    stage positions (µm) and the normalised band height of every point (counts/(mW·s)) for
-    the heat-map; ``ef_inputs`` keeps every input of the enhancement factor as used;
+    stage positions (µm) and the normalised band height of every point (counts/(mW·s)),
+    and for a full grid the heat-map image (rows = ascending y) with its axes; ``ef_inputs`` keeps every input of the enhancement factor as used;
     ``limits_used`` the limits as they were when judged; ``failure_reasons`` why it failed.
     """
 
@@ -191,7 +193,6 @@ class QcMeasurement(_Acquisition, CodedRecord):
     map_ny = models.PositiveIntegerField(null=True, blank=True)
     map_step_um = models.FloatField(null=True, blank=True)
     n_points = models.PositiveIntegerField(default=1, editable=False)
-    normalised_area_counts_cm1_per_mW_s = models.FloatField(editable=False)
     median_height_counts_per_mW_s = models.FloatField(null=True, blank=True, editable=False)
     rsd_percent = models.FloatField(null=True, blank=True, editable=False)
     fraction_within_20_percent = models.FloatField(null=True, blank=True, editable=False)

@@ -1,3 +1,156 @@
-"""Reference-analyte Raman QC (selectors)."""
+"""Reference-analyte Raman QC (reads): latest QC, control charts, reproducibility, review notices.
 
-__all__: list[str] = []
+Charts and reproducibility figures are computed by ``qc.analysis.control_charts`` and
+``qc.analysis.uniformity`` from stored results; nothing is recomputed from raw files here.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from datetime import date
+
+from inventory.lineage import record_get_ancestors, record_get_descendants
+from inventory.models import Dataset, Flag, NanoparticleBatch, Substrate
+from qc.analysis.control_charts import IndividualsChart, individuals_chart
+from qc.analysis.uniformity import Reproducibility, batch_reproducibility
+
+from ..models.raman import QcMeasurement
+
+__all__ = [
+    "ControlChartSeries", "ReviewNotice", "dataset_get_review_notices",
+    "datasets_needing_review", "qc_batch_reproducibility", "qc_control_chart",
+    "qc_measurement_get_latest",
+]
+
+CHART_METRICS = {
+    "log10_enhancement_factor": "log10 EF",
+    "rsd_percent": "RSD %",
+}
+MIN_CHART_POINTS = 3  # individuals_chart needs at least three results
+
+
+def qc_measurement_get_latest(substrate: Substrate, *,
+                              product_kind: str | None = None) -> QcMeasurement | None:
+    """The newest QC measurement of ``substrate`` at ``product_kind`` (default: its stage)."""
+    return (QcMeasurement.objects
+            .filter(substrate=substrate, product_kind=product_kind or substrate.stage)
+            .select_related("analyte", "reference", "limit_set")
+            .order_by("-measured_on", "-id").first())
+
+
+@dataclass(frozen=True)
+class ControlChartSeries:
+    """One metric of one product kind over time, with its individuals/MR chart."""
+
+    product_kind: str
+    metric: str
+    label: str
+    codes: tuple[str, ...]
+    measured_on: tuple[date, ...]
+    substrate_codes: tuple[str, ...]
+    chart: IndividualsChart | None  # None below MIN_CHART_POINTS results
+
+
+def qc_control_chart(*, product_kind: str, metric: str, analyte=None,
+                     since: date | None = None,
+                     baseline_count: int | None = None) -> ControlChartSeries:
+    """Control chart of ``metric`` ("log10_enhancement_factor" or "rsd_percent").
+
+    One point per QC measurement of that product kind that has the metric, in the order
+    measured (date, then record order).
+    """
+    if metric not in CHART_METRICS:
+        raise ValueError(f"metric must be one of {sorted(CHART_METRICS)}, not {metric!r}")
+    rows = QcMeasurement.objects.filter(product_kind=product_kind,
+                                        **{f"{metric}__isnull": False})
+    if analyte is not None:
+        rows = rows.filter(analyte=analyte)
+    if since is not None:
+        rows = rows.filter(measured_on__gte=since)
+    rows = list(rows.order_by("measured_on", "id")
+                .values_list("code", "measured_on", "substrate__code", metric))
+    values = [row[3] for row in rows]
+    chart = individuals_chart(values, baseline_count=baseline_count) \
+        if len(values) >= MIN_CHART_POINTS else None
+    return ControlChartSeries(
+        product_kind=product_kind, metric=metric, label=CHART_METRICS[metric],
+        codes=tuple(r[0] for r in rows), measured_on=tuple(r[1] for r in rows),
+        substrate_codes=tuple(r[2] for r in rows), chart=chart)
+
+
+def _latest_maps(substrate_ids) -> list[QcMeasurement]:
+    """The newest map of each substrate (one query)."""
+    newest: dict[int, QcMeasurement] = {}
+    for measurement in (QcMeasurement.objects.filter(substrate_id__in=substrate_ids, is_map=True)
+                        .order_by("substrate_id", "-measured_on", "-id")
+                        .only("code", "substrate_id", "point_values")):
+        newest.setdefault(measurement.substrate_id, measurement)
+    return list(newest.values())
+
+
+def qc_batch_reproducibility(*, deposition_run=None,
+                             batch: NanoparticleBatch | None = None,
+                             product_kind: str | None = None) -> Reproducibility:
+    """Between/within-substrate spread of the latest QC maps of one run's or batch's pieces.
+
+    Uses the per-point normalised band heights stored with each map.  Raises ``ValueError``
+    when fewer than two substrates have a map.
+    """
+    if (deposition_run is None) == (batch is None):
+        raise ValueError("Give exactly one of deposition_run or batch.")
+    substrates = Substrate.objects.all()
+    if deposition_run is not None:
+        substrates = substrates.filter(deposition_run=deposition_run)
+    else:
+        substrates = substrates.filter(particle_attachments__batch=batch)
+    if product_kind:
+        substrates = substrates.filter(stage=product_kind)
+    maps = _latest_maps(list(substrates.values_list("pk", flat=True)))
+    if len(maps) < 2:
+        raise ValueError("At least two substrates with a QC map are needed.")
+    maps.sort(key=lambda m: m.code)
+    return batch_reproducibility(
+        [m.point_values["normalised_height_counts_per_mW_s"] for m in maps])
+
+
+@dataclass(frozen=True)
+class ReviewNotice:
+    """A dataset that depends on a record with an open flag: it needs a review."""
+
+    dataset_code: str
+    dataset_title: str
+    flag_code: str
+    flagged_record_code: str
+    message: str
+
+
+def _notice(dataset: Dataset, flag: Flag) -> ReviewNotice:
+    return ReviewNotice(dataset_code=dataset.code, dataset_title=dataset.title,
+                        flag_code=flag.code, flagged_record_code=flag.target_code,
+                        message=f"{dataset.code} depends on {flag.target_code}, which has open "
+                                f"flag {flag.code}: {flag.message}")
+
+
+def datasets_needing_review(*, category: str | None = None) -> list[ReviewNotice]:
+    """Every dataset downstream of a record with an open flag, one notice per flag.
+
+    One descendant walk per flagged record (inventory.lineage), so the cost grows with the
+    number of open flags, not with the depth of the graph.
+    """
+    flags = Flag.objects.filter(state=Flag.State.OPEN)
+    if category:
+        flags = flags.filter(category=category)
+    notices = []
+    for flag in flags.order_by("code"):
+        descendants = record_get_descendants(flag.target_code)
+        for dataset in sorted(descendants.of_kind(Dataset), key=lambda d: d.code):
+            notices.append(_notice(dataset, flag))
+    return notices
+
+
+def dataset_get_review_notices(dataset: Dataset) -> list[ReviewNotice]:
+    """Open flags on ``dataset``'s ancestors (or itself), as review notices (two queries+)."""
+    ancestry = record_get_ancestors(dataset)
+    codes = [dataset.code, *ancestry.depth]
+    flags = Flag.objects.filter(target_code__in=codes, state=Flag.State.OPEN).order_by("code")
+    return [_notice(dataset, flag) for flag in flags]

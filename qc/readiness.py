@@ -1,0 +1,44 @@
+"""QC reasons for the readiness check: QC missing, failed or stale.
+
+Plugged in through ``settings.SERSLEDGER_READINESS_PROVIDERS`` as
+``"qc.readiness.qc_reasons"``.  QC is required for a product kind (substrate stage) when the
+lab has a limit set for it; the latest QC measurement at the substrate's current stage, made
+on or before the day checked, decides.  Two queries at most.
+"""
+
+from __future__ import annotations
+
+from inventory.readiness import Reason, ReadinessContext
+
+from .models.raman import QcLimitSet, QcMeasurement
+
+__all__ = ["qc_reasons"]
+
+
+def qc_reasons(context: ReadinessContext) -> list[Reason]:
+    """``qc_missing``, ``qc_failed`` or ``qc_stale`` for ``context.substrate``, or nothing."""
+    substrate = context.substrate
+    limits = {limit.analyte_id: limit
+              for limit in QcLimitSet.objects.filter(product_kind=substrate.stage)}
+    if not limits:
+        return []
+    latest = (QcMeasurement.objects
+              .filter(substrate_id=substrate.pk, product_kind=substrate.stage,
+                      analyte_id__in=list(limits), measured_on__lte=context.on_date)
+              .order_by("-measured_on", "-id")
+              .only("code", "measured_on", "passed", "failure_reasons", "analyte_id")
+              .first())
+    if latest is None:
+        return [Reason("qc_missing", f"{substrate.code} has no QC measurement as a "
+                                     f"{substrate.get_stage_display().lower()}.",
+                       substrate.code)]
+    if not latest.passed:
+        return [Reason("qc_failed", f"The latest QC {latest.code} "
+                                    f"({latest.measured_on.isoformat()}) failed: "
+                                    f"{' '.join(latest.failure_reasons)}", latest.code)]
+    valid_days = limits[latest.analyte_id].valid_days
+    age_days = (context.on_date - latest.measured_on).days
+    if age_days > valid_days:
+        return [Reason("qc_stale", f"The latest QC {latest.code} is {age_days} days old; QC "
+                                   f"stays valid for {valid_days} days.", latest.code)]
+    return []
