@@ -21,6 +21,8 @@ class ReferenceAnalyte(StampedRecord):
     ``band_positions_cm1`` lists the Raman bands it is known by; ``band_positions_source``
     says where they come from ("from memory" when recalled, not looked up).  The QC band is
     the one measured; the window is the full width around it used for band metrics.
+    ``reference_band_cm1`` is that mode in the non-enhanced (neat) analyte, for the
+    reference measurement, when adsorption shifts it.
     ``lots`` are the reagent lots (kind reference analyte) that hold this molecule.
     """
 
@@ -29,6 +31,10 @@ class ReferenceAnalyte(StampedRecord):
     band_positions_source = models.CharField(max_length=200)
     qc_band_cm1 = models.FloatField()
     qc_band_window_cm1 = models.FloatField(default=40.0)
+    reference_band_cm1 = models.FloatField(
+        null=True, blank=True,
+        help_text="The same mode in the non-enhanced analyte, when binding shifts it "
+                  "(blank: the QC band).")
     surface_density_per_nm2 = models.FloatField(
         help_text="Molecules per nm² in a full monolayer, the default for enhancement factors.")
     surface_density_source = models.CharField(max_length=200)

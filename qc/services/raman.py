@@ -64,7 +64,7 @@ def reference_analyte_define(
     *, actor: User | None, name: str, band_positions_cm1: Sequence[float],
     band_positions_source: str, qc_band_cm1: float, surface_density_per_nm2: float,
     surface_density_source: str, qc_band_window_cm1: float = 40.0,
-    lots: Sequence[ReagentLot] = (),
+    reference_band_cm1: float | None = None, lots: Sequence[ReagentLot] = (),
 ) -> ReferenceAnalyte:
     """Record a reference analyte, the band used for QC and its monolayer density."""
     for lot in lots:
@@ -77,7 +77,8 @@ def reference_analyte_define(
     analyte = ReferenceAnalyte(
         name=name, band_positions_cm1=[float(v) for v in band_positions_cm1],
         band_positions_source=band_positions_source, qc_band_cm1=qc_band_cm1,
-        qc_band_window_cm1=qc_band_window_cm1, surface_density_per_nm2=surface_density_per_nm2,
+        qc_band_window_cm1=qc_band_window_cm1, reference_band_cm1=reference_band_cm1,
+        surface_density_per_nm2=surface_density_per_nm2,
         surface_density_source=surface_density_source, created_by=actor, updated_by=actor)
     analyte.full_clean()
     analyte.save()
@@ -298,15 +299,16 @@ def reference_measurement_import(
     if isinstance(data, RamanMap):
         raise refusal(FILE_FIELD, "A reference measurement is one spectrum, not a map.",
                       "map_not_allowed")
-    numbers = _analyse(data, band_center_cm1=analyte.qc_band_cm1,
-                       band_window_cm1=analyte.qc_band_window_cm1, power_mW=power_mW,
-                       integration_s=integration_s, accumulations=accumulations)
+    band_cm1 = analyte.reference_band_cm1 or analyte.qc_band_cm1
+    numbers = _analyse(data, band_center_cm1=band_cm1, band_window_cm1=analyte.qc_band_window_cm1,
+                       power_mW=power_mW, integration_s=integration_s,
+                       accumulations=accumulations)
     reference = ReferenceMeasurement(
         analyte=analyte, analyte_lot=analyte_lot, measured_on=measured_on,
         raw_file=ContentFile(content, name=filename), raw_filename=filename,
         raw_sha256=sha256_of(content), laser_nm=laser_nm, power_mW=power_mW,
         integration_s=integration_s, accumulations=accumulations, objective=objective,
-        band_center_cm1=analyte.qc_band_cm1, band_window_cm1=analyte.qc_band_window_cm1,
+        band_center_cm1=band_cm1, band_window_cm1=analyte.qc_band_window_cm1,
         **_measured_fields(numbers), concentration_mol_L=concentration_mol_L,
         effective_height_um=effective_height_um, effective_area_um2=effective_area_um2,
         concentration_rel_u=concentration_rel_u, effective_height_rel_u=effective_height_rel_u,
