@@ -7,6 +7,10 @@ weighting on a penalised B-spline (P-spline) basis, solved for every spectrum at
 
 from __future__ import annotations
 
+import os
+import queue
+from concurrent.futures import ThreadPoolExecutor
+
 import numpy as np
 from pybaselines import Baseline
 
@@ -188,6 +192,8 @@ def asls_baseline_map(
     for all spectra are two small matrix products, and the banded (half-bandwidth 3)
     Cholesky factorisation runs down the coefficients once for all spectra together,
     vectorised across spectra. The penalty acts on point index, like pybaselines' ``asls``.
+    Spectra are processed in blocks of a few hundred (buffers stay small and are reused)
+    and the blocks run on up to four threads; the result does not depend on either.
 
     The λ conversion follows from ``Δ²α ≈ h² z''`` for a smooth curve summed over
     ``n/h`` coefficients; it is a scaling argument, checked in the tests by band heights
@@ -230,18 +236,36 @@ def asls_baseline_map(
     iterations = np.zeros(n_points, dtype=int)
     converged = np.zeros(n_points, dtype=bool)
     chunk = min(n_points, _CHUNK_SPECTRA)
-    work = _SplineWorkspace(n_intervals, h, chunk)
-    for first in range(0, n_points, chunk):
-        rows = slice(first, min(first + chunk, n_points))
-        baseline[rows], iterations[rows], converged[rows] = _asls_spline_block(
-            spectra[rows], p, max_iter, tol, pieces, products, penalty, work
-        )
+    blocks = [slice(first, min(first + chunk, n_points)) for first in range(0, n_points, chunk)]
+    n_workers = max(1, min(len(blocks), os.cpu_count() or 1, _MAX_THREADS))
+    workspaces = queue.SimpleQueue()
+    for _ in range(n_workers):
+        workspaces.put(_SplineWorkspace(n_intervals, h, chunk))
+
+    def run(rows: slice) -> None:
+        work = workspaces.get()
+        try:
+            baseline[rows], iterations[rows], converged[rows] = _asls_spline_block(
+                spectra[rows], p, max_iter, tol, pieces, products, penalty, work
+            )
+        finally:
+            workspaces.put(work)
+
+    # Blocks are independent and numpy releases the GIL in its array loops and BLAS calls,
+    # so a few threads overlap the work; results do not depend on the thread count.
+    if n_workers == 1:
+        for rows in blocks:
+            run(rows)
+    else:
+        with ThreadPoolExecutor(max_workers=n_workers) as pool:
+            list(pool.map(run, blocks))
     return baseline, {"iterations": iterations, "converged": converged}
 
 
 # Spectra solved together; large enough that numpy call overhead is small, small enough
 # that the workspace stays in memory that is already mapped and mostly in cache.
 _CHUNK_SPECTRA = 512
+_MAX_THREADS = 4
 
 
 def _asls_spline_block(spectra, p, max_iter, tol, pieces, products, penalty, work):
