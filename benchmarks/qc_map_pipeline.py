@@ -27,7 +27,9 @@ from qc.analysis.bands import band_metrics_map, lorentzian  # noqa: E402
 from qc.analysis.qc_pipeline import analyse_qc_map  # noqa: E402
 
 BAND_CM1, WINDOW_CM1 = 1075.0, 60.0
-SETTINGS = dict(band_center_cm1=BAND_CM1, band_window_cm1=WINDOW_CM1, power_mW=2.0, integration_s=1.0)
+SETTINGS = dict(
+    band_center_cm1=BAND_CM1, band_window_cm1=WINDOW_CM1, power_mW=2.0, integration_s=1.0
+)
 
 
 def synthetic_map(rows: int = 100, cols: int = 100, n_shift: int = 1024, seed: int = 20):
@@ -61,8 +63,12 @@ def loop_reference(x, counts):
 
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    parser.add_argument("--loop-subset", type=int, default=1000,
-                        help="spectra timed in the loop (scaled to the whole map)")
+    parser.add_argument(
+        "--loop-subset",
+        type=int,
+        default=1000,
+        help="spectra timed in the loop (scaled to the whole map)",
+    )
     args = parser.parse_args()
     x, counts = synthetic_map()
     n_points = counts.shape[0]
@@ -90,19 +96,25 @@ def main() -> None:
     # Agreement with the loop on the subset, after spike removal on both sides is not done in
     # the loop, so compare only spectra without planted spikes.
     clean_rows = result.spikes_per_point[:subset] == 0
-    agreement = np.abs(result.height_per_point[:subset][clean_rows] * 2.0 / loop_heights[clean_rows] - 1)
+    agreement = np.abs(
+        result.height_per_point[:subset][clean_rows] * 2.0 / loop_heights[clean_rows] - 1
+    )
 
     print(f"Synthetic (invented) map: 100 × 100 points × {x.size} shifts, seed 20\n")
     print("| measure | value | target |")
     print("| --- | --- | --- |")
     print(f"| analyse_qc_map wall time (best of 3) | {vector_s:.2f} s | < 1 s |")
-    print(f"| per-spectrum loop (asls + band metric), {subset} spectra timed, scaled ×{n_points / subset:g} "
-          f"| {loop_s:.2f} s | — |")
+    print(
+        f"| per-spectrum loop (asls + band metric), {subset} spectra timed, scaled ×{n_points / subset:g} "
+        f"| {loop_s:.2f} s | — |"
+    )
     print(f"| speed-up | {loop_s / vector_s:.1f}× | ≥ 10× |")
     print(f"| peak traced memory (tracemalloc) | {peak_bytes / 2**20:.0f} MiB | < 1 GB |")
     print(f"| process max RSS | {max_rss_mb:.0f} MiB | — |")
-    print(f"| max band-height difference vs loop ({clean_rows.sum()} spike-free spectra) "
-          f"| {100 * agreement.max():.3f} % | < 2 % |")
+    print(
+        f"| max band-height difference vs loop ({clean_rows.sum()} spike-free spectra) "
+        f"| {100 * agreement.max():.3f} % | < 2 % |"
+    )
     print(f"| RSD of band height over the map | {result.rsd_percent:.1f} % | — |")
 
 

@@ -213,8 +213,10 @@ def fit_band(
     fitted = model(x, *params)
     residuals = y - fitted
     residual_sd = float(np.sqrt(np.sum(residuals**2) / (x.size - len(params))))
-    errors = np.sqrt(np.clip(np.diag(cov), 0, None)) if np.all(np.isfinite(cov)) else (
-        np.full(len(params), np.nan)
+    errors = (
+        np.sqrt(np.clip(np.diag(cov), 0, None))
+        if np.all(np.isfinite(cov))
+        else (np.full(len(params), np.nan))
     )
 
     position, height, fwhm = (float(v) for v in params[:3])
@@ -226,7 +228,9 @@ def fit_band(
     gradient[1], gradient[2] = fwhm * factor, height * factor
     if n_shape == 4:
         gradient[3] = height * fwhm * 0.5 * (np.pi - np.sqrt(np.pi / _LN2))
-    area_se = float(np.sqrt(max(gradient @ cov @ gradient, 0.0))) if np.all(np.isfinite(cov)) else np.nan
+    area_se = (
+        float(np.sqrt(max(gradient @ cov @ gradient, 0.0))) if np.all(np.isfinite(cov)) else np.nan
+    )
     return BandFit(
         profile=profile,
         position_cm1=position,

@@ -173,9 +173,7 @@ def _run_rules(data, moving, centre, sigma, mr_limit, rules) -> tuple[RuleViolat
             _window_hits(z > 1, 5, 4), _window_hits(z < -1, 5, 4)
         )
     if "eight-on-one-side" in rules:
-        hits["eight-on-one-side"] = np.union1d(
-            _window_hits(z > 0, 8, 8), _window_hits(z < 0, 8, 8)
-        )
+        hits["eight-on-one-side"] = np.union1d(_window_hits(z > 0, 8, 8), _window_hits(z < 0, 8, 8))
     steps = np.sign(np.diff(data))
     if "six-steady-trend" in rules:  # six points = five steps of one sign
         rising, falling = _window_hits(steps > 0, 5, 5), _window_hits(steps < 0, 5, 5)

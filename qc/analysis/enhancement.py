@@ -112,9 +112,13 @@ def analytical_enhancement_factor(
     .. [1] Le Ru, E. C.; Blackie, E.; Meyer, M.; Etchegoin, P. G. J. Phys. Chem. C 2007,
        111, 13794–13803 (definition of the AEF).
     """
-    i_sers = require_positive(sers_intensity_counts_per_mW_s, field="sers_intensity_counts_per_mW_s")
+    i_sers = require_positive(
+        sers_intensity_counts_per_mW_s, field="sers_intensity_counts_per_mW_s"
+    )
     c_sers = require_positive(sers_concentration_M, field="sers_concentration_M")
-    i_rs = require_positive(raman_intensity_counts_per_mW_s, field="raman_intensity_counts_per_mW_s")
+    i_rs = require_positive(
+        raman_intensity_counts_per_mW_s, field="raman_intensity_counts_per_mW_s"
+    )
     c_rs = require_positive(raman_concentration_M, field="raman_concentration_M")
     relative_u = _relative_quadrature(
         sers_intensity_rel_u=sers_intensity_rel_u,
@@ -284,8 +288,12 @@ def substrate_enhancement_factor(
     .. [1] Le Ru, E. C.; Blackie, E.; Meyer, M.; Etchegoin, P. G. J. Phys. Chem. C 2007,
        111, 13794–13803 (definition of the SSEF).
     """
-    i_sers = require_positive(sers_intensity_counts_per_mW_s, field="sers_intensity_counts_per_mW_s")
-    i_rs = require_positive(raman_intensity_counts_per_mW_s, field="raman_intensity_counts_per_mW_s")
+    i_sers = require_positive(
+        sers_intensity_counts_per_mW_s, field="sers_intensity_counts_per_mW_s"
+    )
+    i_rs = require_positive(
+        raman_intensity_counts_per_mW_s, field="raman_intensity_counts_per_mW_s"
+    )
     n_surf = require_positive(molecules_surface.value, field="molecules_surface")
     n_vol = require_positive(molecules_volume.value, field="molecules_volume")
     relative_u = _relative_quadrature(

@@ -155,15 +155,21 @@ def analyse_qc_spectrum(
         )
     check_band_window(axis, band_center_cm1, band_window_cm1)
     scale = normalised_intensity(
-        1.0, power_mW=power_mW, integration_s=integration_s,
-        accumulations=accumulations, accumulations_summed=accumulations_summed,
+        1.0,
+        power_mW=power_mW,
+        integration_s=integration_s,
+        accumulations=accumulations,
+        accumulations_summed=accumulations_summed,
     )
     despiked = remove_spikes(values, threshold=spike_threshold)
     baseline, _ = asls_baseline(axis, despiked.cleaned, lam=baseline_lam, p=baseline_p)
     processed = (despiked.cleaned - baseline) * scale
     band = fit_band(
-        axis, processed, band_center_cm1=band_center_cm1,
-        band_window_cm1=band_window_cm1, profile=profile,
+        axis,
+        processed,
+        band_center_cm1=band_center_cm1,
+        band_window_cm1=band_window_cm1,
+        profile=profile,
     )
     return SpectrumQcResult(
         band=band,
@@ -238,8 +244,11 @@ def analyse_qc_map(
         raise AnalysisInputError(f"point {row} holds NaN or infinity", field="counts_2d")
     check_band_window(axis, band_center_cm1, band_window_cm1)
     scale = normalised_intensity(
-        1.0, power_mW=power_mW, integration_s=integration_s,
-        accumulations=accumulations, accumulations_summed=accumulations_summed,
+        1.0,
+        power_mW=power_mW,
+        integration_s=integration_s,
+        accumulations=accumulations,
+        accumulations_summed=accumulations_summed,
     )
     despiked = remove_spikes(spectra, threshold=spike_threshold)
     processed = despiked.cleaned
@@ -258,8 +267,11 @@ def analyse_qc_map(
     )
     mean_spectrum = processed.mean(axis=0)
     mean_band = fit_band(
-        axis, mean_spectrum, band_center_cm1=band_center_cm1,
-        band_window_cm1=band_window_cm1, profile=profile,
+        axis,
+        mean_spectrum,
+        band_center_cm1=band_center_cm1,
+        band_window_cm1=band_window_cm1,
+        profile=profile,
     )
     return MapQcResult(
         n_points=int(spectra.shape[0]),

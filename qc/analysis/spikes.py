@@ -197,7 +197,9 @@ def _spike_points(spectra: np.ndarray, threshold: float, max_width: int, sharpne
     n_diff = n_points - 1
     sign = np.sign(deviation[rows, cols])
     outside_before = np.where(cols > 0, magnitude[rows, np.maximum(cols - 1, 0)], 0.0)
-    outside_after = np.where(cols < n_diff - 1, magnitude[rows, np.minimum(cols + 1, n_diff - 1)], 0.0)
+    outside_after = np.where(
+        cols < n_diff - 1, magnitude[rows, np.minimum(cols + 1, n_diff - 1)], 0.0
+    )
     sharp_open = magnitude[rows, cols] > sharpness * outside_before
     sharp_close = magnitude[rows, cols] > sharpness * outside_after
     keys = rows * n_diff + cols  # sorted, since np.nonzero returns row-major order

@@ -19,11 +19,30 @@ SILICON_PARKER_1967_U_CM1 = 0.5
 
 #: ASTM E1840 polystyrene band positions, cm⁻¹ — second-hand values, allow ±0.2 cm⁻¹.
 POLYSTYRENE_ASTM_E1840_CM1 = (
-    620.9, 795.8, 1001.4, 1031.8, 1155.3, 1450.5, 1583.1, 1602.3, 2852.4, 2904.5, 3054.3,
+    620.9,
+    795.8,
+    1001.4,
+    1031.8,
+    1155.3,
+    1450.5,
+    1583.1,
+    1602.3,
+    2852.4,
+    2904.5,
+    3054.3,
 )
 #: ASTM E1840 cyclohexane band positions, cm⁻¹ — second-hand values, allow ±0.2 cm⁻¹.
 CYCLOHEXANE_ASTM_E1840_CM1 = (
-    384.1, 426.4, 801.3, 1028.3, 1157.6, 1266.4, 1444.4, 2852.9, 2923.8, 2938.3,
+    384.1,
+    426.4,
+    801.3,
+    1028.3,
+    1157.6,
+    1266.4,
+    1444.4,
+    2852.9,
+    2923.8,
+    2938.3,
 )
 #: Uncertainty allowed for the second-hand ASTM E1840 values, cm⁻¹.
 ASTM_E1840_SECOND_HAND_U_CM1 = 0.2
@@ -82,8 +101,10 @@ def compare_band_positions(
             field="measured_cm1",
         )
     tolerance = require_positive(tolerance_cm1, field="tolerance_cm1")
-    errors = np.full(measured.size, np.nan) if measured_se_cm1 is None else as_finite_1d(
-        measured_se_cm1, field="measured_se_cm1"
+    errors = (
+        np.full(measured.size, np.nan)
+        if measured_se_cm1 is None
+        else as_finite_1d(measured_se_cm1, field="measured_se_cm1")
     )
     offsets = measured - reference
     bands = tuple(
@@ -144,8 +165,11 @@ def check_wavenumber_axis(
     for reference in references:
         try:
             fit = fit_band(
-                shift_cm1, intensity, band_center_cm1=float(reference),
-                band_window_cm1=band_window_cm1, profile=profile,
+                shift_cm1,
+                intensity,
+                band_center_cm1=float(reference),
+                band_window_cm1=band_window_cm1,
+                profile=profile,
             )
         except AnalysisInputError as exc:
             if exc.field == "band_center_cm1":

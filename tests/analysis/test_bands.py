@@ -19,7 +19,9 @@ def test_pseudo_voigt_area_factor_against_numerical_integral():
     # mixture against scipy quad.
     h, gamma, eta = 2.0, 10.0, 0.3
     area, _ = quad(lambda x: bands.pseudo_voigt(x, 0.0, h, gamma, eta), -np.inf, np.inf)
-    expected = eta * np.pi * h * gamma / 2 + (1 - eta) * h * gamma * np.sqrt(np.pi / (4 * np.log(2)))
+    expected = eta * np.pi * h * gamma / 2 + (1 - eta) * h * gamma * np.sqrt(
+        np.pi / (4 * np.log(2))
+    )
     assert area == pytest.approx(expected, rel=1e-7)
 
 
@@ -81,16 +83,21 @@ def test_normalisation_divides_by_power_time_and_summed_accumulations():
     assert bands.normalised_intensity(
         1200.0, power_mW=2.0, integration_s=10.0, accumulations=3
     ) == pytest.approx(20.0)
-    assert bands.normalised_intensity(
-        1200.0, power_mW=2.0, integration_s=10.0, accumulations=3, accumulations_summed=False
-    ) == 60.0
+    assert (
+        bands.normalised_intensity(
+            1200.0, power_mW=2.0, integration_s=10.0, accumulations=3, accumulations_summed=False
+        )
+        == 60.0
+    )
 
 
 @pytest.mark.parametrize(
     "kwargs, field",
-    [({"power_mW": 0, "integration_s": 1}, "power_mW"),
-     ({"power_mW": 1, "integration_s": -1}, "integration_s"),
-     ({"power_mW": 1, "integration_s": 1, "accumulations": 0}, "accumulations")],
+    [
+        ({"power_mW": 0, "integration_s": 1}, "power_mW"),
+        ({"power_mW": 1, "integration_s": -1}, "integration_s"),
+        ({"power_mW": 1, "integration_s": 1, "accumulations": 0}, "accumulations"),
+    ],
 )
 def test_bad_acquisition_settings_name_the_field(kwargs, field):
     with pytest.raises(AnalysisInputError) as err:

@@ -19,7 +19,9 @@ def _synthetic_map(n_points=60, n_shift=1024, seed=5):
     x = np.linspace(300, 1800, n_shift)
     slope = rng.uniform(0.5, 1.5, (n_points, 1))
     hump = rng.uniform(0.5, 1.5, (n_points, 1))
-    background = 2000 + 1500 * slope * (x - 300) / 1500 + 3000 * hump * np.exp(-(((x - 900) / 700) ** 2))
+    background = (
+        2000 + 1500 * slope * (x - 300) / 1500 + 3000 * hump * np.exp(-(((x - 900) / 700) ** 2))
+    )
     height = rng.uniform(400, 1500, (n_points, 1))
     bands = height * _lorentzian(x, 1075, 1, 12) + 800 * _lorentzian(x, 1580, 1, 14)
     counts = rng.poisson(background + bands).astype(float)
@@ -84,8 +86,12 @@ def test_flat_background_is_recovered():
 
 @pytest.mark.parametrize(
     "kwargs, field",
-    [({"lam": 0}, "lam"), ({"p": 1.5}, "p"), ({"points_per_knot": 0}, "points_per_knot"),
-     ({"max_iter": 0}, "max_iter")],
+    [
+        ({"lam": 0}, "lam"),
+        ({"p": 1.5}, "p"),
+        ({"points_per_knot": 0}, "points_per_knot"),
+        ({"max_iter": 0}, "max_iter"),
+    ],
 )
 def test_bad_map_parameters_name_the_field(kwargs, field):
     x, counts = _synthetic_map(n_points=2, n_shift=100)

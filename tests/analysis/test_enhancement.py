@@ -36,19 +36,25 @@ def test_ssef_worked_example_by_hand():
     # I_SERS = 1000, I_RS = 0.5 counts/(mW·s):
     #   SSEF = (1000 / 1.02e7) / (0.5 / 5.8656e10) = 9.8039e-5 × 1.17312e11 = 1.1501e7.
     n_vol = ef.molecules_in_scattering_volume(
-        concentration_M=9.74, spot_area_um2=1.0, effective_height_um=10.0,
+        concentration_M=9.74,
+        spot_area_um2=1.0,
+        effective_height_um=10.0,
         effective_height_rel_u=0.2,
     )
     assert n_vol.value == pytest.approx(9.74 * Avogadro * 1e-15 * 10.0)
     assert n_vol.value == pytest.approx(5.8656e10, rel=1e-4)
     n_surf = ef.molecules_on_surface(
-        spot_area_um2=1.0, molecule_density_per_cm2=6.8e14, surface_area_factor=1.5,
+        spot_area_um2=1.0,
+        molecule_density_per_cm2=6.8e14,
+        surface_area_factor=1.5,
         molecule_density_rel_u=0.1,
     )
     assert n_surf.value == pytest.approx(1.02e7)
     result = ef.substrate_enhancement_factor(
-        sers_intensity_counts_per_mW_s=1000.0, raman_intensity_counts_per_mW_s=0.5,
-        molecules_surface=n_surf, molecules_volume=n_vol,
+        sers_intensity_counts_per_mW_s=1000.0,
+        raman_intensity_counts_per_mW_s=0.5,
+        molecules_surface=n_surf,
+        molecules_volume=n_vol,
     )
     assert result.value == pytest.approx(1.1501e7, rel=1e-4)
     assert result.relative_uncertainty == pytest.approx(np.hypot(0.2, 0.1))
@@ -60,8 +66,10 @@ def test_feature_construction_equals_direct_coverage():
         spot_area_um2=3.0, molecule_density_per_nm2=4.0, surface_area_factor=1.5
     )
     features = ef.molecules_on_surface(
-        spot_area_um2=3.0, molecule_density_per_nm2=4.0,
-        feature_density_per_um2=2.0, metal_area_per_feature_um2=0.75,
+        spot_area_um2=3.0,
+        molecule_density_per_nm2=4.0,
+        feature_density_per_um2=2.0,
+        metal_area_per_feature_um2=0.75,
     )
     assert features.value == pytest.approx(direct.value)
     assert direct.value == pytest.approx(4.0 * 1e6 * 1.5 * 3.0)
@@ -78,10 +86,14 @@ def test_propagated_uncertainty_matches_monte_carlo():
     c_r = 0.1 * (1 + rel["rc"] * rng.standard_normal(n))
     samples = (i_s / c_s) / (i_r / c_r)
     result = ef.analytical_enhancement_factor(
-        sers_intensity_counts_per_mW_s=500, sers_concentration_M=1e-6,
-        raman_intensity_counts_per_mW_s=2, raman_concentration_M=0.1,
-        sers_intensity_rel_u=rel["si"], sers_concentration_rel_u=rel["sc"],
-        raman_intensity_rel_u=rel["ri"], raman_concentration_rel_u=rel["rc"],
+        sers_intensity_counts_per_mW_s=500,
+        sers_concentration_M=1e-6,
+        raman_intensity_counts_per_mW_s=2,
+        raman_concentration_M=0.1,
+        sers_intensity_rel_u=rel["si"],
+        sers_concentration_rel_u=rel["sc"],
+        raman_intensity_rel_u=rel["ri"],
+        raman_concentration_rel_u=rel["rc"],
     )
     mc_rel = np.std(samples) / np.mean(samples)
     assert result.relative_uncertainty == pytest.approx(mc_rel, rel=0.05)
@@ -89,13 +101,19 @@ def test_propagated_uncertainty_matches_monte_carlo():
 
 @pytest.mark.parametrize(
     "field",
-    ["sers_intensity_counts_per_mW_s", "sers_concentration_M",
-     "raman_intensity_counts_per_mW_s", "raman_concentration_M"],
+    [
+        "sers_intensity_counts_per_mW_s",
+        "sers_concentration_M",
+        "raman_intensity_counts_per_mW_s",
+        "raman_concentration_M",
+    ],
 )
 def test_non_positive_inputs_name_the_field(field):
     kwargs = dict(
-        sers_intensity_counts_per_mW_s=1.0, sers_concentration_M=1.0,
-        raman_intensity_counts_per_mW_s=1.0, raman_concentration_M=1.0,
+        sers_intensity_counts_per_mW_s=1.0,
+        sers_concentration_M=1.0,
+        raman_intensity_counts_per_mW_s=1.0,
+        raman_concentration_M=1.0,
     )
     kwargs[field] = 0.0
     with pytest.raises(AnalysisInputError) as err:
@@ -112,8 +130,10 @@ def test_surface_needs_exactly_one_density_and_one_construction():
     assert err.value.field == "surface_area_factor"
     with pytest.raises(AnalysisInputError) as err:
         ef.analytical_enhancement_factor(
-            sers_intensity_counts_per_mW_s=1, sers_concentration_M=1,
-            raman_intensity_counts_per_mW_s=1, raman_concentration_M=1,
+            sers_intensity_counts_per_mW_s=1,
+            sers_concentration_M=1,
+            raman_intensity_counts_per_mW_s=1,
+            raman_concentration_M=1,
             sers_intensity_rel_u=-0.1,
         )
     assert err.value.field == "sers_intensity_rel_u"

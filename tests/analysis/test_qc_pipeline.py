@@ -47,8 +47,13 @@ def test_spectrum_pipeline_recovers_normalised_planted_band():
 def test_map_pipeline_uniformity_and_spikes():
     x, counts, heights = _map()
     result = analyse_qc_map(
-        x, counts, band_center_cm1=1075, band_window_cm1=60, power_mW=POWER_mW,
-        integration_s=TIME_s, grid_shape=(8, 8),
+        x,
+        counts,
+        band_center_cm1=1075,
+        band_window_cm1=60,
+        power_mW=POWER_mW,
+        integration_s=TIME_s,
+        grid_shape=(8, 8),
     )
     assert result.spikes_per_point[5] >= 1 and result.spikes_removed >= 1
     assert result.uniformity.heat_map.shape == (8, 8)

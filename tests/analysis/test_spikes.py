@@ -74,8 +74,11 @@ def test_map_is_processed_row_by_row_identically():
 
 @pytest.mark.parametrize(
     "kwargs, field",
-    [({"threshold": 0}, "threshold"), ({"widen_points": -1}, "widen_points"),
-     ({"replace_window_points": 0}, "replace_window_points")],
+    [
+        ({"threshold": 0}, "threshold"),
+        ({"widen_points": -1}, "widen_points"),
+        ({"replace_window_points": 0}, "replace_window_points"),
+    ],
 )
 def test_bad_parameters_name_the_field(kwargs, field):
     with pytest.raises(AnalysisInputError) as err:

@@ -32,7 +32,10 @@ def test_rsd_of_seeded_normal_data_is_near_the_planted_value():
 def test_anova_matches_scipy_f_oneway_and_planted_components():
     rng = np.random.default_rng(5)
     substrate_means = 1000 + rng.normal(0, 50, 8)  # planted between σ 50
-    groups = [m + rng.normal(0, 100, n) for m, n in zip(substrate_means, [100, 90, 100, 80, 100, 100, 95, 100])]
+    groups = [
+        m + rng.normal(0, 100, n)
+        for m, n in zip(substrate_means, [100, 90, 100, 80, 100, 100, 95, 100])
+    ]
     result = batch_reproducibility(groups)
     reference = stats.f_oneway(*groups)  # independent one-way ANOVA from scipy
     assert result.f_statistic == pytest.approx(reference.statistic)

@@ -43,7 +43,9 @@ def test_polystyrene_offsets_per_band():
     refs = (620.9, 1001.4, 1031.8, 1602.3)  # ASTM E1840 (second-hand)
     x = np.linspace(500, 1700, 2400)
     y = sum(lorentzian(x, r + 0.3, 1000.0, 6.0) for r in refs)
-    check = wc.check_wavenumber_axis(x, y, reference_cm1=refs, tolerance_cm1=0.5, band_window_cm1=20)
+    check = wc.check_wavenumber_axis(
+        x, y, reference_cm1=refs, tolerance_cm1=0.5, band_window_cm1=20
+    )
     np.testing.assert_allclose([b.offset_cm1 for b in check.bands], 0.3, atol=0.05)
     assert check.passed and check.mean_offset_cm1 == pytest.approx(0.3, abs=0.05)
 
