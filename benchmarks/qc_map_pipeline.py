@@ -105,7 +105,8 @@ def main() -> None:
     print("| --- | --- | --- |")
     print(f"| analyse_qc_map wall time (best of 3) | {vector_s:.2f} s | < 1 s |")
     print(
-        f"| per-spectrum loop (asls + band metric), {subset} spectra timed, scaled ×{n_points / subset:g} "
+        f"| per-spectrum loop (asls + band metric), {subset} spectra timed, "
+        f"scaled ×{n_points / subset:g} "
         f"| {loop_s:.2f} s | — |"
     )
     print(f"| speed-up | {loop_s / vector_s:.1f}× | ≥ 10× |")
