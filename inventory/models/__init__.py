@@ -9,6 +9,7 @@ from .fabrication import (
     Substrate,
     TemplateAssembly,
 )
+from .fabrication_limits import DepositionTolerance
 from .materials import (
     CodeCounter,
     ReagentKind,
@@ -21,7 +22,8 @@ from .materials import (
 from .records import Dataset, DatasetFile, Flag, LineageEdge, StatusChange
 
 __all__ = [
-    "CodeCounter", "CodedRecord", "Dataset", "DatasetFile", "DepositionRun", "Flag",
+    "CodeCounter", "CodedRecord", "Dataset", "DatasetFile", "DepositionRun",
+    "DepositionTolerance", "Flag",
     "LifecycleRecord", "LineageEdge", "LinkerLayer", "NanoparticleBatch", "ParticleAttachment",
     "ReagentKind", "ReagentLot", "RecordKind", "ShelfLifeRule", "SphereLot", "StampedRecord",
     "Status", "StatusChange", "StorageLocation", "Substrate", "TemplateAssembly",

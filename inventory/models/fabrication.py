@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from django.db import models
-from django.db.models import Q
+from django.db.models import F, Q
 
 from .base import CodedRecord, LifecycleRecord
 
@@ -26,12 +26,24 @@ class TemplateAssembly(LifecycleRecord):
     method = models.CharField(max_length=24, choices=Method.choices)
     slide_area_cm2 = models.FloatField()
     coverage_percent = models.FloatField(null=True, blank=True)
+    # What the maker says was dispensed; the computed need is kept beside it, never over it.
     suspension_volume_uL = models.FloatField(null=True, blank=True)
     made_on = models.DateField()
+    # Figures from the sphere lot (qc.analysis.template_geometry), stored when assembled.
+    spheres_per_cm2 = models.FloatField(null=True, blank=True, editable=False)
+    sphere_density_g_cm3 = models.FloatField(null=True, blank=True, editable=False)
+    suspension_excess_factor = models.FloatField(null=True, blank=True, editable=False)
+    suspension_volume_computed_uL = models.FloatField(null=True, blank=True, editable=False)
 
     class Meta:
         constraints = [
             models.CheckConstraint(name="template_area_positive", condition=Q(slide_area_cm2__gt=0)),
+            models.CheckConstraint(name="template_suspension_volume_positive",
+                                   condition=Q(suspension_volume_uL__isnull=True)
+                                   | Q(suspension_volume_uL__gt=0)),
+            models.CheckConstraint(name="template_excess_factor_at_least_one",
+                                   condition=Q(suspension_excess_factor__isnull=True)
+                                   | Q(suspension_excess_factor__gte=1)),
             models.CheckConstraint(name="template_coverage_range",
                                    condition=Q(coverage_percent__isnull=True)
                                    | (Q(coverage_percent__gte=0) & Q(coverage_percent__lte=100))),
@@ -42,7 +54,8 @@ class DepositionRun(CodedRecord):
     """Electrodeposition through a template (or onto a flat base slide).
 
     The chronoamperogram is kept as uploaded; charge, film height and h/D are computed from
-    it by qc.analysis and stored beside the lab's target.
+    it by qc.analysis (inventory.services.deposition) and stored beside the lab's target,
+    with the sphere diameter, sign convention and time window that produced them.
     """
 
     CODE_PREFIX = "DEP"
@@ -50,6 +63,11 @@ class DepositionRun(CodedRecord):
     class Mode(models.TextChoices):
         POTENTIOSTATIC = "potentiostatic", "Constant potential"
         GALVANOSTATIC = "galvanostatic", "Constant current"
+
+    class CathodicSign(models.TextChoices):
+        NEGATIVE = "negative", "Cathodic current negative (IUPAC)"
+        POSITIVE = "positive", "Cathodic current positive"
+        AUTO = "auto", "Sign of the net charge taken as cathodic"
 
     template = models.ForeignKey("inventory.TemplateAssembly", null=True, blank=True,
                                  on_delete=models.PROTECT, related_name="deposition_runs")
@@ -68,12 +86,37 @@ class DepositionRun(CodedRecord):
     made_on = models.DateField()
     chronoamperogram = models.FileField(upload_to="chronoamperograms/", blank=True)
     chronoamperogram_sha256 = models.CharField(max_length=64, blank=True)
+    chronoamperogram_name = models.CharField(max_length=255, blank=True)
     charge_C = models.FloatField(null=True, blank=True, editable=False)
+    metal_volume_cm3 = models.FloatField(null=True, blank=True, editable=False)
+    equivalent_thickness_nm = models.FloatField(null=True, blank=True, editable=False)
     film_height_nm = models.FloatField(null=True, blank=True, editable=False)
     height_over_diameter = models.FloatField(null=True, blank=True, editable=False)
+    # The inputs the numbers above came from, so a page can say how they were obtained.
+    sphere_diameter_nm = models.FloatField(null=True, blank=True, editable=False)
+    cathodic_sign = models.CharField(max_length=8, choices=CathodicSign.choices, blank=True,
+                                     editable=False)
+    charge_start_s = models.FloatField(null=True, blank=True, editable=False)
+    charge_end_s = models.FloatField(null=True, blank=True, editable=False)
+    time_unit = models.CharField(max_length=8, blank=True, editable=False)
+    current_unit = models.CharField(max_length=8, blank=True, editable=False)
 
     class Meta:
         constraints = [
+            models.CheckConstraint(name="deposition_electrons_positive",
+                                   condition=Q(electrons_per_atom__gt=0)),
+            models.CheckConstraint(name="deposition_target_positive",
+                                   condition=Q(target_height_over_diameter__isnull=True)
+                                   | Q(target_height_over_diameter__gt=0)),
+            models.CheckConstraint(name="deposition_flat_film_has_no_ratio",
+                                   condition=Q(template__isnull=False)
+                                   | Q(height_over_diameter__isnull=True)),
+            models.CheckConstraint(name="deposition_charge_positive",
+                                   condition=Q(charge_C__isnull=True) | Q(charge_C__gt=0)),
+            models.CheckConstraint(name="deposition_window_ordered",
+                                   condition=Q(charge_start_s__isnull=True)
+                                   | Q(charge_end_s__isnull=True)
+                                   | Q(charge_end_s__gt=F("charge_start_s"))),
             models.CheckConstraint(name="deposition_area_positive",
                                    condition=Q(electrode_area_cm2__gt=0)),
             models.CheckConstraint(name="deposition_efficiency_fraction",

@@ -8,6 +8,13 @@ from typing import Sequence
 from django.db import transaction
 from django.utils import timezone
 
+from qc.analysis.errors import AnalysisInputError
+from qc.analysis.template_geometry import (
+    TYPICAL_SPHERE_DENSITY_G_CM3,
+    close_packed_spheres_per_cm2,
+    suspension_volume_for_monolayer,
+)
+
 from ..errors import refusal
 from ..lifecycle import check_usable
 from ..models import (
@@ -33,6 +40,7 @@ from ._common import (
     _require_not_future,
     _save_new,
 )
+from .deposition import _apply, _prepare, _require_known_metal
 from .lifecycle import record_transition
 
 
@@ -40,22 +48,59 @@ from .lifecycle import record_transition
 def template_assemble(
     *, actor: User | None, sphere_lot: SphereLot, base_slide_lot: ReagentLot, method: str,
     slide_area_cm2: float, made_on: date, coverage_percent: float | None = None,
-    suspension_volume_uL: float | None = None, storage: StorageLocation | None = None,
+    suspension_volume_uL: float | None = None, sphere_density_g_cm3: float | None = None,
+    suspension_excess_factor: float = 1.0, storage: StorageLocation | None = None,
     notes: str = "",
 ) -> TemplateAssembly:
+    """Record a sphere monolayer on a base slide, with its close-packed figures.
+
+    Spheres per cm² and the suspension volume one close-packed layer needs (times
+    ``suspension_excess_factor``) are computed from the sphere lot by
+    qc.analysis.template_geometry.  The density is the caller's, else the typical value for
+    the lot's material; with neither the volume is left blank.  A ``suspension_volume_uL``
+    the maker gives is kept as given; the computed one is stored beside it.
+    """
     _require_not_future(made_on, field="made_on")
     check_usable(sphere_lot, role="template spheres", on_date=made_on, field="sphere_lot")
     _require_kind(base_slide_lot, [ReagentKind.BASE_SLIDE], field="base_slide_lot")
     check_usable(base_slide_lot, role="a base slide", on_date=made_on, field="base_slide_lot")
+    figures = _template_figures(sphere_lot, slide_area_cm2=slide_area_cm2,
+                                sphere_density_g_cm3=sphere_density_g_cm3,
+                                excess_factor=suspension_excess_factor)
     template = _save_new(TemplateAssembly(
         sphere_lot=sphere_lot, base_slide_lot=base_slide_lot, method=method,
         slide_area_cm2=slide_area_cm2, coverage_percent=coverage_percent,
         suspension_volume_uL=suspension_volume_uL, made_on=made_on, storage=storage,
-        notes=notes,
+        notes=notes, **figures,
     ), actor=actor)
     _link([(sphere_lot, "spheres"), (base_slide_lot, "base slide")], template,
           used_on=made_on, actor=actor)
     return template
+
+
+def _template_figures(sphere_lot: SphereLot, *, slide_area_cm2: float,
+                      sphere_density_g_cm3: float | None, excess_factor: float) -> dict:
+    """Close-packed sphere density and suspension need, as TemplateAssembly field values."""
+    density = sphere_density_g_cm3
+    if density is None:
+        density = TYPICAL_SPHERE_DENSITY_G_CM3.get(sphere_lot.material)
+    try:
+        spheres_per_cm2 = close_packed_spheres_per_cm2(sphere_lot.nominal_diameter_nm)
+        need = None if density is None else suspension_volume_for_monolayer(
+            slide_area_cm2=slide_area_cm2, diameter_nm=sphere_lot.nominal_diameter_nm,
+            solids_percent_w_v=sphere_lot.solids_percent_w_v, sphere_density_g_cm3=density,
+            excess_factor=excess_factor)
+    except AnalysisInputError as error:
+        field = {"excess_factor": "suspension_excess_factor",
+                 "diameter_nm": "sphere_lot", "solids_percent_w_v": "sphere_lot"}.get(
+            error.field, error.field or "sphere_lot")
+        raise refusal(field, error.message, "bad_value") from None
+    return {
+        "spheres_per_cm2": spheres_per_cm2,
+        "sphere_density_g_cm3": density,
+        "suspension_excess_factor": None if need is None else need.excess_factor,
+        "suspension_volume_computed_uL": None if need is None else need.suspension_volume_uL,
+    }
 
 
 @transaction.atomic
@@ -66,13 +111,22 @@ def deposition_run_record(
     current_efficiency: float = 1.0, setpoint_potential_V: float | None = None,
     setpoint_current_mA: float | None = None, target_height_over_diameter: float | None = None,
     piece_area_cm2: float | None = None, storage: StorageLocation | None = None,
-    notes: str = "",
+    notes: str = "", chronoamperogram: tuple[str, bytes] | None = None,
+    time_unit: str | None = None, current_unit: str | None = None,
+    cathodic_sign: str = DepositionRun.CathodicSign.NEGATIVE, start_s: float | None = None,
+    end_s: float | None = None,
 ) -> tuple[DepositionRun, list[Substrate]]:
     """Record a deposition run and the ``pieces`` substrates it was cut into, atomically.
 
-    Through a template (which is consumed) or, without one, onto a flat base slide.
+    Through a template (which is consumed) or, without one, onto a flat base slide.  With
+    ``chronoamperogram=(filename, content)`` the file is analysed and its numbers stored
+    in the same transaction (see
+    :func:`inventory.services.deposition.deposition_run_attach_chronoamperogram`, whose
+    options the remaining keywords are): a bad file saves no run, no piece, and leaves the
+    template unconsumed.
     """
     _require_not_future(made_on, field="made_on")
+    _require_known_metal(metal)
     if (template is None) == (base_slide_lot is None):
         raise refusal("template", "Give either a template or, for a flat film, a base "
                                            "slide lot (not both).", "template_or_flat")
@@ -93,13 +147,18 @@ def deposition_run_record(
         _require_kind(base_slide_lot, [ReagentKind.BASE_SLIDE], field="base_slide_lot")
         check_usable(base_slide_lot, role="a base slide", on_date=made_on, field="base_slide_lot")
         inputs.append((base_slide_lot, "base slide"))
-    run = _save_new(DepositionRun(
+    run = DepositionRun(
         template=template, base_slide_lot=base_slide_lot, bath_lot=bath_lot, metal=metal,
         electrons_per_atom=electrons_per_atom, current_efficiency=current_efficiency, mode=mode,
         setpoint_potential_V=setpoint_potential_V, setpoint_current_mA=setpoint_current_mA,
         electrode_area_cm2=electrode_area_cm2,
         target_height_over_diameter=target_height_over_diameter, made_on=made_on, notes=notes,
-    ), actor=actor)
+    )
+    # Analyse the file before writing anything, so a bad file leaves nothing behind.
+    prepared = None if chronoamperogram is None else _prepare(
+        run, *chronoamperogram, time_unit=time_unit, current_unit=current_unit,
+        cathodic_sign=cathodic_sign, start_s=start_s, end_s=end_s)
+    run = _save_new(run, actor=actor)
     _link(inputs, run, used_on=made_on, actor=actor)
     if template is not None:
         record_transition(actor=actor, record=template, to_status=Status.CONSUMED,
@@ -115,6 +174,8 @@ def deposition_run_record(
         LineageEdge(parent_code=run.code, child_code=piece.code, role="cut from",
                     used_on=made_on, created_by=actor) for piece in substrates
     ])
+    if prepared is not None:
+        _apply(run, prepared, actor=actor)
     return run, substrates
 
 

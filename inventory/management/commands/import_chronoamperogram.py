@@ -1,0 +1,108 @@
+"""import_chronoamperogram RUN_ID FILE: attach a deposition record and print its numbers."""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+from django.contrib.auth import get_user_model
+from django.core.exceptions import ValidationError
+from django.core.management.base import BaseCommand, CommandError
+
+from inventory.models import DepositionRun
+from inventory.services.deposition import (
+    deposition_run_attach_chronoamperogram,
+    deposition_run_target_charge_C,
+)
+
+
+class Command(BaseCommand):
+    help = ("Attach a chronoamperogram to a deposition run, store its charge, film height and "
+            "h/D, and flag the run and its pieces if h/D is outside the lab's tolerance.")
+
+    def add_arguments(self, parser):
+        parser.add_argument("run", help="deposition run ID, e.g. DEP-00001")
+        parser.add_argument("file", help="the potentiostat's text export")
+        parser.add_argument("--time-unit", help="time unit if the header gives none (s, ms, min)")
+        parser.add_argument("--current-unit", help="current unit if the header gives none "
+                                                   "(A, mA, uA, nA)")
+        parser.add_argument("--cathodic-sign", default="negative",
+                            choices=[c.value for c in DepositionRun.CathodicSign],
+                            help="sign of deposition current in the file (default negative)")
+        parser.add_argument("--start-s", type=float, help="start of the charge window, s")
+        parser.add_argument("--end-s", type=float, help="end of the charge window, s")
+        parser.add_argument("--user", help="username recorded as the actor")
+        parser.add_argument("--json", action="store_true", help="print one JSON object")
+
+    def handle(self, *args, **options):
+        run = DepositionRun.objects.filter(code=options["run"]).first()
+        if run is None:
+            raise CommandError(f"No deposition run has the ID '{options['run']}'.")
+        path = Path(options["file"])
+        if not path.is_file():
+            raise CommandError(f"No such file: {path}")
+        try:
+            result = deposition_run_attach_chronoamperogram(
+                actor=self._actor(options["user"]), run=run, filename=path.name,
+                content=path.read_bytes(), time_unit=options["time_unit"],
+                current_unit=options["current_unit"], cathodic_sign=options["cathodic_sign"],
+                start_s=options["start_s"], end_s=options["end_s"])
+        except ValidationError as error:
+            raise CommandError(_sentences(error)) from None
+        summary = self._summary(result)
+        if options["json"]:
+            self.stdout.write(json.dumps(summary, indent=2))
+        else:
+            self._print(summary)
+
+    def _actor(self, username):
+        if username is None:
+            return None
+        user = get_user_model().objects.filter(username=username).first()
+        if user is None:
+            raise CommandError(f"No user is called '{username}'.")
+        return user
+
+    def _summary(self, result) -> dict:
+        run = result.run
+        tolerance = result.tolerance
+        return {
+            "run": run.code,
+            "file": run.chronoamperogram_name,
+            "sha256": run.chronoamperogram_sha256,
+            "unchanged": result.unchanged,
+            "charge_C": run.charge_C,
+            "metal_volume_cm3": run.metal_volume_cm3,
+            "equivalent_thickness_nm": run.equivalent_thickness_nm,
+            "film_height_nm": run.film_height_nm,
+            "height_over_diameter": run.height_over_diameter,
+            "target": run.target_height_over_diameter,
+            "target_charge_C": deposition_run_target_charge_C(run),
+            "deviation": result.deviation_height_over_diameter,
+            "tolerance": None if tolerance is None
+            else tolerance.max_abs_deviation_height_over_diameter,
+            "tolerance_source": None if tolerance is None else tolerance.source,
+            "flags": [{"code": f.code, "target": f.target_code, "message": f.message}
+                      for f in result.flags],
+            "notes": list(result.notes),
+        }
+
+    def _print(self, summary: dict) -> None:
+        self.stdout.write(f"{summary['run']}: {summary['file']}")
+        for key, label in (("charge_C", "charge, C"), ("target_charge_C", "target charge, C"),
+                           ("film_height_nm", "film height, nm"),
+                           ("height_over_diameter", "h/D"), ("target", "target h/D"),
+                           ("deviation", "deviation in h/D")):
+            value = summary[key]
+            self.stdout.write(f"  {label}: {'—' if value is None else f'{value:.4g}'}")
+        for note in summary["notes"]:
+            self.stdout.write(f"  {note}")
+        for flag in summary["flags"]:
+            self.stdout.write(f"  FLAG {flag['code']} on {flag['target']}")
+
+
+def _sentences(error: ValidationError) -> str:
+    if hasattr(error, "error_dict"):
+        return "; ".join(f"{field}: {' '.join(messages)}"
+                         for field, messages in error.message_dict.items())
+    return " ".join(error.messages)
