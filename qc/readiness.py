@@ -8,7 +8,7 @@ on or before the day checked, decides.  Two queries at most.
 
 from __future__ import annotations
 
-from inventory.readiness import Reason, ReadinessContext
+from inventory.readiness import ReadinessContext, Reason
 
 from .models.raman import QcLimitSet, QcMeasurement
 

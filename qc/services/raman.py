@@ -11,9 +11,10 @@ from __future__ import annotations
 
 import math
 import re
+from collections.abc import Sequence
 from dataclasses import dataclass
 from datetime import date
-from typing import Any, Sequence
+from typing import Any
 
 import numpy as np
 from django.core.files.base import ContentFile
@@ -36,7 +37,12 @@ from qc.analysis.errors import AnalysisInputError
 from qc.analysis.readers import decode_text, read_map, read_spectrum
 from qc.analysis.spectrum import RamanMap, Spectrum
 
-from ..models.raman import QcLimitSet, QcMeasurement, ReferenceAnalyte, ReferenceMeasurement
+from ..models.raman import (
+    QcLimitSet,
+    QcMeasurement,
+    ReferenceAnalyte,
+    ReferenceMeasurement,
+)
 
 __all__ = [
     "qc_limit_set_define", "qc_measurement_import", "reference_analyte_define",

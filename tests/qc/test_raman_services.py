@@ -61,7 +61,7 @@ def map_heights(mean, rsd, *, n=25, seed=1):
 
 
 def map_file(heights, *, seed=2, step_um=2.0) -> bytes:
-    side = int(round(np.sqrt(len(heights))))
+    side = round(np.sqrt(len(heights)))
     counts = synthetic_counts(heights, seed=seed)
     out = io.StringIO()
     out.write("x_um,y_um," + ",".join(f"{x:.1f}" for x in SHIFT_CM1) + "\n")
@@ -213,7 +213,7 @@ def test_failed_qc_flags_and_holds_a_released_substrate(world):
 
 def test_release_only_after_a_passing_latest_qc(world):
     chain = world.chain
-    run, (piece,) = chain.run(pieces=1)  # a quarantined film
+    _, (piece,) = chain.run(pieces=1)  # a quarantined film
     with pytest.raises(ValidationError) as missing:
         substrate_release(actor=chain.reviewer, substrate=piece)
     assert missing.value.error_dict["substrate"][0].code == "qc_missing"
@@ -358,7 +358,7 @@ def test_bad_values_are_refused_by_field_and_nothing_is_saved(world, override, f
 
 def test_a_failure_is_all_or_nothing_with_the_flag(world, monkeypatch):
     """If raising the flag fails, the measurement is not left behind (single transaction)."""
-    import qc.services.raman as raman
+    from qc.services import raman
 
     def broken(**kwargs):
         raise ValidationError({"message": "simulated"})

@@ -1,0 +1,120 @@
+"""import_qc SUBSTRATE_ID FILE: import a reference-analyte spectrum or map and judge it."""
+
+from __future__ import annotations
+
+import json
+from datetime import date
+from pathlib import Path
+
+from django.contrib.auth import get_user_model
+from django.core.exceptions import ValidationError
+from django.core.management.base import BaseCommand, CommandError
+from django.utils import timezone
+
+from inventory.models import Flag, ReagentLot, Substrate
+from qc.models import ReferenceMeasurement
+from qc.services import qc_measurement_import
+
+
+class Command(BaseCommand):
+    help = ("Import a reference-analyte Raman spectrum or map measured on a substrate: store "
+            "its band figures, enhancement factor and uniformity, judge them against the "
+            "lab's limits, and flag and hold the substrate if it fails.")
+
+    def add_arguments(self, parser):
+        parser.add_argument("substrate", help="substrate ID, e.g. SUB-00001")
+        parser.add_argument("file", help="two-column spectrum, JCAMP-DX or map file")
+        parser.add_argument("--analyte-lot", required=True, help="reagent lot ID, e.g. RGT-00011")
+        parser.add_argument("--laser-nm", type=float, required=True)
+        parser.add_argument("--power-mw", type=float, required=True,
+                            help="laser power at the sample, mW")
+        parser.add_argument("--integration-s", type=float, required=True,
+                            help="integration time per accumulation, s")
+        parser.add_argument("--accumulations", type=int, default=1)
+        parser.add_argument("--objective", default="")
+        parser.add_argument("--reference", help="reference measurement ID, e.g. REF-00001")
+        parser.add_argument("--measured-on", type=date.fromisoformat,
+                            help="ISO date (default today)")
+        parser.add_argument("--user", help="username recorded as the actor")
+        parser.add_argument("--json", action="store_true", help="print one JSON object")
+
+    def handle(self, *args, **options):
+        substrate = _get(Substrate, options["substrate"], "substrate")
+        lot = _get(ReagentLot, options["analyte_lot"], "reagent lot")
+        reference = _get(ReferenceMeasurement, options["reference"], "reference measurement") \
+            if options["reference"] else None
+        path = Path(options["file"])
+        if not path.is_file():
+            raise CommandError(f"No such file: {path}")
+        try:
+            measurement = qc_measurement_import(
+                actor=self._actor(options["user"]), substrate=substrate, analyte_lot=lot,
+                filename=path.name, content=path.read_bytes(),
+                measured_on=options["measured_on"] or timezone.localdate(),
+                laser_nm=options["laser_nm"], power_mW=options["power_mw"],
+                integration_s=options["integration_s"], accumulations=options["accumulations"],
+                objective=options["objective"], reference=reference)
+        except ValidationError as error:
+            raise CommandError(_sentences(error)) from None
+        summary = _summary(measurement)
+        if options["json"]:
+            self.stdout.write(json.dumps(summary, indent=2))
+        else:
+            self._print(summary)
+
+    def _actor(self, username):
+        if username is None:
+            return None
+        user = get_user_model().objects.filter(username=username).first()
+        if user is None:
+            raise CommandError(f"No user is called '{username}'.")
+        return user
+
+    def _print(self, summary: dict) -> None:
+        verdict = "PASS" if summary["passed"] else "FAIL"
+        self.stdout.write(f"{summary['measurement']} on {summary['substrate']}: {verdict}")
+        for key in ("band_position_cm1", "normalised_height_counts_per_mW_s", "snr",
+                    "rsd_percent", "fraction_within_20_percent", "enhancement_factor",
+                    "log10_enhancement_factor"):
+            value = summary[key]
+            self.stdout.write(f"  {key}: {'—' if value is None else f'{value:.4g}'}")
+        for reason in summary["failure_reasons"]:
+            self.stdout.write(f"  - {reason}")
+        for flag in summary["flags"]:
+            self.stdout.write(f"  FLAG {flag['code']} on {flag['target']}")
+
+
+def _get(model, code: str, what: str):
+    record = model.objects.filter(code=code.strip().upper()).first()
+    if record is None:
+        raise CommandError(f"No {what} has the ID '{code}'.")
+    return record
+
+
+def _summary(m) -> dict:
+    m.substrate.refresh_from_db()
+    flags = Flag.objects.filter(target_code=m.substrate.code, category="qc",
+                                state=Flag.State.OPEN, message__contains=m.code)
+    return {
+        "measurement": m.code, "substrate": m.substrate.code,
+        "substrate_status": m.substrate.status, "file": m.raw_filename, "sha256": m.raw_sha256,
+        "measured_on": m.measured_on.isoformat(), "is_map": m.is_map, "n_points": m.n_points,
+        "band_position_cm1": m.band_position_cm1, "band_fwhm_cm1": m.band_fwhm_cm1,
+        "normalised_height_counts_per_mW_s": m.normalised_height_counts_per_mW_s,
+        "snr": m.snr, "rsd_percent": m.rsd_percent,
+        "fraction_within_20_percent": m.fraction_within_20_percent,
+        "enhancement_factor": m.enhancement_factor,
+        "enhancement_factor_u": m.enhancement_factor_u,
+        "log10_enhancement_factor": m.log10_enhancement_factor,
+        "passed": m.passed, "failure_reasons": list(m.failure_reasons),
+        "limits": m.limits_used,
+        "flags": [{"code": f.code, "target": f.target_code, "message": f.message}
+                  for f in flags],
+    }
+
+
+def _sentences(error: ValidationError) -> str:
+    if hasattr(error, "error_dict"):
+        return "; ".join(f"{field}: {' '.join(messages)}"
+                         for field, messages in error.message_dict.items())
+    return " ".join(error.messages)
