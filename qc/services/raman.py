@@ -45,7 +45,7 @@ from ..models.raman import (
 )
 
 __all__ = [
-    "qc_limit_set_define", "qc_measurement_import", "reference_analyte_define",
+    "qc_judge", "qc_limit_set_define", "qc_measurement_import", "reference_analyte_define",
     "reference_measurement_import", "substrate_release",
 ]
 
