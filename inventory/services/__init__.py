@@ -31,10 +31,9 @@ from .materials import (
 from .records import dataset_register, flag_raise, flag_resolve, sha256_of
 
 __all__ = [
-    "deposition_run_attach_chronoamperogram", "deposition_run_check_target",
-    "deposition_run_target_charge_C", "deposition_tolerance_in_force",
-    "deposition_tolerance_set",
-    "dataset_register", "deposition_run_record", "flag_raise", "flag_resolve",
+    "dataset_register", "deposition_run_attach_chronoamperogram",
+    "deposition_run_check_target", "deposition_run_record", "deposition_run_target_charge_C",
+    "deposition_tolerance_in_force", "deposition_tolerance_set", "flag_raise", "flag_resolve",
     "linker_layer_apply", "nanoparticle_batch_make", "particle_attach", "reagent_lot_open",
     "reagent_lot_receive", "record_transition", "sha256_of", "shelf_life_rule_set",
     "sphere_lot_receive", "storage_location_create", "substrate_receive", "template_assemble",

@@ -144,8 +144,8 @@ def deposition_run_attach_chronoamperogram(
                 run=run, unchanged=True, analysis=None,
                 target_height_over_diameter=run.target_height_over_diameter,
                 deviation_height_over_diameter=_deviation(run), tolerance=None, flags=(),
-                notes=(f"{run.code} already holds this file ({run.chronoamperogram_name}, "
-                       f"sha256 {digest[:12]}…); nothing changed.",))
+                notes=((f"{run.code} already holds this file ({run.chronoamperogram_name}, "
+                        f"sha256 {digest[:12]}…); nothing changed."),))
         raise refusal(FILE_FIELD, f"{run.code} already holds {run.chronoamperogram_name} "
                                   f"(sha256 {run.chronoamperogram_sha256[:12]}…); its numbers "
                                   "come from that file, so a different one is not accepted.",
@@ -275,8 +275,8 @@ def _compare_and_flag(run: DepositionRun, analysis: DepositionAnalysis, *,
             deviation_height_over_diameter=None, tolerance=None, flags=(),
             notes=(f"Not compared with a target: {why}.",))
     tolerance = deposition_tolerance_in_force(run.metal)
-    notes = [f"Tolerance ±{tolerance.max_abs_deviation_height_over_diameter:g} on h/D, "
-             f"from {tolerance.source}."]
+    notes = [(f"Tolerance ±{tolerance.max_abs_deviation_height_over_diameter:g} on h/D, "
+              f"from {tolerance.source}.")]
     flags: list[Flag] = []
     if abs(deviation) > tolerance.max_abs_deviation_height_over_diameter:
         sentence = (f"film height h/D = {run.height_over_diameter:.3f} is {deviation:+.3f} "
