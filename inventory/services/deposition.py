@@ -182,8 +182,14 @@ def _prepare(run: DepositionRun, filename: str, content: bytes, *, time_unit, cu
 
 def _apply(run: DepositionRun, prepared: _Prepared, *, actor) -> ChronoamperogramAttachment:
     """Store a prepared upload on a saved run and flag it if off target."""
-    _store(run, prepared, actor=actor)
-    return _compare_and_flag(run, prepared.analysis, actor=actor)
+    try:
+        _store(run, prepared, actor=actor)
+        return _compare_and_flag(run, prepared.analysis, actor=actor)
+    except Exception:
+        # The transaction rolls the rows back; the stored file must go with them.
+        if run.chronoamperogram:
+            run.chronoamperogram.delete(save=False)
+        raise
 
 
 def _clean_filename(filename: str) -> str:

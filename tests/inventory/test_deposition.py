@@ -371,3 +371,20 @@ def test_inventory_migrations_match_the_models():
         check=False, cwd=root, capture_output=True, text=True, timeout=120,
         env={**os.environ, "DJANGO_SETTINGS_MODULE": "config.settings.test"})
     assert completed.returncode == 0, completed.stdout + completed.stderr
+
+
+def test_a_failure_after_the_file_is_written_removes_the_file(chain, run, monkeypatch):
+    from inventory.services import deposition
+
+    def refuse(*args, **kwargs):
+        raise ValidationError({"message": "refused for the test"})
+
+    monkeypatch.setattr(deposition, "flag_raise", refuse)
+    storage = DepositionRun._meta.get_field("chronoamperogram").storage
+    before = _counts()
+    name = f"orphan-check-{run.code}.txt"  # a name no other test stores
+    with pytest.raises(ValidationError):
+        chain.s.deposition_run_attach_chronoamperogram(
+            actor=chain.maker, run=run, filename=name, content=OFF_TARGET.read_bytes())
+    assert _counts() == before
+    assert not storage.exists(f"chronoamperograms/{name}")
