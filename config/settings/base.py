@@ -98,4 +98,6 @@ SERSLEDGER_MAX_UPLOAD_BYTES = 50 * 1024 * 1024
 
 # Extra readiness reasons contributed by other apps, as dotted paths to callables
 # ``provider(substrate, ancestry) -> list[Reason]``.  Inventory never imports them directly.
-SERSLEDGER_READINESS_PROVIDERS: list[str] = []
+SERSLEDGER_READINESS_PROVIDERS = [
+    "qc.readiness.qc_reasons",
+]

@@ -10,7 +10,9 @@ from inventory.demo import (
     demo_is_loaded,
     load_inventory_demo,
 )
+from inventory.demo_deposition import load_deposition_demo
 from qc.demo_colloid import load_colloid_demo
+from qc.demo_raman import load_raman_demo
 
 
 class Command(BaseCommand):
@@ -23,7 +25,9 @@ class Command(BaseCommand):
         with transaction.atomic():
             scenario = load_inventory_demo()
             apply_rule_correction(scenario)
+            load_deposition_demo(scenario)
             load_colloid_demo(scenario)
+            load_raman_demo(scenario)
         self.stdout.write(self.style.SUCCESS(f"Loaded the demo scenario: {DEMO_LAB}."))
         self.stdout.write("Demo sign-in (demo only): rin.okafor (maker), tomas.lind (reviewer), "
                           f"lab.admin (administrator); password '{DEMO_PASSWORD}'.")
