@@ -51,3 +51,9 @@ class ReadOnlyLogAdmin(admin.ModelAdmin):
 
     def has_delete_permission(self, request, obj=None):
         return False
+
+
+@admin.register(models.DepositionTolerance)
+class DepositionToleranceAdmin(admin.ModelAdmin):
+    def has_delete_permission(self, request, obj=None):
+        return False

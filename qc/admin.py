@@ -21,3 +21,21 @@ class UvVisRecordAdmin(admin.ModelAdmin):
 class ColloidSettingsAdmin(admin.ModelAdmin):
     def has_delete_permission(self, request, obj=None):
         return False
+
+
+@admin.register(models.QcMeasurement, models.ReferenceMeasurement)
+class RamanMeasurementAdmin(admin.ModelAdmin):
+    list_display = ("code", "measured_on")
+    search_fields = ("code",)
+
+    def has_change_permission(self, request, obj=None):
+        return False  # computed from the uploaded file; re-import instead
+
+    def has_delete_permission(self, request, obj=None):
+        return False
+
+
+@admin.register(models.QcLimitSet, models.ReferenceAnalyte)
+class RamanSettingsAdmin(admin.ModelAdmin):
+    def has_delete_permission(self, request, obj=None):
+        return False
