@@ -5,10 +5,10 @@ from __future__ import annotations
 import json
 from pathlib import Path
 
-from django.contrib.auth import get_user_model
 from django.core.exceptions import ValidationError
 from django.core.management.base import BaseCommand, CommandError
 
+from inventory.management.cli import refusal_sentences, user_for_command
 from inventory.models import DepositionRun
 from inventory.services.deposition import (
     deposition_run_attach_chronoamperogram,
@@ -43,25 +43,18 @@ class Command(BaseCommand):
             raise CommandError(f"No such file: {path}")
         try:
             result = deposition_run_attach_chronoamperogram(
-                actor=self._actor(options["user"]), run=run, filename=path.name,
+                actor=user_for_command(options["user"]), run=run, filename=path.name,
                 content=path.read_bytes(), time_unit=options["time_unit"],
                 current_unit=options["current_unit"], cathodic_sign=options["cathodic_sign"],
                 start_s=options["start_s"], end_s=options["end_s"])
         except ValidationError as error:
-            raise CommandError(_sentences(error)) from None
+            raise CommandError(refusal_sentences(error)) from None
         summary = self._summary(result)
         if options["json"]:
             self.stdout.write(json.dumps(summary, indent=2))
         else:
             self._print(summary)
 
-    def _actor(self, username):
-        if username is None:
-            return None
-        user = get_user_model().objects.filter(username=username).first()
-        if user is None:
-            raise CommandError(f"No user is called '{username}'.")
-        return user
 
     def _summary(self, result) -> dict:
         run = result.run
@@ -101,8 +94,3 @@ class Command(BaseCommand):
             self.stdout.write(f"  FLAG {flag['code']} on {flag['target']}")
 
 
-def _sentences(error: ValidationError) -> str:
-    if hasattr(error, "error_dict"):
-        return "; ".join(f"{field}: {' '.join(messages)}"
-                         for field, messages in error.message_dict.items())
-    return " ".join(error.messages)

@@ -6,11 +6,11 @@ import json
 from datetime import date
 from pathlib import Path
 
-from django.contrib.auth import get_user_model
 from django.core.exceptions import ValidationError
 from django.core.management.base import BaseCommand, CommandError
 from django.utils import timezone
 
+from inventory.management.cli import refusal_sentences, user_for_command
 from inventory.models import Flag, ReagentLot, Substrate
 from qc.models import ReferenceMeasurement
 from qc.services import qc_measurement_import
@@ -48,27 +48,20 @@ class Command(BaseCommand):
             raise CommandError(f"No such file: {path}")
         try:
             measurement = qc_measurement_import(
-                actor=self._actor(options["user"]), substrate=substrate, analyte_lot=lot,
+                actor=user_for_command(options["user"]), substrate=substrate, analyte_lot=lot,
                 filename=path.name, content=path.read_bytes(),
                 measured_on=options["measured_on"] or timezone.localdate(),
                 laser_nm=options["laser_nm"], power_mW=options["power_mw"],
                 integration_s=options["integration_s"], accumulations=options["accumulations"],
                 objective=options["objective"], reference=reference)
         except ValidationError as error:
-            raise CommandError(_sentences(error)) from None
+            raise CommandError(refusal_sentences(error)) from None
         summary = _summary(measurement)
         if options["json"]:
             self.stdout.write(json.dumps(summary, indent=2))
         else:
             self._print(summary)
 
-    def _actor(self, username):
-        if username is None:
-            return None
-        user = get_user_model().objects.filter(username=username).first()
-        if user is None:
-            raise CommandError(f"No user is called '{username}'.")
-        return user
 
     def _print(self, summary: dict) -> None:
         verdict = "PASS" if summary["passed"] else "FAIL"
@@ -113,8 +106,3 @@ def _summary(m) -> dict:
     }
 
 
-def _sentences(error: ValidationError) -> str:
-    if hasattr(error, "error_dict"):
-        return "; ".join(f"{field}: {' '.join(messages)}"
-                         for field, messages in error.message_dict.items())
-    return " ".join(error.messages)
