@@ -135,7 +135,7 @@ def deposition_run_attach_chronoamperogram(
     ``ValidationError`` keyed by the parameter at fault or by ``chronoamperogram`` (with
     the file line), and nothing is saved.
     """
-    run = DepositionRun.objects.select_for_update().select_related(
+    run = DepositionRun.objects.select_for_update(of=("self",)).select_related(
         "template__sphere_lot").get(pk=run.pk)
     digest = sha256_of(content)
     if run.chronoamperogram_sha256:
