@@ -6,8 +6,8 @@ Run from the repository root::
     .venv/bin/python benchmarks/generate_lab.py --db postgres --scale 1
 
 ``--scale 1`` is about five years of a lab with several instruments: 100,000 substrates from
-25,000 deposition runs, 20,000 colloid batches, 50,000 datasets, ~10,000 reagent lots and
-~500,000 lineage edges.  Every name, number and date is invented.  The database is dropped
+25,000 deposition runs, 20,000 colloid batches, 50,000 datasets, 200,000 Raman QC
+measurements (when the qc models exist), ~10,000 reagent lots and ~500,000 lineage edges.  Every name, number and date is invented.  The database is dropped
 and rebuilt each time: SQLite in ``benchmarks/out/lab.sqlite3`` (git-ignored) or the
 PostgreSQL database ``sersledger_bench`` on 127.0.0.1.  It never touches the lab's own
 database.
@@ -496,6 +496,52 @@ class LabGenerator:
             rows.append(flag)
         self.insert("flag", Flag, rows)
 
+    def qc_measurements(self) -> None:
+        """Two Raman QC measurements per substrate (200,000 at scale 1), numbers invented."""
+        from django.apps import apps
+
+        from inventory.models import ReagentLot
+
+        if not apps.get_app_config("qc").models.get("qcmeasurement"):
+            return
+        from qc.models import QcLimitSet, QcMeasurement, ReferenceAnalyte
+
+        analyte = ReferenceAnalyte(id=1, name="Invented thiol analyte", band_positions_cm1=[1075.0],
+                                   band_positions_source="Invented for benchmarks",
+                                   qc_band_cm1=1075.0, surface_density_per_nm2=6.8,
+                                   surface_density_source="Invented for benchmarks")
+        self.insert("referenceanalyte", ReferenceAnalyte, [analyte])
+        lot_id = len(self.lots) + 1
+        lot = ReagentLot(id=lot_id, code=f"RGT-{lot_id:05d}", name="Invented analyte",
+                         kind="reference_analyte", received_on=self.day(0), status="released")
+        self.insert("reagentlot", ReagentLot, [lot])
+        limits = {stage: QcLimitSet(id=i + 1, product_kind=stage, analyte_id=1, min_snr=10.0,
+                                    band_position_tolerance_cm1=5.0, valid_days=30,
+                                    is_example=True, rationale="Invented benchmark value.")
+                  for i, stage in enumerate(["film", "linker", "particles", "purchased"])}
+        self.insert("qclimitset", QcLimitSet, list(limits.values()))
+        per_substrate = 2
+        n_rows = len(self.pieces) * per_substrate
+        heights = self.rng.lognormal(np.log(50.0), 0.3, size=n_rows)
+        snrs = self.rng.uniform(5.0, 80.0, size=n_rows)
+        rows = []
+        for i in range(n_rows):
+            piece = self.pieces[i // per_substrate]
+            code = f"QCM-{i + 1:05d}"
+            rows.append(QcMeasurement(
+                id=i + 1, code=code, analyte_id=1, analyte_lot_id=lot_id,
+                measured_on=min(piece.made_on + timedelta(days=1 + i % per_substrate), self.today),
+                raw_file=f"qc/raman/{code}.txt", raw_filename=f"{code}.txt",
+                raw_sha256=f"{i:064x}", laser_nm=785.0, power_mW=5.0, integration_s=1.0,
+                band_center_cm1=1075.0, band_window_cm1=40.0, band_position_cm1=1075.5,
+                band_fwhm_cm1=12.0, normalised_height_counts_per_mW_s=float(heights[i]),
+                normalised_area_counts_cm1_per_mW_s=float(heights[i]) * 15.0,
+                snr=float(snrs[i]), substrate_id=piece.id, limit_set_id=limits[piece.stage].id,
+                product_kind=piece.stage, passed=bool(snrs[i] >= 10.0),
+                failure_reasons=[] if snrs[i] >= 10.0 else ["snr below the limit"]))
+            self.stamp(rows[-1], self.user_ids, i)
+        self.insert("qcmeasurement", QcMeasurement, rows)
+
     def lineage(self) -> None:
         from inventory.models import LineageEdge
 
@@ -529,7 +575,7 @@ class LabGenerator:
     def run(self) -> None:
         steps = [self.users_and_places, self.shelf_life_rules, self.plan, self.reagents,
                  self.spheres_and_templates, self.runs_and_pieces, self.colloids,
-                 self.linkers_and_particles, self.datasets, self.flags, self.lineage,
+                 self.linkers_and_particles, self.datasets, self.flags, self.qc_measurements, self.lineage,
                  self.counters_and_sequences]
         for step in steps:
             start = time.perf_counter()
