@@ -30,7 +30,7 @@ import json
 import os
 import sys
 import time
-from datetime import date, datetime, timedelta, timezone as dt_timezone
+from datetime import UTC, date, datetime, timedelta
 from pathlib import Path
 
 import numpy as np
@@ -112,11 +112,11 @@ class LabGenerator:
         self.timings: dict[str, float] = {}
         self.counts: dict[str, int] = {}
         self.edges: list = []
-        self.now = datetime.now(dt_timezone.utc)
+        self.now = datetime.now(UTC)
 
     # -- helpers -----------------------------------------------------------------------------
     def n(self, full_size: int, minimum: int = 2) -> int:
-        return max(minimum, int(round(full_size * self.scale)))
+        return max(minimum, round(full_size * self.scale))
 
     def day(self, offset: int) -> date:
         """Day ``offset`` of the history (0 = five years ago, HISTORY_DAYS = today)."""
@@ -615,7 +615,7 @@ def main(argv: list[str] | None = None) -> dict:
     summary = {"db": args.db, "scale": args.scale, "today": generator.today.isoformat(),
                "seconds_total": round(seconds, 1), "rows": generator.counts,
                "seconds_per_table": {k: round(v, 2) for k, v in generator.timings.items()},
-               "generated_at": datetime.now(dt_timezone.utc).isoformat(timespec="seconds")}
+               "generated_at": datetime.now(UTC).isoformat(timespec="seconds")}
     (OUT_DIR / f"generate-{args.db}.json").write_text(json.dumps(summary, indent=2))
     print(f"Done in {seconds:.1f} s: {sum(generator.counts.values()):,} rows", flush=True)
     return summary

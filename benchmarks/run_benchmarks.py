@@ -28,7 +28,7 @@ from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 
-from generate_lab import OUT_DIR, configure_django  # noqa: E402
+from generate_lab import OUT_DIR, configure_django
 
 TARGETS_MS = {"readiness": 20.0, "lineage": 50.0, "list": 300.0}
 
@@ -216,8 +216,8 @@ def report() -> str:
                          f"{ops[f'naive {label}']['queries']} vs {ops[label]['queries']} queries "
                          f"(scale {big['scale']:g}).")
         lines += ["", f"Sizes at scale {big['scale']:g}: {big['sizes']}; probes: {big['probes']}.",
-                  f"Generation at scale {big['scale']:g}: {big['generation']['seconds_total']} s "
-                  f"for {sum(big['generation']['rows'].values()):,} rows.", ""]
+                  (f"Generation at scale {big['scale']:g}: {big['generation']['seconds_total']} s "
+                  f"for {sum(big['generation']['rows'].values()):,} rows."), ""]
     return "\n".join(lines)
 
 
