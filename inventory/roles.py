@@ -1,0 +1,50 @@
+"""The four roles of DESIGN §7 as Django groups, and the one question ``user_has_role``.
+
+Roles are cumulative: a reviewer may do what a maker does, an administrator what a reviewer
+does.  A superuser holds every role.  The groups are created by ``ensure_role_groups()``
+(idempotent), which a data migration or the demo loader calls.
+"""
+
+from __future__ import annotations
+
+from django.contrib.auth.models import Group
+
+VIEWER = "viewer"
+MAKER = "maker"
+REVIEWER = "reviewer"
+ADMINISTRATOR = "administrator"
+
+# Lowest first: each role includes the ones before it.
+ROLES: tuple[str, ...] = (VIEWER, MAKER, REVIEWER, ADMINISTRATOR)
+
+ROLE_DUTIES = {
+    VIEWER: "reads records, readiness, lineage and flags",
+    MAKER: "records lots, fabrication steps and instrument files; raises flags",
+    REVIEWER: "releases, rejects and holds records; resolves flags",
+    ADMINISTRATOR: "edits the lab's limits and shelf-life rules",
+}
+
+
+def ensure_role_groups() -> list[Group]:
+    """Create the four role groups if missing; returns them lowest first."""
+    return [Group.objects.get_or_create(name=name)[0] for name in ROLES]
+
+
+def roles_of(user) -> set[str]:
+    """Every role ``user`` holds, including those implied by a higher one."""
+    if user is None or not user.is_authenticated or not user.is_active:
+        return set()
+    if user.is_superuser:
+        return set(ROLES)
+    held = set(user.groups.filter(name__in=ROLES).values_list("name", flat=True))
+    if not held:
+        return set()
+    highest = max(ROLES.index(name) for name in held)
+    return set(ROLES[: highest + 1])
+
+
+def user_has_role(user, role: str) -> bool:
+    """True when ``user`` holds ``role`` or a higher one."""
+    if role not in ROLES:
+        raise ValueError(f"Unknown role '{role}'; roles are {', '.join(ROLES)}.")
+    return role in roles_of(user)
