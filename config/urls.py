@@ -6,5 +6,7 @@ urlpatterns = [
     path("admin/", admin.site.urls),
     path("accounts/login/", auth_views.LoginView.as_view(), name="login"),
     path("accounts/logout/", auth_views.LogoutView.as_view(), name="logout"),
+    path("api/v1/", include("inventory.api.urls")),
+    path("", include("qc.urls")),
     path("", include("inventory.urls")),
 ]

@@ -8,6 +8,7 @@ does.  A superuser holds every role.  The groups are created by ``ensure_role_gr
 from __future__ import annotations
 
 from django.contrib.auth.models import Group
+from django.core.exceptions import PermissionDenied
 
 VIEWER = "viewer"
 MAKER = "maker"
@@ -48,3 +49,17 @@ def user_has_role(user, role: str) -> bool:
     if role not in ROLES:
         raise ValueError(f"Unknown role '{role}'; roles are {', '.join(ROLES)}.")
     return role in roles_of(user)
+
+
+def require_role(user, role: str, *, action: str) -> None:
+    """Refuse ``action`` unless ``user`` holds ``role``: the one check services, pages and API share.
+
+    Raises Django's ``PermissionDenied`` (HTTP 403 in pages and API) naming the action and
+    the role it needs.  ``user=None`` stands for the system itself (data migrations, the demo
+    loader) and is allowed.
+    """
+    if user is None:
+        return
+    if not user_has_role(user, role):
+        raise PermissionDenied(f"{action} needs the {role} role; "
+                               f"{user.get_username()} holds {', '.join(sorted(roles_of(user))) or 'none'}.")

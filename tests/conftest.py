@@ -18,14 +18,45 @@ def today(monkeypatch):
     return TODAY
 
 
+# Passwords of the role fixtures, for tests that re-enter them (signatures, login).
+PASSWORDS = {
+    "viewer": "pw-viewer-123456",
+    "maker": "pw-maker-123456",
+    "reviewer": "pw-review-123456",
+    "administrator": "pw-admin-123456",
+}
+
+
+def user_with_role(django_user_model, role: str, username: str | None = None):
+    """A user holding ``role`` (and, roles being cumulative, every role below it)."""
+    from django.contrib.auth.models import Group
+
+    from inventory.roles import ensure_role_groups
+
+    ensure_role_groups()
+    user = django_user_model.objects.create_user(username or role, password=PASSWORDS[role])
+    user.groups.add(Group.objects.get(name=role))
+    return user
+
+
+@pytest.fixture
+def viewer(django_user_model):
+    return user_with_role(django_user_model, "viewer")
+
+
 @pytest.fixture
 def maker(django_user_model):
-    return django_user_model.objects.create_user("maker", password="pw-maker-123456")
+    return user_with_role(django_user_model, "maker")
 
 
 @pytest.fixture
 def reviewer(django_user_model):
-    return django_user_model.objects.create_user("reviewer", password="pw-review-123456")
+    return user_with_role(django_user_model, "reviewer")
+
+
+@pytest.fixture
+def administrator(django_user_model):
+    return user_with_role(django_user_model, "administrator")
 
 
 class ChainBuilder:

@@ -20,6 +20,11 @@ INSTALLED_APPS = [
     "django.contrib.sessions",
     "django.contrib.messages",
     "django.contrib.staticfiles",
+    "rest_framework",
+    "rest_framework.authtoken",
+    "django_filters",
+    "drf_spectacular",
+    "simple_history",
     "inventory",
     "qc",
 ]
@@ -32,6 +37,8 @@ MIDDLEWARE = [
     "django.contrib.auth.middleware.AuthenticationMiddleware",
     "django.contrib.messages.middleware.MessageMiddleware",
     "django.middleware.clickjacking.XFrameOptionsMiddleware",
+    # Puts request.user on every history row written during a request.
+    "simple_history.middleware.HistoryRequestMiddleware",
 ]
 
 ROOT_URLCONF = "config.urls"
@@ -101,3 +108,28 @@ SERSLEDGER_MAX_UPLOAD_BYTES = 50 * 1024 * 1024
 SERSLEDGER_READINESS_PROVIDERS = [
     "qc.readiness.qc_reasons",
 ]
+
+# The API (inventory/api, qc/api): token for scripts and instruments, session for the browser.
+REST_FRAMEWORK = {
+    "DEFAULT_AUTHENTICATION_CLASSES": [
+        "rest_framework.authentication.TokenAuthentication",
+        "rest_framework.authentication.SessionAuthentication",
+    ],
+    "DEFAULT_PERMISSION_CLASSES": ["rest_framework.permissions.IsAuthenticated"],
+    "DEFAULT_FILTER_BACKENDS": [
+        "django_filters.rest_framework.DjangoFilterBackend",
+        "rest_framework.filters.SearchFilter",
+        "rest_framework.filters.OrderingFilter",
+    ],
+    "DEFAULT_PAGINATION_CLASS": "rest_framework.pagination.PageNumberPagination",
+    "PAGE_SIZE": 50,
+    "DEFAULT_SCHEMA_CLASS": "drf_spectacular.openapi.AutoSchema",
+}
+
+SPECTACULAR_SETTINGS = {
+    "TITLE": "sersledger API",
+    "DESCRIPTION": "Records, readiness, lineage and QC results of a SERS substrate laboratory. "
+                   "Every quantity carries its unit in its field name.",
+    "VERSION": "1",
+    "SERVE_INCLUDE_SCHEMA": False,
+}

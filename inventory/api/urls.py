@@ -1,0 +1,3 @@
+"""API routes, mounted at /api/v1/ by config/urls.py."""
+
+urlpatterns: list = []
