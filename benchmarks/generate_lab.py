@@ -171,12 +171,22 @@ class LabGenerator:
                  for i in range(self.n(24, 3))]
         self.insert("auth_user", User, users)
         self.user_ids = [u.id for u in users]
+        self.roles(users)
         kinds = [k for k, _ in StorageLocation.Kind.choices]
         places = [StorageLocation(id=i + 1, code=f"LOC-{i + 1:05d}", name=f"Invented place {i + 1}",
                                   kind=kinds[i % len(kinds)], room=f"Room {100 + i % 7}")
                   for i in range(self.n(40, 4))]
         self.insert("storagelocation", StorageLocation, places)
         self.place_ids = np.array([p.id for p in places])
+
+    def roles(self, users) -> None:
+        """bench01 administrator (the runner's user), two reviewers, a viewer, the rest makers."""
+        from inventory.roles import ADMINISTRATOR, MAKER, REVIEWER, VIEWER, ensure_role_groups
+
+        groups = {g.name: g for g in ensure_role_groups()}
+        for i, user in enumerate(users):
+            role = ADMINISTRATOR if i == 0 else REVIEWER if i < 3 else VIEWER if i == 3 else MAKER
+            user.groups.add(groups[role])
 
     def shelf_life_rules(self) -> None:
         from inventory.models import ShelfLifeRule

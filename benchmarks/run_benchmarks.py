@@ -24,31 +24,37 @@ import statistics
 import sys
 import time
 from collections import deque
+from itertools import pairwise
 from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 
 from generate_lab import OUT_DIR, configure_django
 
-TARGETS_MS = {"readiness": 20.0, "lineage": 50.0, "list": 300.0}
+# Issue targets at the largest scale; API requests are held to the list-page target.
+TARGETS_MS = {"readiness": 20.0, "lineage": 50.0, "list": 300.0, "api": 300.0}
 
 
-def timed(call, repeat: int) -> dict:
-    """Median and spread of ``repeat`` calls after two warm-up calls, and one call's queries.
+def count_queries(call) -> int:
+    """SQL statements of one call, counted by a connection execute wrapper.
 
-    The SQL statements of one call are counted with a connection execute wrapper (the test
-    client resets ``CaptureQueriesContext``'s log at each request start).
+    A wrapper rather than CaptureQueriesContext: the test client resets the query log at each
+    request start, which would hide a page's queries.
     """
     from django.db import connection
 
-    call()
-    call()
     queries = []
-    # A wrapper rather than CaptureQueriesContext: the test client resets the query log at
-    # each request start, which would hide a page's queries.
     with connection.execute_wrapper(lambda execute, sql, *rest: queries.append(sql)
                                     or execute(sql, *rest)):
         call()
+    return len(queries)
+
+
+def timed(call, repeat: int) -> dict:
+    """Median and spread of ``repeat`` calls after two warm-up calls, and one call's queries."""
+    call()
+    call()
+    queries = count_queries(call)
     samples = []
     for _ in range(repeat):
         start = time.perf_counter()
@@ -56,7 +62,7 @@ def timed(call, repeat: int) -> dict:
         samples.append((time.perf_counter() - start) * 1000.0)
     return {"median_ms": round(statistics.median(samples), 3),
             "min_ms": round(min(samples), 3), "max_ms": round(max(samples), 3),
-            "queries": len(queries), "repeat": repeat}
+            "queries": queries, "repeat": repeat}
 
 
 def naive_lineage(code: str, direction: str) -> dict:
@@ -89,31 +95,69 @@ def probes() -> dict:
     spheres = SphereLot.objects.order_by("received_on", "code")
     sphere = spheres[spheres.count() // 2]
     return {"substrate": substrate.code, "dataset": dataset.code, "sphere_lot": sphere.code,
+            "substrates": Substrate.objects.count(),
             "released_substrates": Substrate.objects.filter(status=Status.RELEASED).count(),
             "open_flags": Flag.objects.filter(state="open").count()}
 
 
-def measure(repeat: int) -> dict:
+def _client(token: str | None = None, user=None):
+    """A test client logged in as ``user`` (pages) or carrying an API ``token``."""
+    from django.test import Client
+
+    client = Client(headers={"authorization": f"Token {token}"} if token else None)
+    if user is not None:
+        client.force_login(user)
+    return client
+
+
+def _url(name: str, *args, query: str = "") -> str | None:
+    """The path of a named page, or None while no such page exists (reported as absent)."""
+    from django.urls import NoReverseMatch, reverse
+
+    try:
+        return reverse(name, args=args) + query
+    except NoReverseMatch:
+        return None
+
+
+def _api_path(path: str) -> str | None:
+    """``path`` if the API answers it (it resolves), else None (reported as absent)."""
+    from django.urls import Resolver404, resolve
+
+    try:
+        resolve(path.split("?")[0])
+        return path
+    except Resolver404:
+        return None
+
+
+def _get(client, path: str):
+    def get():
+        response = client.get(path)
+        if response.status_code != 200:
+            raise PageFailed(f"GET {path} answered HTTP {response.status_code}")
+        return response
+    return get
+
+
+class PageFailed(Exception):
+    """A page or API call that exists but did not answer 200: recorded, exit status 1."""
+
+
+def operations(chosen: dict) -> dict:
+    """Every measured operation: name -> (kind, callable or None when the URL is absent)."""
     from django.contrib.auth.models import User
     from django.core.paginator import Paginator
-    from django.test import Client
-    from django.urls import Resolver404, resolve
+    from rest_framework.authtoken.models import Token
 
     from inventory.lineage import record_get_ancestors, record_get_descendants
     from inventory.models import Status, Substrate
     from inventory.readiness import substrate_check_readiness
     from inventory.selectors import records_expiring_within
 
-    chosen = probes()
-    client = Client()
-    client.force_login(User.objects.order_by("id").first())
-
-    def page(url: str):
-        def get():
-            response = client.get(url)
-            assert response.status_code == 200, (url, response.status_code)
-            return response
-        return get
+    user = User.objects.get(username="bench01")
+    pages = _client(user=user)
+    api = _client(token=Token.objects.get_or_create(user=user)[0].key)
 
     def released_page(number: int):
         def get():
@@ -121,9 +165,17 @@ def measure(repeat: int) -> dict:
             return list(Paginator(rows, 50).page(number).object_list)
         return get
 
+    def page(path: str | None):
+        return _get(pages, path) if path else None
+
+    def api_get(path: str):
+        found = _api_path(path)
+        return _get(api, found) if found else None
+
     deep_page = max(1, chosen["released_substrates"] // 50 // 2)
+    api_page = max(1, chosen["substrates"] // 50 // 2)
     sub, ds, sph = chosen["substrate"], chosen["dataset"], chosen["sphere_lot"]
-    ops = {
+    return {
         "readiness (service)": ("readiness", lambda: substrate_check_readiness(sub)),
         "ancestors of a dataset": ("lineage", lambda: record_get_ancestors(ds)),
         "descendants of a sphere lot": ("lineage", lambda: record_get_descendants(sph)),
@@ -132,25 +184,71 @@ def measure(repeat: int) -> dict:
         "expiring within 14 days": ("list", lambda: records_expiring_within(14)),
         "released substrates, page 1 of 50": ("list", released_page(1)),
         f"released substrates, page {deep_page} of 50": ("list", released_page(deep_page)),
-        "home page (logged in)": ("list", page("/")),
-        "readiness page": ("list", page(f"/check/?code={sub}")),
-        "record page of the substrate": ("list", page(f"/r/{sub}/")),
+        "home page (dashboard)": ("list", page(_url("home"))),
+        "stock page": ("list", page(_url("stock"))),
+        "review page (QC queue)": ("list", page(_url("review"))),
+        "readiness page": ("list", page(_url("readiness", query=f"?code={sub}"))),
+        "record page of the substrate": ("list", page(_url("record", sub))),
+        "API substrate detail": ("api", api_get(f"/api/v1/substrates/{sub}/")),
+        "API substrate readiness": ("readiness", api_get(f"/api/v1/substrates/{sub}/readiness/")),
+        "API substrate list, page 1": ("api", api_get("/api/v1/substrates/?page=1")),
+        f"API substrate list, page {api_page}": ("api", api_get(f"/api/v1/substrates/?page={api_page}")),
+        "API substrates filtered by status=released": (
+            "api", api_get("/api/v1/substrates/?status=released")),
+        "API ancestors of a dataset": (
+            "api", api_get(f"/api/v1/records/{ds}/lineage/?direction=ancestors")),
+        "API expiring within 14 days": ("api", api_get("/api/v1/expiring/?days=14")),
     }
-    try:
-        resolve("/api/")
-        api = True
-    except Resolver404:
-        api = False
-    results = {}
-    for name, (kind, call) in ops.items():
-        results[name] = {"kind": kind, **timed(call, repeat)}
-        print(f"  {name:<40} {results[name]['median_ms']:9.2f} ms "
+
+
+def depth_ladder(dataset: str) -> list[dict]:
+    """Ancestors of one record at each depth of the dataset's chain, with their query counts.
+
+    The lineage query count should be one for the edges plus one per record kind reached;
+    ``queries - kinds`` must therefore be the same at every depth (checked by ``compare``).
+    """
+    from inventory.codes import prefix_of
+    from inventory.lineage import record_get_ancestors
+
+    top = record_get_ancestors(dataset)
+    by_depth = {}
+    for code in top.codes():
+        by_depth.setdefault(top.depth[code], code)
+    ladder = []
+    for code in [dataset, *by_depth.values()]:
+        lineage = record_get_ancestors(code)
+        queries = count_queries(lambda code=code: record_get_ancestors(code))
+        ladder.append({"code": code, "depth": max(lineage.depth.values(), default=0),
+                       "kinds": len({prefix_of(c) for c in lineage.depth}), "queries": queries})
+    return ladder
+
+
+def measure(repeat: int) -> dict:
+    from inventory.lineage import record_get_ancestors, record_get_descendants
+    from inventory.selectors import records_expiring_within
+
+    chosen = probes()
+    results, failures = {}, []
+    for name, (kind, call) in operations(chosen).items():
+        if call is None:
+            results[name] = {"kind": kind, "absent": True}
+            print(f"  {name:<44} absent (no such page or API route yet)", flush=True)
+            continue
+        try:
+            results[name] = {"kind": kind, **timed(call, repeat)}
+        except PageFailed as failure:
+            failures.append(str(failure))
+            results[name] = {"kind": kind, "failed": str(failure)}
+            print(f"  {name:<44} FAILED: {failure}", flush=True)
+            continue
+        print(f"  {name:<44} {results[name]['median_ms']:9.2f} ms "
               f"{results[name]['queries']:5d} queries", flush=True)
-    sizes = {"ancestors": len(record_get_ancestors(ds).depth),
-             "ancestor_depth": max(record_get_ancestors(ds).depth.values()),
-             "descendants": len(record_get_descendants(sph).depth),
+    sizes = {"ancestors": len(record_get_ancestors(chosen["dataset"]).depth),
+             "ancestor_depth": max(record_get_ancestors(chosen["dataset"]).depth.values()),
+             "descendants": len(record_get_descendants(chosen["sphere_lot"]).depth),
              "expiring_rows": len(records_expiring_within(14))}
-    return {"probes": chosen, "sizes": sizes, "api_present": api, "operations": results}
+    return {"probes": chosen, "sizes": sizes, "operations": results, "failures": failures,
+            "depth_ladder": depth_ladder(chosen["dataset"])}
 
 
 def machine() -> dict:
@@ -166,32 +264,84 @@ def machine() -> dict:
             "python": platform.python_version()}
 
 
-def run(db: str, repeat: int) -> Path:
+def loadavg() -> str:
+    return " ".join(Path("/proc/loadavg").read_text().split()[:3])
+
+
+def run(db: str, repeat: int) -> list[str]:
+    """Measure, save, and return the problems: failed calls and query counts that grow."""
     configure_django(db)
     from django.db import connection
 
     summary = json.loads((OUT_DIR / f"generate-{db}.json").read_text())
     print(f"Measuring {db} at scale {summary['scale']} ({connection.vendor} "
-          f"{connection.Database.__name__})", flush=True)
+          f"{connection.Database.__name__}), load {loadavg()}", flush=True)
     result = {"db": db, "scale": summary["scale"], "generation": summary,
-              "machine": machine(), "measured_at": time.strftime("%Y-%m-%d %H:%M UTC", time.gmtime()),
-              **measure(repeat)}
+              "machine": machine(), "loadavg_before": loadavg(),
+              "measured_at": time.strftime("%Y-%m-%d %H:%M UTC", time.gmtime()),
+              **measure(repeat), "loadavg_after": loadavg()}
     path = OUT_DIR / f"results-{db}-{summary['scale']:g}.json"
     path.write_text(json.dumps(result, indent=2))
-    print(f"Saved {path}")
-    return path
+    print(f"Saved {path}; load {result['loadavg_after']}")
+    return result["failures"] + compare(saved_results())
 
 
-def _verdict(kind: str, median_ms: float) -> str:
+def saved_results() -> list[dict]:
+    return [json.loads(p.read_text()) for p in sorted(OUT_DIR.glob("results-*.json"))]
+
+
+def _same_operation(operations: dict, name: str) -> dict | None:
+    """``name`` in another run, or the same family (``page 1`` for ``page 44``) if absent."""
+    return operations.get(name) or next(
+        (v for k, v in operations.items() if k.split(",")[0] == name.split(",")[0]), None)
+
+
+def compare(results: list[dict]) -> list[str]:
+    """Query counts that grow with data size (between saved scales) or with lineage depth.
+
+    Naive walks are the reference and are expected to grow; every product operation must
+    issue no more queries at the larger scale than at the smaller, and the lineage query
+    count minus the record kinds reached must be the same at every depth.
+    """
+    problems = []
+    for db in ("sqlite", "postgres"):
+        runs = sorted((r for r in results if r["db"] == db), key=lambda r: r["scale"])
+        for small, big in pairwise(runs):
+            for name, op in big["operations"].items():
+                other = _same_operation(small["operations"], name)
+                if op["kind"] == "naive" or "queries" not in op or not other \
+                        or "queries" not in other:
+                    continue
+                if op["queries"] > other["queries"]:
+                    problems.append(f"{db}: {name} issues {op['queries']} queries at scale "
+                                    f"{big['scale']:g} but {other['queries']} at "
+                                    f"{small['scale']:g}")
+        for r in runs:
+            extra = {step["queries"] - step["kinds"] for step in r.get("depth_ladder", [])}
+            if len(extra) > 1:
+                problems.append(f"{db} scale {r['scale']:g}: lineage queries beyond one per "
+                                f"record kind vary with depth: {r['depth_ladder']}")
+    return problems
+
+
+def _verdict(kind: str, op: dict) -> str:
     target = TARGETS_MS.get(kind)
-    if target is None:
+    if target is None or "median_ms" not in op:
         return ""
-    return f"< {target:g} ms: {'met' if median_ms < target else 'MISSED'}"
+    return f"< {target:g} ms: {'met' if op['median_ms'] < target else 'MISSED'}"
+
+
+def _cell(op: dict | None) -> str:
+    if op is None or op.get("absent"):
+        return "not measured (absent)"
+    if "failed" in op:
+        return f"FAILED ({op['failed']})"
+    return f"{op['median_ms']:.2f} / {op['queries']}"
 
 
 def report() -> str:
     """One markdown table per database: each operation's median and queries at every scale."""
-    results = [json.loads(p.read_text()) for p in sorted(OUT_DIR.glob("results-*.json"))]
+    results = saved_results()
     lines = []
     for db in ("sqlite", "postgres"):
         runs = sorted((r for r in results if r["db"] == db), key=lambda r: r["scale"])
@@ -199,25 +349,27 @@ def report() -> str:
             continue
         big = runs[-1]
         header = " | ".join(f"scale {r['scale']:g}: ms / queries" for r in runs)
-        lines += [f"### {db}", "", f"| operation | {header} | target (largest scale) |",
+        lines += [f"#### {db}", "", f"| operation | {header} | target (largest scale) |",
                   "|---|" + "---|" * len(runs) + "---|"]
         for name, op in big["operations"].items():
-            cells = []
-            for r in runs:
-                other = r["operations"].get(name) or next(
-                    (v for k, v in r["operations"].items()
-                     if k.split(",")[0] == name.split(",")[0]), None)
-                cells.append(f"{other['median_ms']:.2f} / {other['queries']}" if other else "–")
-            lines.append(f"| {name} | {' | '.join(cells)} | {_verdict(op['kind'], op['median_ms'])} |")
+            cells = " | ".join(_cell(_same_operation(r["operations"], name)) for r in runs)
+            lines.append(f"| {name} | {cells} | {_verdict(op['kind'], op)} |")
         ops = big["operations"]
         for label in ("ancestors of a dataset", "descendants of a sphere lot"):
             ratio = ops[f"naive {label}"]["median_ms"] / ops[label]["median_ms"]
             lines.append(f"\nNaive walk / product, {label}: {ratio:.1f}x slower, "
                          f"{ops[f'naive {label}']['queries']} vs {ops[label]['queries']} queries "
                          f"(scale {big['scale']:g}).")
+        ladder = ", ".join(f"depth {s['depth']}: {s['queries']} queries / {s['kinds']} kinds"
+                           for s in big["depth_ladder"])
+        lines += ["", f"Lineage queries by depth (scale {big['scale']:g}): {ladder}.", ""]
+        for r in runs:
+            lines.append(f"- scale {r['scale']:g}: measured {r['measured_at']}, load "
+                         f"{r.get('loadavg_before', '?')} → {r.get('loadavg_after', '?')} "
+                         f"(/proc/loadavg 1, 5, 15 min)")
         lines += ["", f"Sizes at scale {big['scale']:g}: {big['sizes']}; probes: {big['probes']}.",
                   (f"Generation at scale {big['scale']:g}: {big['generation']['seconds_total']} s "
-                  f"for {sum(big['generation']['rows'].values()):,} rows."), ""]
+                   f"for {sum(big['generation']['rows'].values()):,} rows."), ""]
     return "\n".join(lines)
 
 
@@ -225,14 +377,20 @@ def main(argv: list[str] | None = None) -> None:
     parser = argparse.ArgumentParser(description=__doc__.split("\n\n")[0])
     parser.add_argument("--db", choices=["sqlite", "postgres"])
     parser.add_argument("--repeat", type=int, default=25)
-    parser.add_argument("--report", action="store_true", help="print markdown from saved results")
+    parser.add_argument("--report", action="store_true",
+                        help="print markdown from saved results (and check their query counts)")
     args = parser.parse_args(argv)
     if args.report:
         print(report())
+        problems = compare(saved_results())
     elif args.db:
-        run(args.db, args.repeat)
+        problems = run(args.db, args.repeat)
     else:
         parser.error("give --db or --report")
+    for problem in problems:
+        print(f"FAIL: {problem}", file=sys.stderr)
+    if problems:
+        sys.exit(1)
 
 
 if __name__ == "__main__":
