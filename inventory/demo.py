@@ -12,6 +12,7 @@ from dataclasses import dataclass, field
 from datetime import date, timedelta
 
 from django.contrib.auth import get_user_model
+from django.contrib.auth.models import Group
 from django.db import transaction
 from django.utils import timezone
 
@@ -24,6 +25,7 @@ from .models import (
     StorageLocation,
     Substrate,
 )
+from .roles import ROLES, ensure_role_groups
 
 DEMO_LAB = "Harbour Lane Surface Optics (invented demo lab)"
 DEMO_PASSWORD = "demo-bench-2026"
@@ -47,6 +49,8 @@ def demo_is_loaded() -> bool:
 
 
 def _users() -> dict:
+    """The demo's people, each in the role group their work needs (admin is a superuser)."""
+    ensure_role_groups()
     User = get_user_model()
     people = {
         "maker": ("rin.okafor", "Rin", "Okafor", False),
@@ -61,6 +65,8 @@ def _users() -> dict:
         if created:
             user.set_password(DEMO_PASSWORD)
             user.save()
+        if role in ROLES:
+            user.groups.add(Group.objects.get(name=role))
         users[role] = user
     return users
 

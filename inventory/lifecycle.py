@@ -38,15 +38,21 @@ def check_transition(record, to_status: str, reason: str) -> None:
 
 
 def check_usable(record, *, role: str, on_date: date, field: str) -> None:
-    """Refuse a rejected, disposed, consumed or expired input to a new step.
+    """Refuse a voided, rejected, disposed, consumed or expired input to a new step.
 
-    The status and expiry are re-read under a row lock, so a caller holding a stale copy
-    (or a reviewer rejecting the lot at the same moment) cannot slip an unusable input in.
+    The status, expiry and void are re-read under a row lock, so a caller holding a stale
+    copy (or a reviewer rejecting the lot at the same moment) cannot slip an unusable input in.
     """
-    if hasattr(record, "status"):
+    columns = [name for name in ("status", "expires_on", "voided_at", "void_reason")
+               if hasattr(record, name)]
+    if columns:
         current = (type(record).objects.select_for_update().filter(pk=record.pk)
-                   .values("status", "expires_on").get())
-        record.status, record.expires_on = current["status"], current["expires_on"]
+                   .values(*columns).get())
+        for name, value in current.items():
+            setattr(record, name, value)
+    if getattr(record, "voided_at", None) is not None:
+        raise refusal(field, f"{record.code} cannot be used as {role}: it was voided "
+                             f"({record.void_reason}).", "input_voided")
     status = getattr(record, "status", None)
     if status in UNUSABLE_STATUSES:
         raise refusal(field, f"{record.code} cannot be used as {role}: it is {status}.", "input_unusable")

@@ -140,10 +140,21 @@ def _upstream_reasons(context: ReadinessContext) -> list[Reason]:
     return reasons
 
 
+def _void_reasons(context: ReadinessContext) -> list[Reason]:
+    """A voided substrate, or one made from a voided record, is not ready (nor usable)."""
+    reasons = []
+    for record in [context.substrate, *context.ancestry.records.values()]:
+        if getattr(record, "voided_at", None) is not None:
+            where = "" if record.code == context.substrate.code else "Upstream "
+            reasons.append(Reason("voided", f"{where}{record._meta.verbose_name} {record.code} "
+                                            f"was voided: {record.void_reason}", record.code))
+    return reasons
+
+
 def _flag_reasons(context: ReadinessContext) -> list[Reason]:
     codes = [context.substrate.code, *context.ancestry.depth]
-    open_flags = Flag.objects.filter(target_code__in=codes, state=Flag.State.OPEN) \
-        .order_by("target_code", "code")
+    open_flags = Flag.objects.filter(target_code__in=codes, state=Flag.State.OPEN,
+                                     voided_at__isnull=True).order_by("target_code", "code")
     reasons = []
     for flag in open_flags:
         where = "this substrate" if flag.target_code == context.substrate.code \
@@ -176,6 +187,7 @@ def substrate_check_readiness(code: str, *, on_date: date | None = None) -> Read
                                ancestry=record_get_ancestors(record))
     rules = rules_by_scope()
     reasons = [
+        *_void_reasons(context),
         *_status_reasons(record),
         *_expiry_reasons(record, on_date),
         *_linker_reasons(context, rules),

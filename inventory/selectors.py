@@ -3,15 +3,18 @@
 from __future__ import annotations
 
 from dataclasses import dataclass
-from datetime import date, timedelta
+from datetime import date, datetime, timedelta
+from typing import Any
 
 from django.apps import apps
 from django.utils import timezone
 
+from .codes import record_get
 from .lineage import Lineage, record_get_ancestors, record_get_descendants  # noqa: F401
-from .models import LifecycleRecord, Status
+from .models import CodedRecord, LifecycleRecord, Signature, Status
 from .readiness import Readiness, substrate_check_readiness  # noqa: F401
 from .shelf_life import LIFECYCLE_KINDS
+from .signatures import record_content_digest
 
 ACTIVE_STATUSES = (Status.QUARANTINE, Status.RELEASED)
 
@@ -47,3 +50,90 @@ def records_expiring_within(days: int, *, on_date: date | None = None,
         items.extend(ExpiringItem(record, record.expires_on, (record.expires_on - on_date).days)
                      for record in rows.order_by("expires_on", "code"))
     return sorted(items, key=lambda item: (item.expires_on, item.record.code))
+
+
+# ---------------------------------------------------------------------------------------
+# Audit reads: history and signatures
+# ---------------------------------------------------------------------------------------
+
+# Bookkeeping every save touches; the history shows what a person changed.
+_HISTORY_NOISE = ("updated_at", "updated_by", "version")
+_HISTORY_KINDS = {"+": "created", "~": "changed", "-": "deleted"}
+
+
+@dataclass(frozen=True)
+class FieldChange:
+    field: str
+    label: str
+    old: Any
+    new: Any
+
+
+@dataclass(frozen=True)
+class HistoryEntry:
+    """One create or change of a record: when, who, what changed (old and new) and why."""
+
+    when: datetime
+    who: str  # username, or "system" for the demo loader and data migrations
+    kind: str  # "created" or "changed"
+    version: int
+    changes: tuple[FieldChange, ...]
+    reason: str
+
+
+def _as_record(record_or_code) -> CodedRecord:
+    return record_get(record_or_code) if isinstance(record_or_code, str) else record_or_code
+
+
+def _shown(field, value) -> Any:
+    """Related rows by code (people by username), so the history reads like the pages."""
+    if value is None or not field.is_relation:
+        return value
+    related = field.related_model._default_manager.filter(pk=value).first()
+    if related is None:
+        return value
+    return getattr(related, "code", None) or getattr(related, "get_username", lambda: value)()
+
+
+def record_get_history(record) -> list[HistoryEntry]:
+    """Every create and change of ``record`` (or its code), newest first, with reasons.
+
+    One query for the history rows, plus one per changed link to another record.
+    """
+    record = _as_record(record)
+    rows = list(record.history.select_related("history_user").order_by("history_date",
+                                                                          "history_id"))
+    entries: list[HistoryEntry] = []
+    previous = None
+    for row in rows:
+        changes: tuple[FieldChange, ...] = ()
+        if previous is not None:
+            delta = row.diff_against(previous, excluded_fields=_HISTORY_NOISE)
+            changes = tuple(
+                FieldChange(change.field, str(type(record)._meta.get_field(change.field)
+                                              .verbose_name),
+                            _shown(type(record)._meta.get_field(change.field), change.old),
+                            _shown(type(record)._meta.get_field(change.field), change.new))
+                for change in delta.changes)
+        who = row.history_user.get_username() if row.history_user else "system"
+        entries.append(HistoryEntry(when=row.history_date, who=who,
+                                    kind=_HISTORY_KINDS.get(row.history_type, "changed"),
+                                    version=row.version, changes=changes,
+                                    reason=row.history_change_reason or ""))
+        previous = row
+    return entries[::-1]
+
+
+def record_get_signatures(record) -> list[Signature]:
+    """The electronic signatures on ``record`` (or its code), oldest first.
+
+    Each row carries ``content_matches``: whether the record still holds exactly the content
+    that was signed (False once it was amended after signing).
+    """
+    record = record_get(record if isinstance(record, str) else record.code)  # fresh content
+    signatures = list(Signature.objects.filter(record_code=record.code).select_related("signer"))
+    if signatures:
+        digest = record_content_digest(record)[1]
+        for signature in signatures:
+            signature.content_matches = signature.content_sha256 == digest
+    return signatures

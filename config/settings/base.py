@@ -109,6 +109,15 @@ SERSLEDGER_READINESS_PROVIDERS = [
     "qc.readiness.qc_reasons",
 ]
 
+# Extra rules a release must pass, as dotted paths to ``check(record) -> note or None``
+# that raise ValidationError to refuse (inventory.services.record_release).
+SERSLEDGER_RELEASE_CHECKS = [
+    "qc.services.raman.substrate_release_check",
+]
+
+# A maker may not release (sign off) a record they made; a one-person lab can allow it.
+SERSLEDGER_ALLOW_SELF_RELEASE = False
+
 # The API (inventory/api, qc/api): token for scripts and instruments, session for the browser.
 REST_FRAMEWORK = {
     "DEFAULT_AUTHENTICATION_CLASSES": [

@@ -1,5 +1,6 @@
 """Inventory records, split by topic; import them from here."""
 
+from .audit import Signature
 from .base import CodedRecord, LifecycleRecord, StampedRecord, Status
 from .fabrication import (
     DepositionRun,
@@ -25,6 +26,6 @@ __all__ = [
     "CodeCounter", "CodedRecord", "Dataset", "DatasetFile", "DepositionRun",
     "DepositionTolerance", "Flag",
     "LifecycleRecord", "LineageEdge", "LinkerLayer", "NanoparticleBatch", "ParticleAttachment",
-    "ReagentKind", "ReagentLot", "RecordKind", "ShelfLifeRule", "SphereLot", "StampedRecord",
+    "ReagentKind", "ReagentLot", "RecordKind", "ShelfLifeRule", "Signature", "SphereLot", "StampedRecord",
     "Status", "StatusChange", "StorageLocation", "Substrate", "TemplateAssembly",
 ]

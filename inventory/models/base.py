@@ -6,6 +6,7 @@ from typing import ClassVar
 
 from django.conf import settings
 from django.db import models
+from simple_history.models import HistoricalRecords
 
 
 class Status(models.TextChoices):
@@ -32,6 +33,9 @@ class StampedRecord(models.Model):
         related_name="+",
     )
     version = models.PositiveIntegerField(default=1, editable=False)
+    # Every create and change of every concrete subclass, with who, when and the reason
+    # (django-simple-history; read through inventory.selectors.record_get_history).
+    history = HistoricalRecords(inherit=True)
 
     class Meta:
         abstract = True
@@ -48,9 +52,21 @@ class CodedRecord(StampedRecord):
 
     code = models.CharField(max_length=24, unique=True, editable=False)
     notes = models.TextField(blank=True)
+    # Nothing is deleted: a record made in error is voided with a reason (record_void) and
+    # stays in lineage and history, but is no longer usable or ready.
+    voided_at = models.DateTimeField(null=True, blank=True, editable=False)
+    voided_by = models.ForeignKey(
+        settings.AUTH_USER_MODEL, null=True, blank=True, on_delete=models.PROTECT,
+        related_name="+", editable=False,
+    )
+    void_reason = models.TextField(blank=True, editable=False)
 
     class Meta:
         abstract = True
+
+    @property
+    def is_voided(self) -> bool:
+        return self.voided_at is not None
 
     def __str__(self) -> str:
         return self.code

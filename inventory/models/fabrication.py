@@ -36,6 +36,9 @@ class TemplateAssembly(LifecycleRecord):
     suspension_volume_computed_uL = models.FloatField(null=True, blank=True, editable=False)
 
     class Meta:
+        # The expiry list filters active statuses and a date horizon (records_expiring_within).
+        indexes = [models.Index(fields=["status", "expires_on"],
+                                name="template_status_expiry")]
         constraints = [
             models.CheckConstraint(name="template_area_positive", condition=Q(slide_area_cm2__gt=0)),
             models.CheckConstraint(name="template_suspension_volume_positive",
@@ -149,6 +152,9 @@ class Substrate(LifecycleRecord):
     made_on = models.DateField()
 
     class Meta:
+        # The expiry list filters active statuses and a date horizon (records_expiring_within).
+        indexes = [models.Index(fields=["status", "expires_on"],
+                                name="substrate_status_expiry")]
         constraints = [
             models.CheckConstraint(name="substrate_from_run_or_purchase",
                                    condition=Q(deposition_run__isnull=False)
@@ -200,6 +206,9 @@ class NanoparticleBatch(LifecycleRecord):
                                          related_name="nanoparticle_batches")
 
     class Meta:
+        # The expiry list filters active statuses and a date horizon (records_expiring_within).
+        indexes = [models.Index(fields=["status", "expires_on"],
+                                name="colloid_status_expiry")]
         verbose_name_plural = "nanoparticle batches"
         constraints = [
             models.CheckConstraint(name="colloid_volume_positive", condition=Q(volume_mL__gt=0)),

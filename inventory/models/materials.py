@@ -67,6 +67,9 @@ class ReagentLot(LifecycleRecord):
                                            related_name="used_to_prepare")
 
     class Meta:
+        # The expiry list filters active statuses and a date horizon (records_expiring_within).
+        indexes = [models.Index(fields=["status", "expires_on"],
+                                name="reagentlot_status_expiry")]
         constraints = [
             models.CheckConstraint(
                 name="reagent_received_or_prepared",
@@ -112,6 +115,9 @@ class SphereLot(LifecycleRecord):
     volume_mL = models.FloatField(null=True, blank=True)
 
     class Meta:
+        # The expiry list filters active statuses and a date horizon (records_expiring_within).
+        indexes = [models.Index(fields=["status", "expires_on"],
+                                name="spherelot_status_expiry")]
         constraints = [
             models.CheckConstraint(name="sphere_diameter_positive",
                                    condition=Q(nominal_diameter_nm__gt=0)),

@@ -5,6 +5,7 @@ the same way everywhere.  Errors are ``ValidationError`` keyed by field with a s
 Split by topic; import from ``inventory.services``.
 """
 
+from .audit import amendable_fields, record_amend, record_reject, record_release, record_void
 from .deposition import (
     deposition_run_attach_chronoamperogram,
     deposition_run_check_target,
@@ -31,10 +32,30 @@ from .materials import (
 from .records import dataset_register, flag_raise, flag_resolve, sha256_of
 
 __all__ = [
-    "dataset_register", "deposition_run_attach_chronoamperogram",
-    "deposition_run_check_target", "deposition_run_record", "deposition_run_target_charge_C",
-    "deposition_tolerance_in_force", "deposition_tolerance_set", "flag_raise", "flag_resolve",
-    "linker_layer_apply", "nanoparticle_batch_make", "particle_attach", "reagent_lot_open",
-    "reagent_lot_receive", "record_transition", "sha256_of", "shelf_life_rule_set",
-    "sphere_lot_receive", "storage_location_create", "substrate_receive", "template_assemble",
+    "amendable_fields",
+    "dataset_register",
+    "deposition_run_attach_chronoamperogram",
+    "deposition_run_check_target",
+    "deposition_run_record",
+    "deposition_run_target_charge_C",
+    "deposition_tolerance_in_force",
+    "deposition_tolerance_set",
+    "flag_raise",
+    "flag_resolve",
+    "linker_layer_apply",
+    "nanoparticle_batch_make",
+    "particle_attach",
+    "reagent_lot_open",
+    "reagent_lot_receive",
+    "record_amend",
+    "record_reject",
+    "record_release",
+    "record_transition",
+    "record_void",
+    "sha256_of",
+    "shelf_life_rule_set",
+    "sphere_lot_receive",
+    "storage_location_create",
+    "substrate_receive",
+    "template_assemble",
 ]

@@ -17,17 +17,29 @@ from ..models import (
     LineageEdge,
     ReagentKind,
     ReagentLot,
+    StampedRecord,
     Substrate,
 )
 from ..shelf_life import refresh_expiry
 
 User = AbstractBaseUser
 
+
 def _today() -> date:
     return timezone.localdate()
 
 
-def _save_new(record: CodedRecord, *, actor: User | None) -> CodedRecord:
+def _stamp_history(record: StampedRecord, *, actor: User | None, reason: str) -> None:
+    """Who and why for the history row this save writes (django-simple-history).
+
+    Set on the instance so pages, API, commands and the demo all record the actor, not
+    only requests that pass through the history middleware.
+    """
+    record._history_user = actor
+    record._change_reason = reason or None
+
+
+def _save_new(record: CodedRecord, *, actor: User | None, reason: str = "") -> CodedRecord:
     """Give ``record`` its code, check every field and constraint, and insert it."""
     record.code = code_next(record.CODE_PREFIX)
     record.created_by = actor
@@ -35,16 +47,19 @@ def _save_new(record: CodedRecord, *, actor: User | None) -> CodedRecord:
     if isinstance(record, LifecycleRecord):
         refresh_expiry(record)
     record.full_clean()
+    _stamp_history(record, actor=actor, reason=reason)
     record.save()
     return record
 
 
-def _save_changed(record: CodedRecord, *, actor: User | None) -> None:
+def _save_changed(record: StampedRecord, *, actor: User | None, reason: str = "") -> None:
+    """Save a change with a new version; the history row keeps who, when and ``reason``."""
     record.updated_by = actor
     record.version += 1
     if isinstance(record, LifecycleRecord):
         refresh_expiry(record)
     record.full_clean()
+    _stamp_history(record, actor=actor, reason=reason)
     record.save()
 
 

@@ -1,22 +1,75 @@
-"""Lifecycle transitions of material records."""
+"""Lifecycle transitions of material records, and who may make each one."""
 
 from __future__ import annotations
 
+from django.conf import settings
 from django.db import transaction
 
+from ..errors import refusal
 from ..lifecycle import check_transition
-from ..models import LifecycleRecord, StatusChange
+from ..models import LifecycleRecord, Status, StatusChange
+from ..roles import MAKER, REVIEWER, require_role
 from ._common import User, _save_changed
+
+# Release, reject and hold are decisions about quality; using up or disposing is bench work.
+ROLE_FOR_STATUS = {
+    Status.RELEASED: REVIEWER,
+    Status.REJECTED: REVIEWER,
+    Status.QUARANTINE: REVIEWER,
+    Status.CONSUMED: MAKER,
+    Status.DISPOSED: MAKER,
+}
+
+
+def check_not_self_release(actor: User | None, record: LifecycleRecord) -> None:
+    """A maker may not release what they made unless the lab's setting allows it."""
+    if actor is None or getattr(settings, "SERSLEDGER_ALLOW_SELF_RELEASE", False):
+        return
+    if record.created_by_id is not None and record.created_by_id == actor.pk:
+        raise refusal("record", f"{actor.get_username()} made {record.code}; a second person "
+                                "must release it (SERSLEDGER_ALLOW_SELF_RELEASE is off).",
+                      "self_release")
+
+
+def check_not_voided(record) -> None:
+    if getattr(record, "voided_at", None) is not None:
+        raise refusal("record", f"{record.code} was voided ({record.void_reason}); it cannot "
+                                "be changed.", "voided")
+
+
+def _transition(locked: LifecycleRecord, to_status: str, *, reason: str,
+                actor: User | None) -> LifecycleRecord:
+    """Apply a checked transition to a row the caller holds locked; no role check.
+
+    For services that move a record as a consequence of work the actor may do (a failed
+    QC import holds the substrate it measured; plating consumes the template).
+    """
+    check_transition(locked, to_status, reason)
+    StatusChange.objects.create(record_code=locked.code, from_status=locked.status,
+                                to_status=to_status, reason=reason, changed_by=actor)
+    locked.status = to_status
+    _save_changed(locked, actor=actor, reason=reason or f"status: {to_status}")
+    return locked
+
+
+def lock(record):
+    """The current row of ``record``, locked until the transaction ends."""
+    return type(record).objects.select_for_update().get(pk=record.pk)
 
 
 @transaction.atomic
 def record_transition(*, actor: User | None, record: LifecycleRecord, to_status: str,
                       reason: str = "") -> LifecycleRecord:
-    """Move a record through its lifecycle, refusing illegal moves; keeps a StatusChange."""
-    locked = type(record).objects.select_for_update().get(pk=record.pk)
-    check_transition(locked, to_status, reason)
-    StatusChange.objects.create(record_code=locked.code, from_status=locked.status,
-                                to_status=to_status, reason=reason, changed_by=actor)
-    locked.status = to_status
-    _save_changed(locked, actor=actor)
-    return locked
+    """Move a record through its lifecycle, refusing illegal moves; keeps a StatusChange.
+
+    Unsigned: pages and the API release and reject through ``record_release`` and
+    ``record_reject`` (electronic signatures); this is for holds, consumption, disposal,
+    the system (``actor=None``) and tests.
+    """
+    role = ROLE_FOR_STATUS.get(to_status, REVIEWER)
+    require_role(actor, role, action=f"Making {record.code} {to_status}")
+    locked = lock(record)
+    check_not_voided(locked)
+    if to_status == Status.RELEASED:
+        check_not_self_release(actor, locked)
+    return _transition(locked, to_status, reason=reason, actor=actor)

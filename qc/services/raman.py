@@ -23,7 +23,7 @@ from django.db import transaction
 from inventory.errors import refusal
 from inventory.lifecycle import check_usable
 from inventory.models import Flag, ReagentKind, ReagentLot, Status, Substrate
-from inventory.services import flag_raise, record_transition, sha256_of
+from inventory.services import flag_raise, record_release, record_transition, sha256_of
 from inventory.services._common import (
     User,
     _check_substrates_usable,
@@ -32,6 +32,8 @@ from inventory.services._common import (
     _require_not_future,
     _save_new,
 )
+from inventory.services.lifecycle import _transition, lock
+from inventory.signatures import SignatureIntent
 from qc.analysis import enhancement, qc_pipeline
 from qc.analysis.errors import AnalysisInputError
 from qc.analysis.readers import decode_text, read_map, read_spectrum
@@ -46,7 +48,7 @@ from ..models.raman import (
 
 __all__ = [
     "qc_judge", "qc_limit_set_define", "qc_measurement_import", "reference_analyte_define",
-    "reference_measurement_import", "substrate_release",
+    "reference_measurement_import", "substrate_release", "substrate_release_check",
 ]
 
 FLAG_CATEGORY = "qc"
@@ -424,8 +426,9 @@ def _hold_failed(measurement: QcMeasurement, substrate: Substrate, actor: User |
     flag_raise(actor=actor, target=substrate, category=FLAG_CATEGORY,
                message=f"QC {measurement.code} failed: {summary}")
     if substrate.status == Status.RELEASED:
-        record_transition(actor=actor, record=substrate, to_status=Status.QUARANTINE,
-                          reason=f"Held: QC {measurement.code} failed. {summary}")
+        # A consequence of the import, not a reviewer's decision: no role check here.
+        _transition(lock(substrate), Status.QUARANTINE, actor=actor,
+                    reason=f"Held: QC {measurement.code} failed. {summary}")
 
 
 @transaction.atomic
@@ -512,33 +515,44 @@ def qc_measurement_import(
 # ---------------------------------------------------------------------------------------
 
 
-@transaction.atomic
-def substrate_release(*, actor: User | None, substrate: Substrate,
-                      signature: Any = None) -> Substrate:
-    """Release a substrate whose latest QC (at its current stage) passed.
+def substrate_release_check(record) -> str | None:
+    """Release rule for substrates (``SERSLEDGER_RELEASE_CHECKS``): QC passed, no open flag.
 
-    Refused when there is no QC, the latest failed, or a ``qc`` flag on the substrate is
-    still open (it must be resolved with a reason first).  ``signature`` is the seam for the
-    electronic signature (DESIGN §7): when given, its ``meaning`` is written into the
-    status-change reason; the signature check itself belongs to that later service.
+    Refused when there is no QC at the substrate's current stage, the latest failed, or a
+    ``qc`` flag on it is still open (it must be resolved with a reason first).  Voided
+    measurements and flags do not count.  Returns the note for the status-change reason.
     """
-    substrate = Substrate.objects.select_for_update().get(pk=substrate.pk)
-    latest = QcMeasurement.objects.filter(substrate=substrate,
-                                          product_kind=substrate.stage).first()
+    if not isinstance(record, Substrate):
+        return None
+    latest = QcMeasurement.objects.filter(substrate=record, product_kind=record.stage,
+                                          voided_at__isnull=True).first()
     if latest is None:
-        raise refusal("substrate", f"{substrate.code} has no QC measurement at its current "
-                                   f"stage ({substrate.get_stage_display()}).", "qc_missing")
+        raise refusal("substrate", f"{record.code} has no QC measurement at its current "
+                                   f"stage ({record.get_stage_display()}).", "qc_missing")
     if not latest.passed:
-        raise refusal("substrate", f"The latest QC of {substrate.code} ({latest.code}) failed: "
+        raise refusal("substrate", f"The latest QC of {record.code} ({latest.code}) failed: "
                                    f"{' '.join(latest.failure_reasons)}", "qc_failed")
-    open_flags = list(Flag.objects.filter(target_code=substrate.code, category=FLAG_CATEGORY,
-                                          state=Flag.State.OPEN).values_list("code", flat=True))
+    open_flags = list(Flag.objects.filter(target_code=record.code, category=FLAG_CATEGORY,
+                                          state=Flag.State.OPEN, voided_at__isnull=True)
+                      .values_list("code", flat=True))
     if open_flags:
         raise refusal("substrate", f"Resolve the open QC flag(s) {', '.join(open_flags)} on "
-                                   f"{substrate.code} first.", "open_flag")
-    reason = f"QC {latest.code} passed"
-    meaning = getattr(signature, "meaning", None)
-    if meaning:
-        reason += f"; signed: {meaning}"
-    return record_transition(actor=actor, record=substrate, to_status=Status.RELEASED,
-                             reason=reason)
+                                   f"{record.code} first.", "open_flag")
+    return f"QC {latest.code} passed"
+
+
+@transaction.atomic
+def substrate_release(*, actor: User | None, substrate: Substrate,
+                      signature: SignatureIntent | None = None) -> Substrate:
+    """Release a substrate whose latest QC (at its current stage) passed.
+
+    With a ``signature`` this is ``inventory.services.record_release`` (which applies the
+    same QC rule through ``SERSLEDGER_RELEASE_CHECKS``); without one it is the unsigned
+    release the system and the demo loader use.
+    """
+    if signature is not None:
+        return record_release(actor=actor, record=substrate, signature=signature)
+    locked = Substrate.objects.select_for_update().get(pk=substrate.pk)
+    note = substrate_release_check(locked)
+    return record_transition(actor=actor, record=locked, to_status=Status.RELEASED,
+                             reason=note)

@@ -18,6 +18,8 @@ from scipy.constants import Avogadro
 
 from inventory.models import Flag, LineageEdge, Status, StatusChange, Substrate
 from inventory.readiness import substrate_check_readiness
+from inventory.selectors import record_get_signatures
+from inventory.signatures import SignatureIntent
 from qc.analysis import qc_pipeline
 from qc.models import QcLimitSet, QcMeasurement, ReferenceAnalyte, ReferenceMeasurement
 from qc.services import (
@@ -27,6 +29,7 @@ from qc.services import (
     reference_measurement_import,
     substrate_release,
 )
+from tests.conftest import PASSWORDS
 
 BAND_CM1 = 1073.0  # benzenethiol ring/C–S band, from memory
 SHIFT_CM1 = np.arange(600.0, 1700.0, 2.0)
@@ -228,13 +231,13 @@ def test_release_only_after_a_passing_latest_qc(world):
     flag = Flag.objects.get(target_code=piece.code)
     chain.s.flag_resolve(actor=chain.reviewer, flag=flag, resolution="Re-measured; passes.")
 
-    class Signature:
-        meaning = "approved for use"
-
-    released = substrate_release(actor=chain.reviewer, substrate=piece, signature=Signature())
+    signed = SignatureIntent(password=PASSWORDS["reviewer"], meaning="approved")
+    released = substrate_release(actor=chain.reviewer, substrate=piece, signature=signed)
     assert released.status == Status.RELEASED
-    assert "approved for use" in StatusChange.objects.filter(
-        record_code=piece.code).last().reason
+    reason = StatusChange.objects.filter(record_code=piece.code).last().reason
+    assert "signed: approved" in reason and "passed" in reason
+    (signature,) = record_get_signatures(piece)
+    assert (signature.meaning, signature.signer_username) == ("approved", "reviewer")
 
 
 # --- limits at their boundaries (inclusive: a value exactly at the limit passes) ----------

@@ -1,0 +1,195 @@
+"""Signed release and reject, void and amendment: the writes an audit trail is built on.
+
+Release and reject are electronic signatures (DESIGN §7, in the spirit of 21 CFR Part 11):
+the signer re-enters their password and chooses the meaning; the signature stores the
+signer's name, the time, the meaning, the record and a SHA-256 digest of the record's
+canonical content (inventory.signatures).  Nothing is deleted: a record made in error is
+voided with a reason.  Amendments name the version they were made against, so two people
+editing the same record cannot silently overwrite each other.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from functools import lru_cache
+from typing import Any
+
+from django.conf import settings
+from django.core.exceptions import PermissionDenied
+from django.db import models, transaction
+from django.utils import timezone
+from django.utils.module_loading import import_string
+
+from ..errors import refusal
+from ..lifecycle import check_transition
+from ..models import CodedRecord, LifecycleRecord, Signature, Status
+from ..roles import MAKER, REVIEWER, require_role
+from ..signatures import REJECT_MEANINGS, RELEASE_MEANINGS, SignatureIntent, record_content_digest
+from ._common import User, _save_changed
+from .lifecycle import _transition, check_not_self_release, check_not_voided, lock
+
+# Fields an amendment may change: plain values the maker typed, and where it is kept.
+# Codes, statuses, links to inputs (the lineage) and computed figures are never amended.
+AMENDABLE_RELATIONS = frozenset({"storage"})
+# Inputs of stored computations: changing one would leave the figures beside it stale, so
+# the correction is a new record (and the old one voided) instead.
+FEEDS_A_COMPUTATION = frozenset({"slide_area_cm2", "suspension_excess_factor",
+                                 "sphere_density_g_cm3"})
+
+
+@lru_cache(maxsize=8)
+def _import_checks(paths: tuple[str, ...]) -> list[Callable[[Any], str | None]]:
+    return [import_string(path) for path in paths]
+
+
+def _release_checks() -> list[Callable[[Any], str | None]]:
+    """``settings.SERSLEDGER_RELEASE_CHECKS``: ``check(record) -> note or None``, may refuse.
+
+    Other apps add release rules here (the qc app: a substrate needs a passed QC and no
+    open QC flag), so inventory never imports them.
+    """
+    return _import_checks(tuple(getattr(settings, "SERSLEDGER_RELEASE_CHECKS", ())))
+
+
+def _verify_signer(actor: User | None, signature: SignatureIntent, *,
+                   meanings: tuple[str, ...]) -> None:
+    if actor is None:
+        raise PermissionDenied("An electronic signature needs a signed-in person; the system "
+                               "cannot sign.")
+    if not isinstance(signature, SignatureIntent):
+        raise refusal("password", "Re-enter your password to sign.", "signature_invalid")
+    if signature.meaning not in meanings:
+        raise refusal("meaning", f"Choose what the signature means: {', '.join(meanings)}.",
+                      "signature_meaning")
+    if not signature.password or not actor.check_password(signature.password):
+        raise refusal("password", "The password does not match; the signature was not made.",
+                      "signature_invalid")
+
+
+def _signer_name(actor: User) -> str:
+    full = actor.get_full_name().strip() if hasattr(actor, "get_full_name") else ""
+    return full or actor.get_username()
+
+
+def _sign(actor: User, record: CodedRecord, *, meaning: str, action: str,
+          reason: str) -> Signature:
+    content_json, digest = record_content_digest(record)
+    signature = Signature(
+        record_code=record.code, record_kind=record._meta.label, record_version=record.version,
+        meaning=meaning, action=action, to_status=getattr(record, "status", ""),
+        reason=reason, signer=actor, signer_username=actor.get_username(),
+        signer_name=_signer_name(actor), signed_at=timezone.now(), content_json=content_json,
+        content_sha256=digest)
+    signature.full_clean()
+    signature.save()
+    return signature
+
+
+@transaction.atomic
+def record_release(*, actor: User, record: LifecycleRecord,
+                   signature: SignatureIntent) -> LifecycleRecord:
+    """Release ``record`` under the reviewer's electronic signature.
+
+    Refused without the reviewer role (PermissionDenied), on a wrong password (``password``,
+    ``signature_invalid``), for the maker of the record unless SERSLEDGER_ALLOW_SELF_RELEASE
+    (``self_release``), for an illegal transition, and by any release check of another app
+    (a substrate's QC).  The release checks' notes become the status-change reason.
+    """
+    require_role(actor, REVIEWER, action=f"Releasing {record.code}")
+    _verify_signer(actor, signature, meanings=RELEASE_MEANINGS)
+    locked = lock(record)
+    check_not_voided(locked)
+    check_transition(locked, Status.RELEASED, "")
+    check_not_self_release(actor, locked)
+    notes = [note for check in _release_checks() if (note := check(locked))]
+    reason = "; ".join([*notes, f"signed: {signature.meaning}"])
+    _transition(locked, Status.RELEASED, reason=reason, actor=actor)
+    _sign(actor, locked, meaning=signature.meaning, action="release", reason=reason)
+    return locked
+
+
+@transaction.atomic
+def record_reject(*, actor: User, record: LifecycleRecord, signature: SignatureIntent,
+                  reason: str) -> LifecycleRecord:
+    """Reject ``record`` under the reviewer's electronic signature, with a written reason."""
+    require_role(actor, REVIEWER, action=f"Rejecting {record.code}")
+    _verify_signer(actor, signature, meanings=REJECT_MEANINGS)
+    locked = lock(record)
+    check_not_voided(locked)
+    _transition(locked, Status.REJECTED, reason=reason, actor=actor)
+    _sign(actor, locked, meaning=signature.meaning, action="reject", reason=reason)
+    return locked
+
+
+@transaction.atomic
+def record_void(*, actor: User | None, record: CodedRecord, reason: str) -> CodedRecord:
+    """Void a record made in error: kept in lineage and history, no longer usable or ready."""
+    require_role(actor, REVIEWER, action=f"Voiding {record.code}")
+    if not reason.strip():
+        raise refusal("reason", f"Say why {record.code} is void.", "reason_required")
+    locked = lock(record)
+    if locked.voided_at is not None:
+        raise refusal("record", f"{locked.code} was already voided on "
+                                f"{locked.voided_at.date().isoformat()}.", "already_voided")
+    locked.voided_at = timezone.now()
+    locked.voided_by = actor
+    locked.void_reason = reason.strip()
+    _save_changed(locked, actor=actor, reason=f"voided: {reason.strip()}")
+    return locked
+
+
+def amendable_fields(model: type[CodedRecord]) -> frozenset[str]:
+    """The fields of ``model`` that ``record_amend`` accepts.
+
+    A record whose numbers were computed from an instrument file (it has a file field) only
+    takes notes and storage: its figures and acquisition settings belong to the file.
+    """
+    fields = model._meta.concrete_fields
+    if any(isinstance(field, models.FileField) for field in fields):
+        return frozenset(f.name for f in fields if f.name in ("notes", *AMENDABLE_RELATIONS))
+    return frozenset(
+        field.name for field in fields
+        if field.editable and not field.primary_key and field.name not in ("code", "status")
+        and field.name not in FEEDS_A_COMPUTATION
+        and (not field.is_relation or field.name in AMENDABLE_RELATIONS)
+    )
+
+
+def _reason_needed(record: CodedRecord) -> bool:
+    """A record that has left quarantine (or was ever signed) is only changed with a reason."""
+    if isinstance(record, LifecycleRecord) and record.status != Status.QUARANTINE:
+        return True
+    return Signature.objects.filter(record_code=record.code).exists()
+
+
+@transaction.atomic
+def record_amend(*, actor: User | None, record: CodedRecord, changes: dict[str, Any],
+                 reason: str, expected_version: int) -> CodedRecord:
+    """Change typed fields of ``record`` if nobody changed it since ``expected_version``.
+
+    The row is re-read under a lock, so of two amendments made against the same version
+    exactly one wins and the other is refused (``version``, ``version_conflict``).  A
+    released (or otherwise decided, or signed) record needs a reason; every amendment is a
+    history row with the old and new values.
+    """
+    require_role(actor, MAKER, action=f"Amending {record.code}")
+    if not changes:
+        raise refusal("changes", "Nothing to change.", "required")
+    allowed = amendable_fields(type(record))
+    for name in changes:
+        if name not in allowed:
+            raise refusal(name, f"{name} of {record.code} cannot be amended; allowed: "
+                                f"{', '.join(sorted(allowed))}.", "not_amendable")
+    locked = lock(record)
+    if locked.version != expected_version:
+        raise refusal("version", f"{locked.code} was changed by someone else since version "
+                                 f"{expected_version} (now {locked.version}); reload it and "
+                                 "amend again.", "version_conflict")
+    check_not_voided(locked)
+    if _reason_needed(locked) and not reason.strip():
+        raise refusal("reason", f"{locked.code} is {getattr(locked, 'status', 'signed')}; give "
+                                "a reason for the amendment.", "reason_required")
+    for name, value in changes.items():
+        setattr(locked, name, value)
+    _save_changed(locked, actor=actor, reason=reason.strip() or "amended")
+    return locked
