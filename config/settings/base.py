@@ -130,15 +130,33 @@ REST_FRAMEWORK = {
         "rest_framework.filters.SearchFilter",
         "rest_framework.filters.OrderingFilter",
     ],
-    "DEFAULT_PAGINATION_CLASS": "rest_framework.pagination.PageNumberPagination",
+    # JSON in; multipart only where an endpoint takes files (it says so itself).
+    "DEFAULT_PARSER_CLASSES": ["rest_framework.parsers.JSONParser"],
+    "DEFAULT_PAGINATION_CLASS": "inventory.api.pagination.Pages",
     "PAGE_SIZE": 50,
     "DEFAULT_SCHEMA_CLASS": "drf_spectacular.openapi.AutoSchema",
+    # One error body everywhere: {"errors": [{"field", "message", "code"}]}.
+    "EXCEPTION_HANDLER": "inventory.api.errors.exception_handler",
 }
 
 SPECTACULAR_SETTINGS = {
     "TITLE": "sersledger API",
     "DESCRIPTION": "Records, readiness, lineage and QC results of a SERS substrate laboratory. "
-                   "Every quantity carries its unit in its field name.",
+                   "Every quantity carries its unit in its field name and its description. "
+                   "Authenticate with 'Authorization: Token <token>' (POST /api/v1/token/) "
+                   "or a browser session. Errors: {\"errors\": [{\"field\", \"message\", "
+                   "\"code\"}]}.",
     "VERSION": "1",
     "SERVE_INCLUDE_SCHEMA": False,
+    "COMPONENT_SPLIT_REQUEST": True,
+    "ENUM_NAME_OVERRIDES": {
+        "StorageKindEnum": "inventory.models.StorageLocation.Kind",
+        "ReagentKindEnum": "inventory.models.ReagentKind",
+        "RecordKindEnum": "inventory.models.RecordKind",
+        "SubstrateStageEnum": "inventory.models.Substrate.Stage",
+    },
+    "POSTPROCESSING_HOOKS": [
+        "drf_spectacular.hooks.postprocess_schema_enums",
+        "inventory.api.schema.add_error_responses",
+    ],
 }

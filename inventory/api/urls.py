@@ -1,3 +1,42 @@
-"""API routes, mounted at /api/v1/ by config/urls.py."""
+"""API routes, mounted at /api/v1/ by config/urls.py (namespace ``api``)."""
 
-urlpatterns: list = []
+from django.urls import include, path
+from drf_spectacular.views import SpectacularAPIView
+from rest_framework.routers import DefaultRouter
+
+from qc.api.urls import ROUTES as QC_ROUTES
+
+from . import reports, views
+from .auth import TokenView
+
+app_name = "api"
+
+router = DefaultRouter()
+ROUTES = [
+    ("storage-locations", views.StorageLocationViewSet),
+    ("reagent-lots", views.ReagentLotViewSet),
+    ("sphere-lots", views.SphereLotViewSet),
+    ("templates", views.TemplateViewSet),
+    ("deposition-runs", views.DepositionRunViewSet),
+    ("substrates", views.SubstrateViewSet),
+    ("linker-layers", views.LinkerLayerViewSet),
+    ("nanoparticle-batches", views.NanoparticleBatchViewSet),
+    ("particle-attachments", views.ParticleAttachmentViewSet),
+    ("datasets", views.DatasetViewSet),
+    ("flags", views.FlagViewSet),
+    ("shelf-life-rules", views.ShelfLifeRuleViewSet),
+    ("deposition-tolerances", views.DepositionToleranceViewSet),
+    *QC_ROUTES,
+]
+for prefix, viewset in ROUTES:
+    router.register(prefix, viewset, basename=prefix)
+    reports.DETAIL_ROUTES[viewset.queryset.model._meta.model_name] = prefix
+
+urlpatterns = [
+    path("token/", TokenView.as_view(), name="token"),
+    path("schema/", SpectacularAPIView.as_view(), name="schema"),
+    path("records/<str:code>/", reports.RecordView.as_view(), name="record"),
+    path("records/<str:code>/lineage/", reports.LineageView.as_view(), name="lineage"),
+    path("expiring/", reports.ExpiringView.as_view(), name="expiring"),
+    path("", include(router.urls)),
+]

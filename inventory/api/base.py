@@ -1,0 +1,167 @@
+"""What every API view shares: role permissions, pagination, filters and the record viewset.
+
+A view parses the request, calls one service or selector and renders; these classes make that
+the shortest path.  Roles come from ``inventory.roles`` (viewer reads, maker records,
+reviewer signs, administrator sets limits); the services check them again, and a refusal
+from either side is the same 403 body.
+"""
+
+from __future__ import annotations
+
+from typing import ClassVar
+
+import django_filters
+from drf_spectacular.utils import extend_schema
+from rest_framework import mixins, permissions, status, viewsets
+from rest_framework.response import Response
+
+from inventory.roles import ADMINISTRATOR, MAKER, VIEWER, require_role
+
+from .pagination import Pages
+from .serializers import related_names
+
+
+class HasRole(permissions.BasePermission):
+    """The role a view's action needs, checked with the same function the services use."""
+
+    def has_permission(self, request, view) -> bool:
+        require_role(request.user, view.role_needed(), action=view.action_label())
+        return True
+
+
+class RoleMixin:
+    """Role per action: reads for viewers, creation for makers, anything else declared."""
+
+    permission_classes = (permissions.IsAuthenticated, HasRole)
+    action_roles: ClassVar[dict[str, str]] = {"list": VIEWER, "retrieve": VIEWER, "metadata": VIEWER, "create": MAKER,
+                    "get": VIEWER}
+    # Set per route by @action(required_role=...); an undeclared action needs the top role.
+    required_role: str | None = None
+
+    def role_needed(self) -> str:
+        action = getattr(self, "action", None) or self.request.method.lower()
+        return self.required_role or self.action_roles.get(action, ADMINISTRATOR)
+
+    def action_label(self) -> str:
+        action = getattr(self, "action", None) or self.request.method.lower()
+        name = getattr(self, "basename", None) or type(self).__name__
+        return f"{action.replace('_', ' ')} on {name.replace('-', ' ')}"
+
+
+def filterset(model, *, exact=(), ranges=(), codes=(), help_texts=None):
+    """A django-filter FilterSet: ``exact`` fields, ``ranges`` with ``__gte``/``__lte``,
+    and ``codes``: relations filtered by the related record's code."""
+    help_texts = help_texts or {}
+    declared = {
+        name: django_filters.CharFilter(
+            field_name=f"{name}__code", distinct=True,
+            help_text=help_texts.get(name, f"Code of the {name.replace('_', ' ')}."))
+        for name in codes
+    }
+    fields = {name: ["exact"] for name in exact}
+    fields.update({name: ["exact", "gte", "lte"] for name in ranges})
+    meta = type("Meta", (), {"model": model, "fields": fields})
+    return type(f"{model.__name__}Filter", (django_filters.FilterSet,),
+                {"Meta": meta, **declared})
+
+
+class RecordViewSet(RoleMixin, mixins.ListModelMixin, mixins.RetrieveModelMixin,
+                    viewsets.GenericViewSet):
+    """List with filters, search, ordering and pages; detail by code; create via a service.
+
+    Subclasses set ``queryset``, ``serializer_class`` (read), optionally
+    ``list_serializer_class`` (a lighter read for lists), ``create_serializer`` (a
+    ``ServiceSerializer``), ``filterset_class``, ``search_fields`` and ``ordering_fields``.
+    """
+
+    lookup_field = "code"
+    lookup_value_regex = r"[A-Za-z]+-[0-9]+"
+    pagination_class = Pages
+    list_serializer_class = None
+    create_serializer = None
+    ordering = ("-created_at", "-id")
+
+    def __init_subclass__(cls, **kwargs):
+        super().__init_subclass__(**kwargs)
+        if "__doc__" not in cls.__dict__ or not cls.__doc__:
+            cls.__doc__ = cls.describe()
+        if cls.create_serializer is None:
+            return
+
+        # A function of this class's own, so each viewset's schema names its own serializers.
+        def create(self, request, *args, **kwargs):
+            return self.create_record(request)
+
+        cls.create = extend_schema(request=cls.create_request_schema(),
+                                   responses=cls.create_response_schema())(create)
+
+    @classmethod
+    def describe(cls) -> str:
+        if getattr(cls, "queryset", None) is None:
+            return ""
+        kinds = cls.queryset.model._meta.verbose_name_plural
+        return (f"{kinds.capitalize()}: list (filter, search, order, pages), read one, "
+                "and record a new one through the same service as the pages.")
+
+    @classmethod
+    def create_request_schema(cls):
+        return cls.create_serializer
+
+    @classmethod
+    def create_response_schema(cls):
+        return {201: cls.serializer_class}
+
+    def get_serializer_class(self):
+        if self.action == "list" and self.list_serializer_class is not None:
+            return self.list_serializer_class
+        if self.action == "create" and self.create_serializer is not None:
+            return self.create_serializer
+        return self.serializer_class
+
+    def read_serializer_class(self):
+        return self.list_serializer_class if self.action == "list" and \
+            self.list_serializer_class else self.serializer_class
+
+    def get_queryset(self):
+        single, many = related_names(self.read_serializer_class())
+        return super().get_queryset().select_related(*single).prefetch_related(*many)
+
+    def get_object(self):
+        if self.lookup_field == "code":
+            self.kwargs["code"] = self.kwargs["code"].strip().upper()
+        return super().get_object()
+
+    def run_service(self, serializer_class, *, record=None, success=status.HTTP_200_OK):
+        """Parse the request with ``serializer_class``, call its service, show the record."""
+        serializer = serializer_class(data=self.request.data,
+                                      context=self.get_serializer_context())
+        serializer.is_valid(raise_exception=True)
+        result = serializer.perform(actor=self.request.user, record=record)
+        return self.respond(result, success)
+
+    def respond(self, result, status_code):
+        many = isinstance(result, (list, tuple))
+        body = self.serializer_class(result, many=many,
+                                     context=self.get_serializer_context()).data
+        return Response(body, status=status_code)
+
+    def create_record(self, request):
+        return self.run_service(self.create_serializer, success=status.HTTP_201_CREATED)
+
+
+class SettingViewSet(RecordViewSet):
+    """The lab's limits and rules: rows without a code, set (created or replaced) by an
+    administrator through an upsert service; 201 when new, 200 when replaced."""
+
+    lookup_field = "pk"
+    lookup_value_regex = r"[0-9]+"
+    action_roles: ClassVar[dict[str, str]] = {**RecordViewSet.action_roles, "create": ADMINISTRATOR}
+    ordering = ("id",)
+
+    @classmethod
+    def create_response_schema(cls):
+        return {200: cls.serializer_class, 201: cls.serializer_class}
+
+    def respond(self, result, status_code):
+        created = status_code == status.HTTP_201_CREATED and result.version == 1
+        return super().respond(result, status_code if created else status.HTTP_200_OK)

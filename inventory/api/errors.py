@@ -1,0 +1,76 @@
+"""One error shape for every API error: ``{"errors": [{"field", "message", "code"}]}``.
+
+Services refuse with Django's ``ValidationError`` keyed by field with a stable code
+(``inventory.errors.refusal``); DRF raises its own ``ValidationError`` for bad input and
+``APIException`` subclasses for the rest.  ``exception_handler`` turns all of them into the
+same list, so a script reads ``errors[i].field`` whatever refused the request.  ``field`` is
+null for errors that concern the request as a whole; nested input is addressed by a dotted
+path (``files.0``).
+"""
+
+from __future__ import annotations
+
+from django.core.exceptions import NON_FIELD_ERRORS, PermissionDenied
+from django.core.exceptions import ValidationError as DjangoValidationError
+from django.http import Http404
+from rest_framework import exceptions, serializers
+from rest_framework.views import exception_handler as drf_exception_handler
+
+from inventory.codes import RecordNotFound
+
+_WHOLE_REQUEST = {None, NON_FIELD_ERRORS, "non_field_errors"}
+
+
+def _from_django(error: DjangoValidationError) -> exceptions.ValidationError:
+    """A service refusal as DRF's ValidationError, keeping each message's code."""
+    if hasattr(error, "error_dict"):
+        detail = {field: [serializers.ErrorDetail(message, code=item.code or "invalid")
+                          for item in items for message in item.messages]
+                  for field, items in error.error_dict.items()}
+    else:
+        detail = [serializers.ErrorDetail(message, code=item.code or "invalid")
+                  for item in error.error_list for message in item.messages]
+    return exceptions.ValidationError(detail)
+
+
+def _translate(exc: Exception) -> Exception:
+    if isinstance(exc, DjangoValidationError):
+        return _from_django(exc)
+    if isinstance(exc, PermissionDenied):
+        # Keep the service's sentence (which role the action needs); DRF would drop it.
+        return exceptions.PermissionDenied(str(exc) or None)
+    if isinstance(exc, RecordNotFound):
+        return exceptions.NotFound(str(exc))
+    if isinstance(exc, Http404):
+        return exceptions.NotFound(str(exc) or None)
+    return exc
+
+
+def flatten(detail, field: str | None = None) -> list[dict]:
+    """DRF's nested error detail as a flat list of field/message/code items."""
+    if isinstance(detail, dict):
+        items = []
+        for key, value in detail.items():
+            key = None if key in _WHOLE_REQUEST else str(key)
+            path = key if field is None else (field if key is None else f"{field}.{key}")
+            items.extend(flatten(value, path))
+        return items
+    if isinstance(detail, list):
+        items = []
+        for index, value in enumerate(detail):
+            # A list of messages belongs to ``field``; a list of objects is indexed.
+            path = field if not isinstance(value, (dict, list)) else f"{field}.{index}"
+            items.extend(flatten(value, path))
+        return items
+    return [{"field": field, "message": str(detail), "code": getattr(detail, "code", "invalid")}]
+
+
+def exception_handler(exc, context):
+    """DRF's handler (status, headers) with the project's one error body."""
+    exc = _translate(exc)
+    response = drf_exception_handler(exc, context)
+    if response is None:
+        return None
+    if isinstance(exc, exceptions.APIException):
+        response.data = {"errors": flatten(exc.detail)}
+    return response

@@ -1,0 +1,181 @@
+"""Read-only answers across records: readiness, lineage, expiring soon, a record by its code.
+
+Each calls the same selector as the page and the command (``substrate_check_readiness``,
+``record_get_ancestors``/``record_get_descendants``, ``records_expiring_within``) and only
+shapes the answer as data.
+"""
+
+from __future__ import annotations
+
+from django.urls import NoReverseMatch, reverse
+from drf_spectacular.types import OpenApiTypes
+from drf_spectacular.utils import OpenApiParameter, extend_schema
+from rest_framework import exceptions, serializers
+from rest_framework.response import Response
+from rest_framework.views import APIView
+
+from inventory.codes import record_get
+from inventory.models import LifecycleRecord
+from inventory.selectors import (
+    record_get_ancestors,
+    record_get_descendants,
+    records_expiring_within,
+    substrate_check_readiness,
+)
+
+from .base import RoleMixin
+from .fields import LabDate
+from .units import DocumentedFields
+
+
+def _query(field: serializers.Field, params, name: str, default=None):
+    """One query parameter parsed by a serializer field; a bad value is a 400 naming it."""
+    if name not in params:
+        return default
+    try:
+        return field.run_validation(params[name])
+    except serializers.ValidationError as error:
+        raise serializers.ValidationError({name: error.detail}) from None
+
+
+# ----------------------------------------------------------------------------- readiness
+
+
+class ReasonOut(serializers.Serializer):
+    code = serializers.CharField(help_text="Stable reason code, e.g. 'expired', 'qc_failed', "
+                                           "'open_flag', 'linker_layer_too_old'.")
+    message = serializers.CharField(help_text="The reason as a sentence.")
+    record_code = serializers.CharField(help_text="Code of the record at fault.")
+
+
+class ReadinessOut(DocumentedFields, serializers.Serializer):
+    substrate_code = serializers.CharField()
+    checked_on = serializers.DateField(help_text="Day the check applies to.")
+    ready = serializers.BooleanField()
+    verdict = serializers.ChoiceField(choices=["READY", "NOT READY"])
+    reasons = ReasonOut(many=True, help_text="Every reason it is not ready; empty when ready.")
+
+
+def readiness_data(code: str, params) -> dict:
+    on_date = _query(LabDate(), params, "on")
+    try:
+        result = substrate_check_readiness(code.strip().upper(), on_date=on_date)
+    except ValueError as error:  # the code names a record that is not a substrate
+        raise exceptions.NotFound(str(error)) from None
+    return ReadinessOut(result).data
+
+
+# ------------------------------------------------------------------------------- lineage
+
+
+class NodeOut(DocumentedFields, serializers.Serializer):
+    code = serializers.CharField()
+    kind = serializers.CharField(help_text="Kind of record, e.g. 'substrate'.")
+    depth = serializers.IntegerField(help_text="Steps from the root. Unit: count.")
+    status = serializers.CharField(allow_null=True, help_text="Lifecycle status, for "
+                                                              "materials; null otherwise.")
+
+
+class EdgeOut(DocumentedFields, serializers.Serializer):
+    parent_code = serializers.CharField(help_text="The input.")
+    child_code = serializers.CharField(help_text="What was made from it.")
+    role = serializers.CharField(help_text="How it was used, e.g. 'plating bath'.")
+    used_on = serializers.DateField(help_text="Date of the step that used it.")
+
+
+class LineageOut(serializers.Serializer):
+    root = serializers.CharField(help_text="Code of the record asked about.")
+    direction = serializers.ChoiceField(choices=["ancestors", "descendants"])
+    nodes = NodeOut(many=True, help_text="Every record reached, nearest first.")
+    edges = EdgeOut(many=True)
+
+
+def lineage_data(lineage) -> dict:
+    nodes = []
+    for code in lineage.codes():
+        record = lineage.records.get(code)
+        nodes.append({
+            "code": code, "depth": lineage.depth[code],
+            "kind": record._meta.verbose_name if record is not None else "unknown",
+            "status": record.status if isinstance(record, LifecycleRecord) else None,
+        })
+    return {"root": lineage.root.code, "direction": lineage.direction, "nodes": nodes,
+            "edges": [vars(edge) for edge in lineage.edges]}
+
+
+DIRECTIONS = {"ancestors": record_get_ancestors, "descendants": record_get_descendants}
+
+
+class LineageView(RoleMixin, APIView):
+    """Everything a record was made from (ancestors) or everything made from it
+    (descendants), however deep, in a bounded number of queries."""
+
+    @extend_schema(
+        parameters=[
+            OpenApiParameter("direction", enum=list(DIRECTIONS), default="ancestors",
+                             description="ancestors: what it was made from; descendants: "
+                                         "everything made from it (for a recall)."),
+        ],
+        responses={200: LineageOut}, operation_id="records_lineage")
+    def get(self, request, code: str):
+        direction = _query(serializers.ChoiceField(choices=list(DIRECTIONS)),
+                           request.query_params, "direction", "ancestors")
+        record = record_get(code)
+        return Response(LineageOut(lineage_data(DIRECTIONS[direction](record))).data)
+
+
+# ------------------------------------------------------------------------------ records
+
+
+class RecordOut(serializers.Serializer):
+    code = serializers.CharField()
+    kind = serializers.CharField(help_text="Kind of record, e.g. 'substrate'.")
+    url = serializers.CharField(allow_null=True, help_text="Its detail endpoint in this API.")
+
+
+# Record kind (model name, lower case) -> route basename of its detail endpoint.
+DETAIL_ROUTES: dict[str, str] = {}
+
+
+class RecordView(RoleMixin, APIView):
+    """Find any record by its code (as a label's QR code gives it) and where to read it."""
+
+    @extend_schema(responses={200: RecordOut}, operation_id="records_retrieve")
+    def get(self, request, code: str):
+        record = record_get(code)
+        basename = DETAIL_ROUTES.get(record._meta.model_name)
+        try:
+            url = request.build_absolute_uri(reverse(f"api:{basename}-detail",
+                                                     args=[record.code])) if basename else None
+        except NoReverseMatch:
+            url = None
+        return Response({"code": record.code, "kind": record._meta.verbose_name, "url": url})
+
+
+# ----------------------------------------------------------------------------- expiring
+
+
+class ExpiringOut(DocumentedFields, serializers.Serializer):
+    code = serializers.CharField()
+    kind = serializers.CharField(help_text="Kind of record, e.g. 'reagent lot'.")
+    status = serializers.CharField(help_text="Lifecycle status (quarantine or released).")
+    expires_on = serializers.DateField()
+    days_left = serializers.IntegerField()
+
+
+class ExpiringView(RoleMixin, APIView):
+    """Active records (quarantine or released) expiring within ``days`` days, soonest first;
+    already expired ones are included (negative days_left)."""
+
+    @extend_schema(parameters=[OpenApiParameter(
+        "days", type=OpenApiTypes.INT, default=14,
+        description="Horizon in days (0–3650).")],
+        responses={200: ExpiringOut(many=True)})
+    def get(self, request):
+        days = _query(serializers.IntegerField(min_value=0, max_value=3650),
+                      request.query_params, "days", 14)
+        items = records_expiring_within(days)
+        return Response(ExpiringOut([
+            {"code": item.record.code, "kind": item.kind_label, "status": item.record.status,
+             "expires_on": item.expires_on, "days_left": item.days_left} for item in items
+        ], many=True).data)
