@@ -1,4 +1,4 @@
-"""The minimal pages render for a signed-in user and refuse anonymous visitors."""
+"""The pages render on the demo laboratory for a signed-in user and refuse anonymous visitors."""
 
 import pytest
 from django.core.management import call_command
@@ -21,7 +21,7 @@ def test_anonymous_visitors_are_sent_to_sign_in(client, db):
 def test_home_readiness_and_record_pages(signed_in):
     assert signed_in.get("/").status_code == 200
     ready = signed_in.get("/check/", {"code": "SUB-00001"}).content.decode()
-    assert "SUB-00001: READY" in ready
+    assert 'class="verdict ready"' in ready and "SUB-00001" in ready
     blocked = signed_in.get("/check/", {"code": "SUB-00005"}).content.decode()
     assert "NOT READY" in blocked and "linker_layer_too_old" in blocked
     unknown = signed_in.get("/check/", {"code": "SUB-99999"}).content.decode()
