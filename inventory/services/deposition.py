@@ -27,7 +27,8 @@ from qc.analysis.errors import AnalysisInputError
 
 from ..errors import refusal
 from ..models import DepositionRun, DepositionTolerance, Flag
-from ._common import User, _save_changed
+from ..roles import ADMINISTRATOR, MAKER, require_role
+from ._common import User, _save_changed, _stamp_history
 from .records import flag_raise, sha256_of
 
 #: Used only when the lab has recorded no DepositionTolerance: a built-in default of this
@@ -83,6 +84,7 @@ def deposition_tolerance_set(
     Applies to chronoamperograms attached from now on; flags already raised stay until
     someone resolves them.
     """
+    require_role(actor, ADMINISTRATOR, action="Setting a deposition tolerance")
     if metal:
         _require_known_metal(metal)
     tolerance = DepositionTolerance.objects.select_for_update().filter(metal=metal).first()
@@ -95,6 +97,7 @@ def deposition_tolerance_set(
     tolerance.rationale = rationale
     tolerance.updated_by = actor
     tolerance.full_clean()
+    _stamp_history(tolerance, actor=actor, reason=rationale)
     tolerance.save()
     return tolerance
 
@@ -135,6 +138,7 @@ def deposition_run_attach_chronoamperogram(
     ``ValidationError`` keyed by the parameter at fault or by ``chronoamperogram`` (with
     the file line), and nothing is saved.
     """
+    require_role(actor, MAKER, action="Attaching a chronoamperogram")
     run = DepositionRun.objects.select_for_update(of=("self",)).select_related(
         "template__sphere_lot").get(pk=run.pk)
     digest = sha256_of(content)

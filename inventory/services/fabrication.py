@@ -6,7 +6,6 @@ from collections.abc import Sequence
 from datetime import date
 
 from django.db import transaction
-from django.utils import timezone
 
 from qc.analysis.errors import AnalysisInputError
 from qc.analysis.template_geometry import (
@@ -32,12 +31,14 @@ from ..models import (
     Substrate,
     TemplateAssembly,
 )
+from ..roles import MAKER, require_role
 from ._common import (
     User,
     _check_substrates_usable,
     _link,
     _require_kind,
     _require_not_future,
+    _save_changed,
     _save_new,
 )
 from .deposition import _apply, _prepare, _require_known_metal
@@ -60,6 +61,7 @@ def template_assemble(
     the lot's material; with neither the volume is left blank.  A ``suspension_volume_uL``
     the maker gives is kept as given; the computed one is stored beside it.
     """
+    require_role(actor, MAKER, action="Recording a template")
     _require_not_future(made_on, field="made_on")
     check_usable(sphere_lot, role="template spheres", on_date=made_on, field="sphere_lot")
     _require_kind(base_slide_lot, [ReagentKind.BASE_SLIDE], field="base_slide_lot")
@@ -125,6 +127,7 @@ def deposition_run_record(
     options the remaining keywords are): a bad file saves no run, no piece, and leaves the
     template unconsumed.
     """
+    require_role(actor, MAKER, action="Recording a deposition run")
     _require_not_future(made_on, field="made_on")
     _require_known_metal(metal)
     if (template is None) == (base_slide_lot is None):
@@ -184,6 +187,7 @@ def substrate_receive(*, actor: User | None, purchased_lot: ReagentLot, pieces: 
                       received_on: date, storage: StorageLocation | None = None
                       ) -> list[Substrate]:
     """Register pieces of a purchased substrate lot as substrates."""
+    require_role(actor, MAKER, action="Receiving purchased substrates")
     _require_kind(purchased_lot, [ReagentKind.PURCHASED_SUBSTRATE], field="purchased_lot")
     check_usable(purchased_lot, role="purchased substrates", on_date=received_on,
                  field="purchased_lot")
@@ -205,6 +209,7 @@ def linker_layer_apply(
     solvent_lot: ReagentLot | None = None, notes: str = "",
 ) -> LinkerLayer:
     """A thiol monolayer self-assembled on one or more substrates in one immersion."""
+    require_role(actor, MAKER, action="Recording a linker layer")
     _require_not_future(made_on, field="made_on")
     _require_kind(linker_lot, [ReagentKind.LINKER_THIOL], field="linker_lot")
     check_usable(linker_lot, role="the linker", on_date=made_on, field="linker_lot")
@@ -227,8 +232,10 @@ def linker_layer_apply(
         LineageEdge(parent_code=layer.code, child_code=s.code, role="linker layer",
                     used_on=made_on, created_by=actor) for s in substrates
     ])
-    Substrate.objects.filter(pk__in=[s.pk for s in substrates]).update(
-        stage=Substrate.Stage.LINKER, updated_by=actor, updated_at=timezone.now())
+    for substrate in substrates:
+        substrate.refresh_from_db()
+        substrate.stage = Substrate.Stage.LINKER
+        _save_changed(substrate, actor=actor, reason=f"linker layer {layer.code}")
     return layer
 
 
@@ -238,6 +245,7 @@ def nanoparticle_batch_make(
     source_lots: Sequence[ReagentLot] = (), target_diameter_nm: float | None = None,
     storage: StorageLocation | None = None, notes: str = "",
 ) -> NanoparticleBatch:
+    require_role(actor, MAKER, action="Recording a colloid batch")
     _require_not_future(made_on, field="made_on")
     for lot in source_lots:
         check_usable(lot, role="a colloid reagent", on_date=made_on, field="source_lots")
@@ -256,6 +264,7 @@ def nanoparticle_batch_make(
 def particle_attach(*, actor: User | None, substrate: Substrate, batch: NanoparticleBatch,
                     immersion_min: float, made_on: date, notes: str = "") -> ParticleAttachment:
     """Bind particles of ``batch`` onto a substrate that carries a linker layer."""
+    require_role(actor, MAKER, action="Recording a particle attachment")
     _require_not_future(made_on, field="made_on")
     _check_substrates_usable([substrate], role="a substrate for particles", on_date=made_on,
                              field="substrate")
@@ -271,7 +280,7 @@ def particle_attach(*, actor: User | None, substrate: Substrate, batch: Nanopart
     ), actor=actor)
     _link([(batch, "colloid")], attachment, used_on=made_on, actor=actor)
     _link([(attachment, "particles")], substrate, used_on=made_on, actor=actor)
-    Substrate.objects.filter(pk=substrate.pk).update(
-        stage=Substrate.Stage.PARTICLES, updated_by=actor, updated_at=timezone.now())
+    substrate.refresh_from_db()
     substrate.stage = Substrate.Stage.PARTICLES
+    _save_changed(substrate, actor=actor, reason=f"particles {attachment.code}")
     return attachment

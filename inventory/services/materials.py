@@ -6,11 +6,13 @@ from datetime import date
 from typing import Sequence
 
 from django.db import transaction
+from simple_history.utils import bulk_update_with_history
 
 from .. import ghs
 from ..errors import refusal
 from ..lifecycle import check_usable
 from ..models import ReagentLot, ShelfLifeRule, SphereLot, StorageLocation
+from ..roles import ADMINISTRATOR, MAKER, require_role
 from ..shelf_life import (
     LIFECYCLE_KINDS,
     expiry_from_rule,
@@ -18,12 +20,20 @@ from ..shelf_life import (
     rules_by_scope,
     validate_rule_date,
 )
-from ._common import User, _link, _require_not_future, _save_changed, _save_new
+from ._common import (
+    User,
+    _link,
+    _require_not_future,
+    _save_changed,
+    _save_new,
+    _stamp_history,
+)
 
 
 @transaction.atomic
 def storage_location_create(*, actor: User | None, name: str, kind: str,
                             room: str = "") -> StorageLocation:
+    require_role(actor, MAKER, action="Adding a storage location")
     return _save_new(StorageLocation(name=name, kind=kind, room=room), actor=actor)
 
 
@@ -37,6 +47,7 @@ def reagent_lot_receive(
     notes: str = "",
 ) -> ReagentLot:
     """Record a purchased lot (``received_on``) or a lab-prepared one (``prepared_on``)."""
+    require_role(actor, MAKER, action="Receiving a reagent lot")
     if received_on is None and prepared_on is None:
         raise refusal("received_on", "Give the date received (or prepared_on for a "
                                               "solution made in the lab).", "no_date")
@@ -68,6 +79,7 @@ def reagent_lot_receive(
 @transaction.atomic
 def reagent_lot_open(*, actor: User | None, lot: ReagentLot, opened_on: date) -> ReagentLot:
     """Record the day a lot was first opened; an opened-from rule then gives its expiry."""
+    require_role(actor, MAKER, action="Opening a reagent lot")
     lot = ReagentLot.objects.select_for_update().get(pk=lot.pk)
     if lot.opened_on is not None:
         raise refusal("opened_on", f"{lot.code} was already opened on "
@@ -87,6 +99,7 @@ def sphere_lot_receive(
     supplier_lot: str = "", volume_mL: float | None = None,
     storage: StorageLocation | None = None, notes: str = "",
 ) -> SphereLot:
+    require_role(actor, MAKER, action="Receiving a sphere lot")
     _require_not_future(received_on, field="received_on")
     return _save_new(SphereLot(
         material=material, nominal_diameter_nm=nominal_diameter_nm,
@@ -102,6 +115,7 @@ def shelf_life_rule_set(
     reagent_kind: str = "", is_example: bool = False, rationale: str = "",
 ) -> ShelfLifeRule:
     """Create or change a rule, then re-derive the expiry of every record it governs."""
+    require_role(actor, ADMINISTRATOR, action="Setting a shelf-life rule")
     validate_rule_date(record_kind, counted_from)
     rule = ShelfLifeRule.objects.filter(record_kind=record_kind,
                                         reagent_kind=reagent_kind).first()
@@ -116,13 +130,14 @@ def shelf_life_rule_set(
     rule.rationale = rationale
     rule.updated_by = actor
     rule.full_clean()
+    _stamp_history(rule, actor=actor, reason=rationale)
     rule.save()
     if record_kind in LIFECYCLE_KINDS:
-        _rederive_expiry(record_kind)
+        _rederive_expiry(record_kind, actor=actor, reason=f"expiry re-derived: rule {rule}")
     return rule
 
 
-def _rederive_expiry(record_kind: str) -> int:
+def _rederive_expiry(record_kind: str, *, actor: User | None, reason: str) -> int:
     """Recompute ``expires_on`` for every record of a kind; returns how many changed."""
     from django.apps import apps
 
@@ -134,5 +149,6 @@ def _rederive_expiry(record_kind: str) -> int:
         if new_expiry != record.expires_on:
             record.expires_on = new_expiry
             changed.append(record)
-    model.objects.bulk_update(changed, ["expires_on"], batch_size=1000)
+    bulk_update_with_history(changed, model, ["expires_on"], batch_size=1000,
+                             default_user=actor, default_change_reason=reason)
     return len(changed)

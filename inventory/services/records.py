@@ -12,6 +12,7 @@ from django.utils import timezone
 
 from ..errors import refusal
 from ..models import CodedRecord, Dataset, DatasetFile, Flag, Status, Substrate
+from ..roles import MAKER, REVIEWER, require_role
 from ._common import (
     User,
     _check_substrates_usable,
@@ -34,6 +35,7 @@ def dataset_register(
     consume_substrates: bool = False, notes: str = "",
 ) -> Dataset:
     """Record data made on substrates; files are stored with their SHA-256 digests."""
+    require_role(actor, MAKER, action="Registering a dataset")
     _require_not_future(acquired_on, field="acquired_on")
     _check_substrates_usable(substrates, role="a measured substrate", on_date=acquired_on)
     digests = [sha256_of(content) for _, content in files]
@@ -57,6 +59,7 @@ def dataset_register(
 @transaction.atomic
 def flag_raise(*, actor: User | None, target: CodedRecord, category: str, message: str) -> Flag:
     """Record a deviation on any record; an open flag blocks readiness downstream."""
+    require_role(actor, MAKER, action="Raising a flag")
     if not message.strip():
         raise refusal("message", "Say what deviates.", "required")
     return _save_new(Flag(target_code=target.code, category=category, message=message),
@@ -65,6 +68,7 @@ def flag_raise(*, actor: User | None, target: CodedRecord, category: str, messag
 
 @transaction.atomic
 def flag_resolve(*, actor: User | None, flag: Flag, resolution: str) -> Flag:
+    require_role(actor, REVIEWER, action="Resolving a flag")
     flag = Flag.objects.select_for_update().get(pk=flag.pk)
     if flag.state != Flag.State.OPEN:
         raise refusal("state", f"{flag.code} is already resolved.", "resolved")

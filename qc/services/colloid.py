@@ -27,8 +27,16 @@ from scipy import constants
 
 from inventory.errors import refusal
 from inventory.models import Flag, NanoparticleBatch
+from inventory.roles import ADMINISTRATOR, MAKER, require_role
 from inventory.services import flag_raise, sha256_of
-from inventory.services._common import User, _link, _require_not_future, _save_new
+from inventory.services._common import (
+    User,
+    _link,
+    _require_not_future,
+    _save_changed,
+    _save_new,
+    _stamp_history,
+)
 from qc.analysis import gold_haiss, silver_calibration
 from qc.analysis.colloid_stability import (
     ColloidSnapshot,
@@ -81,6 +89,7 @@ def colloid_limit_set_set(
     flag_size_disagreement: bool = False, is_example: bool = False, rationale: str = "",
 ) -> ColloidLimitSet:
     """Create or change the lab's colloid limits for ``metal``; records keep their verdicts."""
+    require_role(actor, ADMINISTRATOR, action="Setting colloid limits")
     limits = ColloidLimitSet.objects.select_for_update().filter(metal=metal).first()
     if limits is None:
         limits = ColloidLimitSet(metal=metal, created_by=actor)
@@ -97,6 +106,7 @@ def colloid_limit_set_set(
     limits.rationale = rationale
     limits.updated_by = actor
     limits.full_clean()
+    _stamp_history(limits, actor=actor, reason=rationale)
     limits.save()
     return limits
 
@@ -111,6 +121,7 @@ def silver_calibration_record(
     The previously active table is kept but no longer used.  A bad table is refused with
     the row at fault (qc.analysis.silver_calibration.CalibrationTable checks it).
     """
+    require_role(actor, ADMINISTRATOR, action="Recording a silver calibration")
     try:
         if len(rows) < 3 or any(len(row) != 3 for row in rows):
             raise AnalysisInputError("give at least 3 rows of peak_nm, diameter_nm, "
@@ -123,11 +134,14 @@ def silver_calibration_record(
         raise refusal(field, str(error), "bad_calibration") from None
     except (TypeError, ValueError):
         raise refusal("rows", "every cell must be a number", "bad_calibration") from None
-    SilverCalibration.objects.filter(is_active=True).update(is_active=False)
+    for previous in SilverCalibration.objects.select_for_update().filter(is_active=True):
+        previous.is_active = False
+        _save_changed(previous, actor=actor, reason=f"replaced by {name}")
     table = SilverCalibration(name=name, provenance=provenance,
                               rows=rows,
                               created_by=actor, updated_by=actor)
     table.full_clean()
+    _stamp_history(table, actor=actor, reason=provenance)
     table.save()
     return table
 
@@ -161,6 +175,7 @@ def uvvis_record_import(
     Bad files raise ``ValidationError`` keyed ``raw_file`` / ``blank_file`` naming the line
     where known; bad parameters are keyed by the parameter.
     """
+    require_role(actor, MAKER, action="Importing a UV-vis record")
     if batch.metal not in ColloidMetal.values:
         raise refusal("batch", f"{batch.code} is a {batch.metal} colloid; UV-vis sizing covers "
                                "silver (Ag) and gold (Au) only.", "unsupported_metal")

@@ -23,6 +23,7 @@ from django.db import transaction
 from inventory.errors import refusal
 from inventory.lifecycle import check_usable
 from inventory.models import Flag, ReagentKind, ReagentLot, Status, Substrate
+from inventory.roles import ADMINISTRATOR, MAKER, require_role
 from inventory.services import flag_raise, record_release, record_transition, sha256_of
 from inventory.services._common import (
     User,
@@ -31,6 +32,7 @@ from inventory.services._common import (
     _require_kind,
     _require_not_future,
     _save_new,
+    _stamp_history,
 )
 from inventory.services.lifecycle import _transition, lock
 from inventory.signatures import SignatureIntent
@@ -75,6 +77,7 @@ def reference_analyte_define(
     reference_band_cm1: float | None = None, lots: Sequence[ReagentLot] = (),
 ) -> ReferenceAnalyte:
     """Record a reference analyte, the band used for QC and its monolayer density."""
+    require_role(actor, ADMINISTRATOR, action="Defining a reference analyte")
     for lot in lots:
         _require_kind(lot, [ReagentKind.REFERENCE_ANALYTE], field="lots")
     if not band_positions_source.strip() or not surface_density_source.strip():
@@ -89,6 +92,7 @@ def reference_analyte_define(
         surface_density_per_nm2=surface_density_per_nm2,
         surface_density_source=surface_density_source, created_by=actor, updated_by=actor)
     analyte.full_clean()
+    _stamp_history(analyte, actor=actor, reason="")
     analyte.save()
     analyte.lots.set(lots)
     return analyte
@@ -102,6 +106,7 @@ def qc_limit_set_define(
     min_snr: float | None = None, is_example: bool = False, rationale: str = "",
 ) -> QcLimitSet:
     """Create or replace the limits for one product kind tested with one analyte."""
+    require_role(actor, ADMINISTRATOR, action="Setting QC limits")
     limits = QcLimitSet.objects.select_for_update().filter(
         product_kind=product_kind, analyte=analyte).first() or QcLimitSet(
         product_kind=product_kind, analyte=analyte, created_by=actor)
@@ -115,6 +120,7 @@ def qc_limit_set_define(
     if limits.pk:
         limits.version += 1
     limits.full_clean()
+    _stamp_history(limits, actor=actor, reason=rationale)
     limits.save()
     return limits
 
@@ -294,6 +300,7 @@ def reference_measurement_import(
     concentration_rel_u: float = 0.0, effective_height_rel_u: float = 0.0, notes: str = "",
 ) -> ReferenceMeasurement:
     """Import a non-enhanced Raman spectrum of the analyte at a known concentration."""
+    require_role(actor, MAKER, action="Importing a reference measurement")
     analyte = _resolve_analyte(analyte_lot, analyte)
     _check_acquisition(lot=analyte_lot, measured_on=measured_on, laser_nm=laser_nm,
                        power_mW=power_mW, integration_s=integration_s,
@@ -450,6 +457,7 @@ def qc_measurement_import(
     judged against the limit set for the substrate's stage and analyte.  A failure raises an
     open ``qc`` flag on the substrate and puts a released substrate back in quarantine.
     """
+    require_role(actor, MAKER, action="Importing a QC measurement")
     substrate = Substrate.objects.get(pk=substrate.pk)
     analyte = _resolve_analyte(analyte_lot, analyte)
     _check_acquisition(lot=analyte_lot, measured_on=measured_on, laser_nm=laser_nm,

@@ -165,13 +165,13 @@ def test_off_target_run_flags_the_run_and_every_piece_and_readiness_reports_it(c
 
 
 def test_tolerance_edits_change_the_outcome(chain):
-    chain.s.deposition_tolerance_set(actor=chain.maker, max_abs_deviation_height_over_diameter=0.25)
+    chain.s.deposition_tolerance_set(actor=None, max_abs_deviation_height_over_diameter=0.25)
     wide, _ = chain.s.deposition_run_record(**_run_kwargs(chain))
     result = _attach(chain, wide, OFF_TARGET)
     assert result.flags == () and not result.tolerance.is_default
     assert result.tolerance.max_abs_deviation_height_over_diameter == 0.25
     # A gold-specific tolerance wins over the general one.
-    chain.s.deposition_tolerance_set(actor=chain.maker, metal="Au",
+    chain.s.deposition_tolerance_set(actor=None, metal="Au",
                                      max_abs_deviation_height_over_diameter=0.1)
     narrow, _ = chain.s.deposition_run_record(**_run_kwargs(chain))
     result = _attach(chain, narrow, OFF_TARGET)
@@ -179,18 +179,18 @@ def test_tolerance_edits_change_the_outcome(chain):
     # The target check follows the tolerance in force now.
     wide.refresh_from_db()
     assert chain.s.deposition_run_check_target(wide).within_tolerance is False
-    chain.s.deposition_tolerance_set(actor=chain.maker, metal="Au",
+    chain.s.deposition_tolerance_set(actor=None, metal="Au",
                                      max_abs_deviation_height_over_diameter=0.3)
     assert chain.s.deposition_run_check_target(wide).within_tolerance is True
 
 
 def test_tolerance_must_be_positive_and_for_a_known_metal(chain):
     with pytest.raises(ValidationError) as error:
-        chain.s.deposition_tolerance_set(actor=chain.maker,
+        chain.s.deposition_tolerance_set(actor=None,
                                          max_abs_deviation_height_over_diameter=0)
     assert "deposition_tolerance_positive" in str(error.value)
     with pytest.raises(ValidationError) as error:
-        chain.s.deposition_tolerance_set(actor=chain.maker, metal="Xx",
+        chain.s.deposition_tolerance_set(actor=None, metal="Xx",
                                          max_abs_deviation_height_over_diameter=0.1)
     assert set(error.value.error_dict) == {"metal"}
 

@@ -35,7 +35,7 @@ def _change(day: int):
 
 
 def _limits(chain, **overrides):
-    return colloid_limit_set_set(actor=chain.maker, metal="Ag", **{**GENEROUS, **overrides})
+    return colloid_limit_set_set(actor=None, metal="Ag", **{**GENEROUS, **overrides})
 
 
 def _import(chain, batch, day, stem="ag_ageing"):
