@@ -1,11 +1,17 @@
-"""lineage ID: what a record was made from and what was made from it, as indented text."""
+"""lineage ID: what a record was made from and what was made from it, as indented text.
 
+``--prov`` prints one direction (``--direction``, ancestors by default) as a W3C PROV-JSON
+document instead (inventory.prov), for audit tools.
+"""
+
+import json
 import sys
 
 from django.core.management.base import BaseCommand
 
 from inventory.codes import RecordNotFound
 from inventory.lineage import Lineage, record_get_ancestors, record_get_descendants
+from inventory.prov import DIRECTIONS, lineage_as_prov
 
 
 def _describe(record) -> str:
@@ -38,13 +44,21 @@ class Command(BaseCommand):
 
     def add_arguments(self, parser):
         parser.add_argument("code")
+        parser.add_argument("--prov", action="store_true",
+                            help="print W3C PROV-JSON (one direction) instead of text")
+        parser.add_argument("--direction", choices=DIRECTIONS, default="ancestors",
+                            help="with --prov: ancestors (made from) or descendants (used in)")
 
-    def handle(self, *args, code, **options):
+    def handle(self, *args, code, prov=False, direction="ancestors", **options):
         try:
             up = record_get_ancestors(code)
         except RecordNotFound as error:
             self.stderr.write(str(error))
             sys.exit(2)
+        if prov:
+            document = lineage_as_prov(up.root, direction=direction)
+            self.stdout.write(json.dumps(document, indent=2, ensure_ascii=False))
+            return
         down = record_get_descendants(up.root)
         self.stdout.write(_describe(up.root))
         self.stdout.write("Made from:")
