@@ -13,12 +13,14 @@ from typing import ClassVar
 import django_filters
 from drf_spectacular.utils import extend_schema
 from rest_framework import mixins, permissions, status, viewsets
+from rest_framework.decorators import action
+from rest_framework.parsers import JSONParser
 from rest_framework.response import Response
 
-from inventory.roles import ADMINISTRATOR, MAKER, VIEWER, require_role
+from inventory.roles import ADMINISTRATOR, MAKER, REVIEWER, VIEWER, require_role
 
 from .pagination import Pages
-from .serializers import related_names
+from .serializers import RejectSign, ReleaseSign, Void, related_names
 
 
 class HasRole(permissions.BasePermission):
@@ -165,3 +167,30 @@ class SettingViewSet(RecordViewSet):
     def respond(self, result, status_code):
         created = status_code == status.HTTP_201_CREATED and result.version == 1
         return super().respond(result, status_code if created else status.HTTP_200_OK)
+
+
+class VoidMixin:
+    """``POST {code}/void/``: a record made in error is voided with a reason, never deleted."""
+
+    @extend_schema(request=Void)
+    @action(detail=True, methods=["post"], required_role=REVIEWER, parser_classes=(JSONParser,))
+    def void(self, request, code=None):
+        """Void the record (kept in lineage and history, no longer usable or ready)."""
+        return self.run_service(Void, record=self.get_object())
+
+
+class SignedLifecycleMixin(VoidMixin):
+    """``POST {code}/release/`` and ``{code}/reject/`` under an electronic signature."""
+
+    @extend_schema(request=ReleaseSign)
+    @action(detail=True, methods=["post"], required_role=REVIEWER, parser_classes=(JSONParser,))
+    def release(self, request, code=None):
+        """Release from quarantine: re-enter your password and choose the meaning.  The
+        maker cannot release their own record; a substrate also needs a passed QC."""
+        return self.run_service(ReleaseSign, record=self.get_object())
+
+    @extend_schema(request=RejectSign)
+    @action(detail=True, methods=["post"], required_role=REVIEWER, parser_classes=(JSONParser,))
+    def reject(self, request, code=None):
+        """Reject, with a reason, under an electronic signature."""
+        return self.run_service(RejectSign, record=self.get_object())

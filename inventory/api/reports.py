@@ -1,4 +1,5 @@
-"""Read-only answers across records: readiness, lineage, expiring soon, a record by its code.
+"""Read-only answers across records: readiness, lineage, expiring soon, a record by its code,
+its history and its signatures.
 
 Each calls the same selector as the page and the command (``substrate_check_readiness``,
 ``record_get_ancestors``/``record_get_descendants``, ``records_expiring_within``) and only
@@ -19,9 +20,12 @@ from inventory.models import LifecycleRecord
 from inventory.selectors import (
     record_get_ancestors,
     record_get_descendants,
+    record_get_history,
+    record_get_signatures,
     records_expiring_within,
     substrate_check_readiness,
 )
+from inventory.signatures import MEANINGS
 
 from .base import RoleMixin
 from .fields import LabDate
@@ -179,3 +183,56 @@ class ExpiringView(RoleMixin, APIView):
             {"code": item.record.code, "kind": item.kind_label, "status": item.record.status,
              "expires_on": item.expires_on, "days_left": item.days_left} for item in items
         ], many=True).data)
+
+
+# ------------------------------------------------------------- history and signatures
+
+
+class FieldChangeOut(serializers.Serializer):
+    field = serializers.CharField()
+    label = serializers.CharField(help_text="The field's name as the pages show it.")
+    old = serializers.JSONField(allow_null=True, help_text="Value before (records by code).")
+    new = serializers.JSONField(allow_null=True, help_text="Value after (records by code).")
+
+
+class HistoryEntryOut(DocumentedFields, serializers.Serializer):
+    when = serializers.DateTimeField()
+    who = serializers.CharField(help_text="Username, or 'system' for the demo loader.")
+    kind = serializers.ChoiceField(choices=["created", "changed", "deleted"])
+    version = serializers.IntegerField()
+    changes = FieldChangeOut(many=True)
+    reason = serializers.CharField(allow_blank=True)
+
+
+class SignatureOut(DocumentedFields, serializers.Serializer):
+    signer_username = serializers.CharField()
+    signer_name = serializers.CharField(help_text="The signer's printed name when signing.")
+    signed_at = serializers.DateTimeField()
+    meaning = serializers.ChoiceField(choices=list(MEANINGS))
+    action = serializers.CharField(help_text="'release' or 'reject'.")
+    to_status = serializers.CharField()
+    reason = serializers.CharField(allow_blank=True)
+    record_code = serializers.CharField()
+    record_version = serializers.IntegerField()
+    content_sha256 = serializers.CharField(help_text="SHA-256 of the record's content as "
+                                                     "signed (hex).")
+    content_matches = serializers.BooleanField(help_text="Whether the record still holds "
+                                                         "exactly the signed content.")
+
+
+class HistoryView(RoleMixin, APIView):
+    """Every create and change of a record, newest first: when, who, old and new, why."""
+
+    @extend_schema(responses={200: HistoryEntryOut(many=True)}, operation_id="records_history")
+    def get(self, request, code: str):
+        return Response(HistoryEntryOut(record_get_history(code.strip().upper()), many=True).data)
+
+
+class SignaturesView(RoleMixin, APIView):
+    """The electronic signatures on a record, oldest first."""
+
+    @extend_schema(responses={200: SignatureOut(many=True)},
+                   operation_id="records_signatures")
+    def get(self, request, code: str):
+        signatures = record_get_signatures(code.strip().upper())
+        return Response(SignatureOut(signatures, many=True).data)

@@ -26,6 +26,7 @@ from inventory.models import (
     Substrate,
     TemplateAssembly,
 )
+from inventory.signatures import REJECT_MEANINGS, RELEASE_MEANINGS, SignatureIntent
 from qc.analysis.chronoamperogram import CURRENT_UNITS_A, TIME_UNITS_S
 
 from .fields import AnyRecordRef, FiniteFloat, LabDate, RecordRef, Upload, file_parts
@@ -47,6 +48,13 @@ def _slug_of(model) -> str | None:
 
 class RecordSerializer(DocumentedFields, serializers.ModelSerializer):
     """Read-only view of a stored record."""
+
+    def build_standard_field(self, field_name, model_field):
+        field_class, kwargs = super().build_standard_field(field_name, model_field)
+        # DRF drops allow_blank on read-only fields, but a computed choice may be blank.
+        if kwargs.get("read_only") and "choices" in kwargs and model_field.blank:
+            kwargs["allow_blank"] = True
+        return field_class, kwargs
 
     def build_relational_field(self, field_name, relation_info):
         slug = _slug_of(relation_info.related_model)
@@ -324,3 +332,42 @@ class DepositionToleranceSet(ServiceSerializer):
                                   help_text="Element symbol; blank for every metal.")
     is_example = serializers.BooleanField(required=False, default=False)
     rationale = serializers.CharField(required=False, allow_blank=True)
+
+
+# ------------------------------------------------------------------ signatures and void
+
+
+class _Signed(ServiceSerializer):
+    """An electronic signature: the signer's password, re-entered, and its meaning."""
+
+    record_argument = "record"
+    # Blank or wrong passwords are the signature service's to refuse, in its words.
+    password = serializers.CharField(write_only=True, allow_blank=True, trim_whitespace=False,
+                                     style={"input_type": "password"},
+                                     help_text="The signer's password, re-entered.")
+
+    def arguments(self) -> dict:
+        data = dict(self.validated_data)
+        data["signature"] = SignatureIntent(password=data.pop("password"),
+                                            meaning=data.pop("meaning"))
+        return data
+
+
+class ReleaseSign(_Signed):
+    service = staticmethod(services.record_release)
+    meaning = serializers.ChoiceField(choices=RELEASE_MEANINGS,
+                                      help_text="What the signature means.")
+
+
+class RejectSign(_Signed):
+    service = staticmethod(services.record_reject)
+    meaning = serializers.ChoiceField(choices=REJECT_MEANINGS, default=REJECT_MEANINGS[0],
+                                      help_text="What the signature means.")
+    reason = serializers.CharField(allow_blank=True, help_text="Why it is rejected.")
+
+
+class Void(ServiceSerializer):
+    service = staticmethod(services.record_void)
+    record_argument = "record"
+    reason = serializers.CharField(allow_blank=True, help_text="Why the record is void (made "
+                                                                "in error); it is kept.")

@@ -82,6 +82,7 @@ _DIMENSIONLESS = {
     "point_count": "count (points in the spectrum)",
     "spikes_removed": "count",
     "version": "count (edits so far; for conflict detection)",
+    "record_version": "count (the record's version when signed)",
     "id": "none (row identifier, used in this kind's URL)",
     "size_bytes": "bytes",
     "depth": "count (steps from the root)",

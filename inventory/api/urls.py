@@ -37,6 +37,8 @@ urlpatterns = [
     path("schema/", SpectacularAPIView.as_view(), name="schema"),
     path("records/<str:code>/", reports.RecordView.as_view(), name="record"),
     path("records/<str:code>/lineage/", reports.LineageView.as_view(), name="lineage"),
+    path("records/<str:code>/history/", reports.HistoryView.as_view(), name="history"),
+    path("records/<str:code>/signatures/", reports.SignaturesView.as_view(), name="signatures"),
     path("expiring/", reports.ExpiringView.as_view(), name="expiring"),
     path("", include(router.urls)),
 ]

@@ -33,7 +33,13 @@ from inventory.models import (
 from inventory.roles import MAKER, REVIEWER, VIEWER
 
 from . import serializers as s
-from .base import RecordViewSet, SettingViewSet, filterset
+from .base import (
+    RecordViewSet,
+    SettingViewSet,
+    SignedLifecycleMixin,
+    VoidMixin,
+    filterset,
+)
 from .reports import ReadinessOut, readiness_data
 from .results import ChronoamperogramResult, chronoamperogram_summary
 
@@ -62,7 +68,7 @@ ShelfLifeRuleOut = s.read_serializer(ShelfLifeRule)
 DepositionToleranceOut = s.read_serializer(DepositionTolerance)
 
 
-class StorageLocationViewSet(RecordViewSet):
+class StorageLocationViewSet(VoidMixin, RecordViewSet):
     queryset = StorageLocation.objects.all()
     serializer_class = StorageLocationOut
     create_serializer = s.StorageLocationCreate
@@ -71,7 +77,7 @@ class StorageLocationViewSet(RecordViewSet):
     ordering_fields = ("code", "name", "created_at")
 
 
-class ReagentLotViewSet(RecordViewSet):
+class ReagentLotViewSet(SignedLifecycleMixin, RecordViewSet):
     queryset = ReagentLot.objects.all()
     serializer_class = ReagentLotOut
     create_serializer = s.ReagentLotReceive
@@ -87,7 +93,7 @@ class ReagentLotViewSet(RecordViewSet):
         return self.run_service(s.ReagentLotOpen, record=self.get_object())
 
 
-class SphereLotViewSet(RecordViewSet):
+class SphereLotViewSet(SignedLifecycleMixin, RecordViewSet):
     queryset = SphereLot.objects.all()
     serializer_class = SphereLotOut
     create_serializer = s.SphereLotReceive
@@ -97,7 +103,7 @@ class SphereLotViewSet(RecordViewSet):
     ordering_fields = (*LIFECYCLE_ORDERING, "received_on", "nominal_diameter_nm")
 
 
-class TemplateViewSet(RecordViewSet):
+class TemplateViewSet(SignedLifecycleMixin, RecordViewSet):
     queryset = TemplateAssembly.objects.all()
     serializer_class = TemplateOut
     create_serializer = s.TemplateAssemble
@@ -108,7 +114,7 @@ class TemplateViewSet(RecordViewSet):
     ordering_fields = (*LIFECYCLE_ORDERING, "made_on")
 
 
-class DepositionRunViewSet(RecordViewSet):
+class DepositionRunViewSet(VoidMixin, RecordViewSet):
     queryset = DepositionRun.objects.all()
     serializer_class = DepositionRunOut
     create_serializer = s.DepositionRunRecord
@@ -132,7 +138,7 @@ class DepositionRunViewSet(RecordViewSet):
                         else status.HTTP_201_CREATED)
 
 
-class SubstrateViewSet(RecordViewSet):
+class SubstrateViewSet(SignedLifecycleMixin, RecordViewSet):
     queryset = Substrate.objects.all()
     serializer_class = SubstrateOut
     create_serializer = s.SubstrateReceive
@@ -162,7 +168,7 @@ class SubstrateViewSet(RecordViewSet):
         return Response(readiness_data(code, request.query_params))
 
 
-class LinkerLayerViewSet(RecordViewSet):
+class LinkerLayerViewSet(VoidMixin, RecordViewSet):
     queryset = LinkerLayer.objects.all()
     serializer_class = LinkerLayerOut
     create_serializer = s.LinkerLayerApply
@@ -172,7 +178,7 @@ class LinkerLayerViewSet(RecordViewSet):
     ordering_fields = ("code", "created_at", "made_on")
 
 
-class NanoparticleBatchViewSet(RecordViewSet):
+class NanoparticleBatchViewSet(SignedLifecycleMixin, RecordViewSet):
     queryset = NanoparticleBatch.objects.all()
     serializer_class = NanoparticleBatchOut
     create_serializer = s.NanoparticleBatchMake
@@ -182,7 +188,7 @@ class NanoparticleBatchViewSet(RecordViewSet):
     ordering_fields = (*LIFECYCLE_ORDERING, "made_on")
 
 
-class ParticleAttachmentViewSet(RecordViewSet):
+class ParticleAttachmentViewSet(VoidMixin, RecordViewSet):
     queryset = ParticleAttachment.objects.all()
     serializer_class = ParticleAttachmentOut
     create_serializer = s.ParticleAttach
@@ -192,7 +198,7 @@ class ParticleAttachmentViewSet(RecordViewSet):
     ordering_fields = ("code", "created_at", "made_on")
 
 
-class DatasetViewSet(RecordViewSet):
+class DatasetViewSet(VoidMixin, RecordViewSet):
     queryset = Dataset.objects.all()
     serializer_class = DatasetOut
     create_serializer = s.DatasetRegister
@@ -203,7 +209,7 @@ class DatasetViewSet(RecordViewSet):
     ordering_fields = ("code", "created_at", "acquired_on", "title")
 
 
-class FlagViewSet(RecordViewSet):
+class FlagViewSet(VoidMixin, RecordViewSet):
     """Deviations on any record; an open flag blocks readiness downstream."""
 
     queryset = Flag.objects.all()

@@ -47,7 +47,7 @@ def clients(viewer, maker, reviewer, administrator):
 class QcLab:
     """Benzenethiol with the demo's example limits, its neat reference, and a ready substrate."""
 
-    def __init__(self, chain):
+    def __init__(self, chain, administrator):
         from qc.services import (
             qc_limit_set_define,
             reference_analyte_define,
@@ -57,12 +57,12 @@ class QcLab:
         self.chain = chain
         self.lot = chain.lot("reference_analyte", days_ago=20)
         self.analyte = reference_analyte_define(
-            actor=chain.reviewer, name="Benzenethiol", band_positions_cm1=[999, 1022, 1073, 1573],
+            actor=administrator, name="Benzenethiol", band_positions_cm1=[999, 1022, 1073, 1573],
             band_positions_source="from memory", qc_band_cm1=1073.0, qc_band_window_cm1=40.0,
             reference_band_cm1=1094.0, surface_density_per_nm2=6.8,
             surface_density_source="from memory", lots=[self.lot])
         for kind in ("particles", "linker", "film"):
-            qc_limit_set_define(actor=chain.reviewer, product_kind=kind, analyte=self.analyte,
+            qc_limit_set_define(actor=administrator, product_kind=kind, analyte=self.analyte,
                                 min_enhancement_factor=1e5, max_rsd_percent=20.0, min_snr=20.0,
                                 band_position_tolerance_cm1=3.0, valid_days=14)
         self.reference = reference_measurement_import(
@@ -87,5 +87,5 @@ class QcLab:
 
 
 @pytest.fixture
-def qc_lab(chain):
-    return QcLab(chain)
+def qc_lab(chain, administrator):
+    return QcLab(chain, administrator)
