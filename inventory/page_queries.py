@@ -36,11 +36,20 @@ HIDDEN_FIELDS = {"id", "code", "version", "notes", "point_values", "ef_inputs", 
                  "updated_at"}
 
 
-def unit_of(field_name: str) -> str:
+VOID_FIELDS = {"voided_at", "voided_by", "void_reason"}
+
+
+def unit_of(field_name: str) -> tuple[str, str]:
+    """(unit, name without its unit suffix); ("", name) when the name carries no unit."""
     for suffix, unit in UNIT_SUFFIXES:
-        if field_name.endswith(suffix):
-            return unit
-    return ""
+        if field_name.endswith(suffix) and len(field_name) > len(suffix):
+            return unit, field_name[: -len(suffix)]
+    return "", field_name
+
+
+def _shown(value):
+    """Floats to six significant figures: stored results carry float noise, not precision."""
+    return format(value, ".6g") if isinstance(value, float) else value
 
 
 @dataclass(frozen=True)
@@ -52,19 +61,28 @@ class FieldRow:
 
 
 def field_rows(record) -> list[FieldRow]:
-    """The record's own fields as (label, display value, unit), files and JSON left out."""
+    """The record's own fields as (label, display value, unit), files and JSON left out.
+
+    The void fields appear only on a voided record (the page shows a banner then too).
+    """
+    hidden = HIDDEN_FIELDS | (VOID_FIELDS if getattr(record, "voided_at", None) is None
+                              else set())
     rows = []
     for field in record._meta.concrete_fields:
-        if field.name in HIDDEN_FIELDS or isinstance(field, models.FileField):
+        if field.name in hidden or isinstance(field, models.FileField):
             continue
         if field.is_relation:
             related = getattr(record, field.name)
             code = getattr(related, "code", "")
             rows.append(FieldRow(str(field.verbose_name), related, "", code))
             continue
+        unit, bare_name = unit_of(field.name)
+        label = str(field.verbose_name)
+        if unit and label == field.name.replace("_", " "):  # not named by hand: drop the unit
+            label = bare_name.replace("_", " ")
         value = getattr(record, f"get_{field.name}_display")() if field.choices \
-            else getattr(record, field.name)
-        rows.append(FieldRow(str(field.verbose_name), value, unit_of(field.name)))
+            else _shown(getattr(record, field.name))
+        rows.append(FieldRow(label, value, unit))
     return rows
 
 

@@ -2,37 +2,35 @@
 
 from __future__ import annotations
 
-import importlib.util
 import json
 
 from django.contrib.auth import get_user_model
 from django.contrib.auth.decorators import login_required
-from django.http import Http404, HttpResponse
+from django.http import HttpResponse
 from django.shortcuts import render
 
 from qc import plots
 from qc.models import QcMeasurement, UvVisRecord
 
 from .. import page_queries
-from ..labels import made_on_of
 from ..codes import RecordNotFound, record_get
+from ..labels import made_on_of
 from ..models import Flag, NanoparticleBatch, StatusChange, Substrate
+from ..prov import lineage_as_prov
 from ..selectors import record_get_ancestors, record_get_descendants
 from ._common import record_or_404
 from .records import lineage_rows
 
 DIRECTIONS = ("ancestors", "descendants")
-
-
-def prov_available() -> bool:
-    """True once inventory.prov (the PROV-JSON export) is installed."""
-    return importlib.util.find_spec("inventory.prov") is not None
+# Rows listed per direction on the page; a recall can reach thousands, and the complete list
+# is one click away (PROV-JSON here, or the API's lineage endpoint).
+TRACE_ROWS = 300
 
 
 @login_required
 def trace(request):
     code = request.GET.get("code", "").strip()
-    context = {"code": code, "record": None, "error": None, "prov": prov_available()}
+    context = {"code": code, "record": None, "error": None, "shown": TRACE_ROWS}
     if code:
         try:
             record = record_get(code)
@@ -41,7 +39,9 @@ def trace(request):
         else:
             up, down = record_get_ancestors(record), record_get_descendants(record)
             context.update(record=record, kind=record._meta.verbose_name,
-                           ancestors=lineage_rows(up), descendants=lineage_rows(down))
+                           ancestor_total=len(up.depth), descendant_total=len(down.depth),
+                           ancestors=lineage_rows(up)[:TRACE_ROWS],
+                           descendants=lineage_rows(down)[:TRACE_ROWS])
     return render(request, "inventory/trace.html", context)
 
 
@@ -66,10 +66,6 @@ def trace_prov(request, code: str):
     direction = request.GET.get("direction", "ancestors")
     if direction not in DIRECTIONS:
         direction = "ancestors"
-    if not prov_available():
-        raise Http404("The PROV-JSON export is not installed.")
-    from ..prov import lineage_as_prov
-
     document = lineage_as_prov(record, direction=direction)
     response = HttpResponse(json.dumps(document, indent=2, default=str),
                             content_type="application/json")
@@ -109,6 +105,5 @@ def trace_report(request, code: str):
         "status_changes": StatusChange.objects.filter(record_code__in=codes)
         .select_related("changed_by").order_by("record_code", "changed_at"),
         "signatures": [s for r in records for s in page_queries.record_signatures(r)],
-        "prov": prov_available(),
     }
     return render(request, "inventory/trace_report.html", context)

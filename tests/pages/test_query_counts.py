@@ -71,6 +71,8 @@ def test_list_pages_keep_a_fixed_query_count_with_thousands_of_records(
     assert Substrate.objects.filter(status=Status.QUARANTINE).count() > 1500
     large, seconds = _measure(client, pages)
     assert large == small, (small, large)
+    trace = client.get(pages["trace"]).content.decode()
+    assert 'id="descendants-more"' in trace  # thousands reached, the nearest listed
     for name, url in pages.items():
         with django_assert_max_num_queries(MAX_QUERIES[name]):
             client.get(url)

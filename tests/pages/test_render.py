@@ -126,3 +126,19 @@ def test_unknown_records_are_404(lab, login):
     assert client.get(reverse("record", args=["SUB-99999"])).status_code == 404
     assert client.get(reverse("trace_graph", args=["SUB-99999"])).status_code == 404
     assert client.get(reverse("plot_heatmap", args=[lab.good.code])).status_code == 404
+
+
+def test_prov_download_is_a_w3c_prov_document_of_the_lineage(lab, login):
+    from prov.model import ProvDocument
+
+    from inventory.selectors import record_get_ancestors
+
+    client = login(lab, "viewer")
+    response = client.get(reverse("trace_prov", args=[lab.dataset.code]),
+                          {"direction": "ancestors"})
+    assert response.status_code == 200 and response["Content-Type"] == "application/json"
+    assert "attachment" in response["Content-Disposition"]
+    document = ProvDocument.deserialize(content=response.content.decode(), format="json")
+    entities = {str(record.identifier) for record in document.get_records()}
+    for code in record_get_ancestors(lab.dataset).depth:
+        assert any(identifier.endswith(code) for identifier in entities), code
