@@ -7,12 +7,14 @@ weighting on a penalised B-spline (P-spline) basis, solved for every spectrum at
 
 from __future__ import annotations
 
+import itertools
 import os
-import queue
 from concurrent.futures import ThreadPoolExecutor
 
 import numpy as np
 from pybaselines import Baseline
+from scipy.linalg import solveh_banded
+from threadpoolctl import threadpool_limits
 
 from ._validation import as_finite_1d, as_strictly_monotonic_axis, require_positive
 from .errors import AnalysisInputError
@@ -173,8 +175,8 @@ def asls_baseline_map(
     points_per_knot : int, default 16
         Knot spacing in points.
     max_iter, tol : int, float
-        Iteration cap and tolerance on ``‖w_new − w_old‖ / ‖w_old‖``, tested per spectrum;
-        converged spectra leave the working set.
+        Iteration cap and tolerance on ``‖w_new − w_old‖ / ‖w_old‖``, tested per spectrum
+        (pybaselines' rule); a converged spectrum keeps its coefficients.
 
     Returns
     -------
@@ -185,21 +187,30 @@ def asls_baseline_map(
 
     Notes
     -----
-    Why a spline basis: a point-by-point (Whittaker) system is ``n_shift`` unknowns per
-    spectrum and its banded solve dominates the time for 10⁴ spectra. With knots every
-    ``h`` points the unknowns drop ``h``-fold, and because the knots are uniform in point
-    index every knot interval holds the same ``h`` basis values, so ``BᵀWB`` and ``BᵀWy``
-    for all spectra are two small matrix products, and the banded (half-bandwidth 3)
-    Cholesky factorisation runs down the coefficients once for all spectra together,
-    vectorised across spectra. The penalty acts on point index, like pybaselines' ``asls``.
-    Spectra are processed in blocks of a few hundred (buffers stay small and are reused)
-    and the blocks run on up to four threads; the result does not depend on either.
+    Why a spline basis: a point-by-point (Whittaker) system has ``n_shift`` unknowns per
+    spectrum; with knots every ``h`` points the unknowns drop ``h``-fold. Because the knots
+    are uniform in point index, every knot interval holds the same ``h`` basis values, and
+    the work per reweighting is done for all spectra at once:
 
-    The λ conversion follows from ``Δ²α ≈ h² z''`` for a smooth curve summed over
-    ``n/h`` coefficients; it is a scaling argument, checked in the tests by band heights
-    agreeing with pybaselines' ``asls`` within 2 %. The iteration and stopping rule are
-    those of pybaselines (the baseline returned is the one solved with the last weights
-    before they stopped changing).
+    * the weights take two values, ``w = p + (1 − 2p)·[y ≤ z]``, so ``BᵀWB`` is a fixed
+      part plus, per interval, a sum over its low points — looked up from tables indexed by
+      the bit pattern of those points (one table per byte of the pattern);
+    * ``BᵀWy`` is ``p·Bᵀy`` (fixed) plus one matrix product over the low points;
+    * the first iteration (all weights 1) shares one matrix across spectra: one LAPACK
+      banded solve with many right-hand sides (``scipy.linalg.solveh_banded``);
+    * later systems (half-bandwidth 3) are factorised by a banded Cholesky that runs down
+      the coefficients once, vectorised across spectra;
+    * data, baseline and comparisons are float32 (counts need no more; the relative
+      rounding, 6·10⁻⁸, only decides points lying on the baseline), the normal equations
+      and their solution float64; BLAS runs single-threaded inside (threadpoolctl) while
+      blocks of spectra run on up to four threads, since numpy releases the GIL.
+
+    The penalty acts on point index, like pybaselines' ``asls``. The λ conversion follows
+    from ``Δ²α ≈ h² z''`` for a smooth curve summed over ``n/h`` coefficients; it is a
+    scaling argument, checked in the tests by band heights agreeing with pybaselines'
+    ``asls`` within 2 %. The iteration and stopping rule are those of pybaselines (the
+    baseline returned is the one solved with the last weights before they stopped
+    changing); the results do not depend on the block size or thread count.
 
     References
     ----------
@@ -224,129 +235,168 @@ def asls_baseline_map(
             f"must be a whole number between 1 and {axis.size // 4}", field="points_per_knot"
         )
 
-    h = int(points_per_knot)
-    n_points, n_shift = spectra.shape
-    n_intervals = -(-n_shift // h)
-    local = np.arange(h) / h
-    pieces = np.stack([piece(local) for piece in _CUBIC_PIECES], axis=1)  # (h, 4)
-    products = np.stack([pieces[:, a] * pieces[:, b] for a, b in _PAIRS], axis=1)  # (h, 10)
-    penalty = _second_difference_bands(n_intervals + 3, lam / h**3)
-
+    basis = _SplineBasis(axis.size, int(points_per_knot), float(lam), float(p))
+    n_points = spectra.shape[0]
     baseline = np.empty_like(spectra)
     iterations = np.zeros(n_points, dtype=int)
     converged = np.zeros(n_points, dtype=bool)
-    chunk = min(n_points, _CHUNK_SPECTRA)
-    blocks = [slice(first, min(first + chunk, n_points)) for first in range(0, n_points, chunk)]
-    n_workers = max(1, min(len(blocks), os.cpu_count() or 1, _MAX_THREADS))
-    workspaces = queue.SimpleQueue()
-    for _ in range(n_workers):
-        workspaces.put(_SplineWorkspace(n_intervals, h, chunk))
+    n_workers = max(1, min(os.cpu_count() or 1, _MAX_THREADS))
+    n_blocks = max(n_workers, -(-n_points // _BLOCK_SPECTRA)) if n_points >= 2 * _MIN_BLOCK else 1
+    edges = np.linspace(0, n_points, n_blocks + 1).astype(int)
+    blocks = [slice(a, b) for a, b in itertools.pairwise(edges) if b > a]
 
     def run(rows: slice) -> None:
-        work = workspaces.get()
-        try:
-            baseline[rows], iterations[rows], converged[rows] = _asls_spline_block(
-                spectra[rows], p, max_iter, tol, pieces, products, penalty, work
-            )
-        finally:
-            workspaces.put(work)
+        baseline[rows], iterations[rows], converged[rows] = _asls_spline_block(
+            spectra[rows], basis, max_iter, tol
+        )
 
-    # Blocks are independent and numpy releases the GIL in its array loops and BLAS calls,
-    # so a few threads overlap the work; results do not depend on the thread count.
-    if n_workers == 1:
-        for rows in blocks:
-            run(rows)
-    else:
-        with ThreadPoolExecutor(max_workers=n_workers) as pool:
-            list(pool.map(run, blocks))
+    with threadpool_limits(limits=1, user_api="blas"):
+        if n_workers == 1 or len(blocks) == 1:
+            for rows in blocks:
+                run(rows)
+        else:
+            with ThreadPoolExecutor(max_workers=min(n_workers, len(blocks))) as pool:
+                list(pool.map(run, blocks))
     return baseline, {"iterations": iterations, "converged": converged}
 
 
-# Spectra solved together; large enough that numpy call overhead is small, small enough
-# that the workspace stays in memory that is already mapped and mostly in cache.
-_CHUNK_SPECTRA = 512
+# Spectra solved together: large blocks keep the per-call cost of the vectorised Cholesky
+# (a few thousand numpy calls per solve) small; one block per thread for a 10⁴ map.
+_BLOCK_SPECTRA = 5000
+_MIN_BLOCK = 256
 _MAX_THREADS = 4
+# A padding point compares above any baseline, so it never joins the low (weight 1 − p) set.
+_PAD = np.float32(np.finfo(np.float32).max)
+_POPCOUNT = np.array([v.bit_count() for v in range(256)], dtype=np.uint8)
 
 
-def _asls_spline_block(spectra, p, max_iter, tol, pieces, products, penalty, work):
+class _SplineBasis:
+    """Per-map constants: basis values on one knot interval, lookup tables, fixed bands."""
+
+    def __init__(self, n_shift: int, h: int, lam: float, p: float):
+        self.n_shift, self.h, self.p = n_shift, h, p
+        self.n_intervals = -(-n_shift // h)
+        self.n_coef = self.n_intervals + 3
+        local = np.arange(h) / h
+        pieces = np.stack([piece(local) for piece in _CUBIC_PIECES], axis=1)  # (h, 4)
+        products = np.stack([pieces[:, a] * pieces[:, b] for a, b in _PAIRS], axis=1)
+        real = np.arange(self.n_intervals * h).reshape(self.n_intervals, h) < n_shift
+        gram_real = _scatter_gram(real.astype(float) @ products, self.n_coef)
+        penalty = _second_difference_bands(self.n_coef, lam / h**3)
+        self.all_ones_bands = penalty + gram_real  # lower form: bands[d, j] = A[j + d, j]
+        self.fixed_bands = penalty + p * gram_real
+        self.pieces = pieces
+        self.pieces32 = pieces.astype(np.float32)
+        self.pieces_t32 = np.ascontiguousarray(pieces.T, dtype=np.float32)
+        self.low_pieces32 = ((1 - 2 * p) * pieces).astype(np.float32)
+        n_bytes = -(-h // 8)
+        padded = np.zeros((8 * n_bytes, len(_PAIRS)))
+        padded[:h] = products
+        bits = np.unpackbits(np.arange(256, dtype=np.uint8)[:, None], axis=1).astype(float)
+        self.tables = [
+            np.ascontiguousarray(((1 - 2 * p) * bits @ padded[8 * g : 8 * g + 8]).T)
+            for g in range(n_bytes)
+        ]
+
+
+def _scatter_gram(parts: np.ndarray, n_coef: int) -> np.ndarray:
+    """Add per-interval products (n_intervals, 10, ...) into lower bands (4, n_coef, ...)."""
+    n_intervals = parts.shape[0]
+    bands = np.zeros((4, n_coef) + parts.shape[2:])
+    for k, (a, b) in enumerate(_PAIRS):
+        bands[b - a, a : a + n_intervals] += parts[:, k]
+    return bands
+
+
+def _asls_spline_block(spectra, basis, max_iter, tol):
     """ASLS iterations for one block of spectra (rows), all solved together."""
-    n_cols, n_shift = spectra.shape
-    work.resize(n_cols)
-    # Spectra along the last axis: each per-coefficient step of the batched solve is then
-    # a contiguous vector over spectra. Padding points (beyond n_shift) weigh zero.
-    y, weights, weighted_y = work.y, work.weights, work.weighted_y
-    y[:n_shift] = spectra.T
-    y[n_shift:] = 0.0
-    weights[:n_shift] = 1.0
-    weights[n_shift:] = 0.0
-    above, new_above = work.above[:n_shift], work.new_above[:n_shift]
-    flipped = work.flipped[:n_shift]
-    iterations = np.zeros(n_cols, dtype=int)
-    converged = np.zeros(n_cols, dtype=bool)
-    low, high = p, 1.0 - p
-
+    n, n_shift = spectra.shape
+    h, n_int, p = basis.h, basis.n_intervals, basis.p
+    y = np.zeros((n, n_int * h), dtype=np.float32)
+    y[:, :n_shift] = spectra
+    y3 = y.reshape(n, n_int, h)
+    parts = np.empty((n, n_int, 4), dtype=np.float32)
+    parts_t = np.empty((4, n_int, n), dtype=np.float32)
+    # Iteration 1 weighs every point 1, so all spectra share one matrix: one LAPACK call.
+    fixed_rhs = _scatter_rhs(np.matmul(y3, basis.pieces32, out=parts), parts_t)
+    alpha = solveh_banded(basis.all_ones_bands, fixed_rhs, lower=True)
+    fixed_rhs *= p
+    y[:, n_shift:] = _PAD
+    fitted, low_y = np.empty_like(y3), np.empty_like(y3)
+    low = np.empty(y3.shape, dtype=bool)
+    coef = np.empty((n, basis.n_coef), dtype=np.float32)
+    windows = np.empty((n, n_int, 4), dtype=np.float32)
+    bands, rhs = np.empty((4, basis.n_coef, n)), np.empty((basis.n_coef, n))
+    index = np.empty((n_int, n), dtype=np.intp)
+    gathered = np.empty((n_int, n))
+    iterations = np.zeros(n, dtype=int)
+    converged = np.zeros(n, dtype=bool)
+    packed_old = n_low_old = None  # the pattern the last solve was weighted with
     for iteration in range(1, max_iter + 2):
-        np.multiply(weights, y, out=weighted_y)
-        coefficients = _solve_spline_system(weights, weighted_y, pieces, products, penalty, work)
-        fitted = _evaluate_spline(coefficients, pieces, work)[:n_shift]
-        np.greater(y[:n_shift], fitted, out=new_above)
-        # The weights take two values, so ‖Δw‖ and ‖w_old‖ follow from counts.
-        n_above = np.count_nonzero(new_above, axis=0)
+        _evaluate(alpha, basis.pieces_t32, fitted, coef, windows)
+        np.less_equal(y3, fitted, out=low)
+        packed = _pack_intervals(low)
+        n_low = _POPCOUNT[packed.reshape(n, -1)].sum(axis=1, dtype=np.int64)
         if iteration == 1:  # the starting weights are all ones
-            change = np.sqrt(n_above * (1 - low) ** 2 + (n_shift - n_above) * low**2)
-            change /= np.sqrt(n_shift)
+            change = np.sqrt((n_shift - n_low) * (1 - p) ** 2 + n_low * p**2) / np.sqrt(n_shift)
         else:
-            np.not_equal(new_above, above, out=flipped)
-            flips = np.count_nonzero(flipped, axis=0)
-            old_above = np.count_nonzero(above, axis=0)
-            old_norm = np.sqrt(low**2 * old_above + high**2 * (n_shift - old_above))
-            change = (high - low) * np.sqrt(flips) / old_norm
-        still_open = ~converged
-        iterations[still_open] = iteration
+            flips = _POPCOUNT[(packed ^ packed_old).reshape(n, -1)].sum(axis=1, dtype=np.int64)
+            old_norm = np.sqrt(p**2 * (n_shift - n_low_old) + (1 - p) ** 2 * n_low_old)
+            change = abs(1 - 2 * p) * np.sqrt(flips) / old_norm
+        iterations[~converged] = iteration
         converged |= change < tol
         if converged.all() or iteration > max_iter:
             break
-        # A converged spectrum keeps its weights, so later solves reproduce its baseline
-        # exactly and no per-spectrum bookkeeping of results is needed.
-        if converged.any():
-            np.copyto(new_above, above, where=converged[None, :])
-        above, new_above = new_above, above
-        weights[:n_shift] = high
-        np.copyto(weights[:n_shift], low, where=above)
-    return fitted.T, iterations, converged
+        # BᵀWB with W = p + (1 − 2p)·[y ≤ z]: fixed part plus table look-ups of each byte
+        # of an interval's low-point pattern; BᵀWy likewise, the low part as one product.
+        bands[:] = basis.fixed_bands[:, :, None]
+        for g, table in enumerate(basis.tables):
+            np.copyto(index, packed[:, :, g].T)
+            for k, (a, b) in enumerate(_PAIRS):
+                np.take(table[k], index, out=gathered)
+                bands[b - a, a : a + n_int] += gathered
+        np.multiply(y3, low, out=low_y)
+        np.matmul(low_y, basis.low_pieces32, out=parts)
+        np.add(fixed_rhs, _scatter_rhs(parts, parts_t), out=rhs)
+        _solve_banded_batch(bands, rhs)
+        # A converged spectrum keeps its coefficients, so its baseline stays the one solved
+        # with the last weights before they stopped changing.
+        np.copyto(alpha, rhs, where=~converged[None, :])
+        packed_old, n_low_old = packed, n_low
+    # The last evaluation is of the final coefficients (the loop leaves before solving).
+    return fitted.reshape(n, -1)[:, :n_shift], iterations, converged
 
 
-class _SplineWorkspace:
-    """Buffers for the batched spline solve, allocated once per map and reused."""
+def _pack_intervals(low: np.ndarray) -> np.ndarray:
+    """Bit patterns of each knot interval's low points, (n, n_intervals, bytes) uint8."""
+    n, n_int, h = low.shape
+    if h % 8 == 0:  # whole bytes per interval: pack the flat array (much faster)
+        return np.packbits(low.reshape(-1)).reshape(n, n_int, h // 8)
+    return np.packbits(low, axis=-1)
 
-    def __init__(self, n_intervals: int, h: int, n_cols: int):
-        n_coef, padded = n_intervals + 3, n_intervals * h
-        self._full = {
-            "gram_parts": np.empty((n_intervals, len(_PAIRS), n_cols)),
-            "rhs_parts": np.empty((n_intervals, 4, n_cols)),
-            "bands": np.empty((4, n_coef, n_cols)),
-            "rhs": np.empty((n_coef, n_cols)),
-            "windows": np.empty((n_intervals, 4, n_cols)),
-            "fitted": np.empty((n_intervals, h, n_cols)),
-            "y": np.empty((padded, n_cols)),
-            "weights": np.empty((padded, n_cols)),
-            "weighted_y": np.empty((padded, n_cols)),
-            "above": np.empty((padded, n_cols), dtype=bool),
-            "new_above": np.empty((padded, n_cols), dtype=bool),
-            "flipped": np.empty((padded, n_cols), dtype=bool),
-        }
-        self.resize(n_cols)
 
-    def resize(self, n_cols: int) -> None:
-        """Expose contiguous buffers for ``n_cols`` spectra (the last block may be smaller)."""
-        for name, full in self._full.items():
-            size = int(np.prod(full.shape[:-1])) * n_cols
-            view = full.reshape(-1)[:size].reshape(*full.shape[:-1], n_cols)
-            setattr(self, name, view)
+def _scatter_rhs(parts: np.ndarray, parts_t: np.ndarray) -> np.ndarray:
+    """Per-interval sums (n, n_intervals, 4) → right-hand sides (n_coef, n), float64."""
+    n, n_int, _ = parts.shape
+    np.copyto(parts_t, parts.transpose(2, 1, 0))
+    rhs = np.zeros((n_int + 3, n))
+    for a in range(4):
+        rhs[a : a + n_int] += parts_t[a]
+    return rhs
+
+
+def _evaluate(alpha, pieces_t, out, coef, windows) -> None:
+    """z[s, i, t] = Σ_a α[i + a, s] · piece_a(t), as one matrix product."""
+    n_coef, n = alpha.shape
+    n_int = n_coef - 3
+    np.copyto(coef, alpha.T)
+    for a in range(4):
+        windows[:, :, a] = coef[:, a : a + n_int]
+    np.matmul(windows.reshape(n * n_int, 4), pieces_t, out=out.reshape(n * n_int, -1))
 
 
 def _second_difference_bands(n_coef: int, lam: float) -> np.ndarray:
-    """Bands (diagonal, 1st, 2nd, 3rd super-diagonal) of λ·DᵀD for second differences."""
+    """Lower bands (diagonal, 1st, 2nd, 3rd sub-diagonal) of λ·DᵀD for second differences."""
     bands = np.zeros((4, n_coef))
     d = np.diff(np.eye(n_coef), n=2, axis=0)
     dtd = d.T @ d
@@ -355,30 +405,14 @@ def _second_difference_bands(n_coef: int, lam: float) -> np.ndarray:
     return bands
 
 
-def _solve_spline_system(weights, weighted_y, pieces, products, penalty, work):
-    """Solve (BᵀWB + λDᵀD) α = BᵀWy for every column with one batched banded Cholesky.
+def _solve_banded_batch(bands: np.ndarray, rhs: np.ndarray) -> np.ndarray:
+    """Solve A α = r for many symmetric positive definite matrices of half-bandwidth 3.
 
-    ``weights`` and ``weighted_y`` have shape (n_intervals·h, n_spectra); returns α with
-    shape (n_intervals + 3, n_spectra) (a view of the workspace).
+    ``bands[d, j]`` (shape (4, n_coef, n)) holds ``A[j + d, j]`` for every column; it is
+    overwritten by the Cholesky factor ``L`` (same layout) and ``rhs`` (n_coef, n) by α,
+    which is returned. Each step is a numpy operation on a vector over all spectra.
     """
-    padded, n_cols = weights.shape
-    h = pieces.shape[0]
-    n_intervals = padded // h
-    n_coef = n_intervals + 3
-    # Every knot interval holds the same h basis values, so the per-interval sums of
-    # BᵀWB and BᵀWy are small batched matrix products (BLAS), not a full design matrix.
-    np.matmul(products.T, weights.reshape(n_intervals, h, n_cols), out=work.gram_parts)
-    np.matmul(pieces.T, weighted_y.reshape(n_intervals, h, n_cols), out=work.rhs_parts)
-
-    bands, rhs = work.bands, work.rhs  # bands[d, j] = A[j, j + d], a vector over spectra
-    bands[:] = penalty[:, :, None]
-    for k, (a, b) in enumerate(_PAIRS):
-        bands[b - a, a : a + n_intervals] += work.gram_parts[:, k]
-    rhs[:] = 0.0
-    for a in range(4):
-        rhs[a : a + n_intervals] += work.rhs_parts[:, a]
-
-    # In-place Cholesky A = L Lᵀ: bands[d, j] becomes L[j + d, j], column by column.
+    n_coef = bands.shape[1]
     for j in range(n_coef):
         for f in range(1, min(j, 3) + 1):
             bands[0, j] -= bands[f, j - f] ** 2
@@ -387,23 +421,12 @@ def _solve_spline_system(weights, weighted_y, pieces, products, penalty, work):
             for f in range(1, min(j, 3 - e) + 1):
                 bands[e, j] -= bands[e + f, j - f] * bands[f, j - f]
             bands[e, j] /= bands[0, j]
-
-    for j in range(n_coef):  # forward substitution L v = r, in place
+    for j in range(n_coef):
         for f in range(1, min(j, 3) + 1):
             rhs[j] -= bands[f, j - f] * rhs[j - f]
         rhs[j] /= bands[0, j]
-    for j in range(n_coef - 1, -1, -1):  # back substitution Lᵀ α = v, in place
+    for j in range(n_coef - 1, -1, -1):
         for e in range(1, min(3, n_coef - 1 - j) + 1):
             rhs[j] -= bands[e, j] * rhs[j + e]
         rhs[j] /= bands[0, j]
     return rhs
-
-
-def _evaluate_spline(coefficients: np.ndarray, pieces: np.ndarray, work) -> np.ndarray:
-    """z[i·h + t] = Σ_a α[i + a] · piece_a(t), for every column, as a batched product."""
-    n_coef, n_cols = coefficients.shape
-    n_intervals = n_coef - 3
-    for a in range(4):
-        work.windows[:, a] = coefficients[a : a + n_intervals]
-    np.matmul(pieces, work.windows, out=work.fitted)
-    return work.fitted.reshape(n_intervals * pieces.shape[0], n_cols)

@@ -116,8 +116,10 @@ def remove_spikes(
     implementation adds one condition: a spike must show an abnormal jump up followed, within
     ``max_spike_width_points``, by an abnormal jump down (or the reverse), and each of the two
     jumps must be ``sharpness`` times larger than the difference just outside the spike. A
-    band's flank rises over several similar differences, a cosmic ray in one step. The price
-    is that a spike on the very first or last point is not detected.
+    band's flank rises over several similar differences, a cosmic ray in one step. A spike
+    on the first (last) points has no opening (closing) jump inside the spectrum; it is
+    accepted on its one abnormal, sharp jump when the differences between that jump and
+    the spectrum's end are ``sharpness`` times smaller.
 
     The replacement is the mean of the non-spike points within ``replace_window_points`` of
     each flagged point, as in the paper; the running sums are computed for all spectra at once.
@@ -165,16 +167,15 @@ def remove_spikes(
     )
 
 
-def _row_median(values: np.ndarray) -> np.ndarray:
-    """Median of each row (as a column), partitioning a scratch copy in place."""
-    scratch = values.copy()
-    n = scratch.shape[1]
+def _row_median_in_place(values: np.ndarray) -> np.ndarray:
+    """Median of each row (as a column); partitions ``values`` in place (a scratch array)."""
+    n = values.shape[1]
     middle = n // 2
     if n % 2:
-        scratch.partition(middle, axis=1)
-        return scratch[:, middle : middle + 1]
-    scratch.partition((middle - 1, middle), axis=1)
-    return scratch[:, middle - 1 : middle + 1].mean(axis=1, keepdims=True)
+        values.partition(middle, axis=1)
+        return values[:, middle : middle + 1].copy()
+    values.partition((middle - 1, middle), axis=1)
+    return values[:, middle - 1 : middle + 1].mean(axis=1, keepdims=True)
 
 
 def _spike_points(spectra: np.ndarray, threshold: float, max_width: int, sharpness: float):
@@ -182,26 +183,30 @@ def _spike_points(spectra: np.ndarray, threshold: float, max_width: int, sharpne
 
     ``|z| > threshold`` is tested as ``|Δ − median Δ| > threshold · MAD / 0.6745`` so no
     z array is formed; abnormal differences are rare, so the pairing and sharpness tests
-    run on the few candidates only.
+    run on the few candidates only. Differences are formed in float32: exact for integer
+    counts below 2²⁴, and elsewhere a relative change of 10⁻⁷ in z, far inside the
+    threshold's own arbitrariness; the two row medians (partitions) are the cost here.
     """
     n_rows, n_points = spectra.shape
-    deviation = np.diff(spectra, axis=1)
-    deviation -= _row_median(deviation)
-    magnitude = np.abs(deviation)
-    mad = _row_median(magnitude)
-    limit = np.where(mad > 0, threshold * mad / _MODIFIED_Z_FACTOR, np.inf)
+    deviation = np.diff(spectra.astype(np.float32), axis=1)
+    scratch = deviation.copy()
+    deviation -= _row_median_in_place(scratch)
+    magnitude = np.abs(deviation, out=scratch)
+    mad = _row_median_in_place(magnitude.copy())
+    limit = np.where(mad > 0, threshold * mad / _MODIFIED_Z_FACTOR, np.inf).astype(np.float32)
     rows, cols = np.nonzero(magnitude > limit)
     mask = np.zeros((n_rows, n_points), dtype=bool)
     if rows.size == 0:
         return mask
     n_diff = n_points - 1
     sign = np.sign(deviation[rows, cols])
+    jump = magnitude[rows, cols]
     outside_before = np.where(cols > 0, magnitude[rows, np.maximum(cols - 1, 0)], 0.0)
     outside_after = np.where(
         cols < n_diff - 1, magnitude[rows, np.minimum(cols + 1, n_diff - 1)], 0.0
     )
-    sharp_open = magnitude[rows, cols] > sharpness * outside_before
-    sharp_close = magnitude[rows, cols] > sharpness * outside_after
+    sharp_open = jump > sharpness * outside_before
+    sharp_close = jump > sharpness * outside_after
     keys = rows * n_diff + cols  # sorted, since np.nonzero returns row-major order
     for width in range(1, max_width + 1):
         # Δ[j] jumps one way and Δ[j + width] the other: points j+1 .. j+width are the spike.
@@ -217,7 +222,37 @@ def _spike_points(spectra: np.ndarray, threshold: float, max_width: int, sharpne
         )
         for offset in range(1, width + 1):
             mask[rows[closes], cols[closes] + offset] = True
+    _mark_edge_spikes(mask, magnitude, rows, cols, jump, sharp_open, sharp_close, max_width,
+                      sharpness)
     return mask
+
+
+def _mark_edge_spikes(mask, magnitude, rows, cols, jump, sharp_open, sharp_close, max_width,
+                      sharpness):
+    """Spikes touching the first or last point, whose outer jump lies outside the spectrum.
+
+    At the start, points 0..j form a spike when Δ[j] is an abnormal, sharp jump and the
+    differences before it (inside the spike) are ``sharpness`` times smaller; at the end,
+    symmetrically. Either sign is accepted (a dead pixel is a spike downwards); the
+    inner-differences test keeps an interior spike's closing jump from being taken for
+    an edge spike.
+    """
+    n_diff = magnitude.shape[1]
+    width = min(max_width, n_diff - 1)
+    # Largest |Δ| strictly between each candidate jump and the spectrum's end (0 if none).
+    head = np.maximum.accumulate(magnitude[:, :width], axis=1)
+    tail = np.maximum.accumulate(magnitude[:, ::-1][:, :width], axis=1)
+    for at_start in (True, False):
+        depth = cols if at_start else n_diff - 1 - cols  # differences between jump and end
+        chosen = (depth < width) & (sharp_close if at_start else sharp_open)
+        inner = np.zeros(jump.shape, dtype=magnitude.dtype)
+        deep = chosen & (depth > 0)
+        inner[deep] = (head if at_start else tail)[rows[deep], depth[deep] - 1]
+        chosen &= jump > sharpness * inner
+        for offset in range(width):  # the spike is the depth + 1 points beyond the jump
+            hit = chosen & (depth >= offset)
+            index = offset if at_start else mask.shape[1] - 1 - offset
+            mask[rows[hit], index] = True
 
 
 def _widen(mask: np.ndarray, points: int) -> np.ndarray:

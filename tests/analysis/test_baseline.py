@@ -50,29 +50,66 @@ def test_map_band_heights_agree_with_pybaselines_asls_within_2_percent():
     assert np.max(np.abs(ours / ref - 1)) < 0.02
 
 
-def test_spline_solve_matches_dense_penalised_spline_solution():
-    # Independent check of the batched banded solve: build the same P-spline system with
-    # scipy's B-spline design matrix (Eilers & Marx 1996) and solve it densely with numpy.
-    rng = np.random.default_rng(2)
-    h, n_intervals, n_cols = 4, 10, 3
-    padded = h * n_intervals
-    y = rng.normal(100, 10, (padded, n_cols))
-    w = rng.uniform(0.01, 1, (padded, n_cols))
-    lam_s = 50.0
-    local = np.arange(h) / h
-    pieces = np.stack([f(local) for f in bl._CUBIC_PIECES], axis=1)
-    products = np.stack([pieces[:, a] * pieces[:, b] for a, b in bl._PAIRS], axis=1)
-    penalty = bl._second_difference_bands(n_intervals + 3, lam_s)
-    work = bl._SplineWorkspace(n_intervals, h, n_cols)
-    coef = bl._solve_spline_system(w, w * y, pieces, products, penalty, work).copy()
-
-    knots = np.arange(-3, n_intervals + 4, dtype=float)  # uniform cubic knots in interval units
-    design = BSpline.design_matrix(np.arange(padded) / h, knots, 3).toarray()
+def _dense_pspline_asls(y, h, lam, p, max_iter=50, tol=1e-3):
+    """Independent P-spline ASLS: scipy's B-spline design matrix (Eilers & Marx 1996) and a
+    dense numpy solve per iteration, with pybaselines' reweighting and stopping rule
+    (Eilers & Boelens 2005): w = p above the baseline, 1 − p elsewhere."""
+    n = y.size
+    n_intervals = -(-n // h)
+    knots = np.arange(-3, n_intervals + 4, dtype=float)  # uniform cubic knots, interval units
+    design = BSpline.design_matrix(np.arange(n) / h, knots, 3).toarray()
     d2 = np.diff(np.eye(n_intervals + 3), n=2, axis=0)
+    penalty = lam / h**3 * d2.T @ d2
+    weights = np.ones(n)
+    for iteration in range(1, max_iter + 2):
+        lhs = design.T @ (weights[:, None] * design) + penalty
+        baseline = design @ np.linalg.solve(lhs, design.T @ (weights * y))
+        new = np.where(y > baseline, p, 1 - p)
+        if np.linalg.norm(new - weights) / np.linalg.norm(weights) < tol or iteration > max_iter:
+            return baseline, iteration
+        weights = new
+
+
+@pytest.mark.parametrize("n_shift, h", [(1024, 16), (700, 16), (300, 12), (200, 5)])
+def test_map_baselines_equal_an_independent_dense_pspline_asls(n_shift, h):
+    # Same model, solved densely one spectrum at a time: baselines and iteration counts must
+    # match. Covers a ragged last knot interval (700 = 43·16 + 12) and patterns that are
+    # not whole bytes (h = 12, 5). The map code stores data and baseline in float32, so
+    # agreement is to float32 rounding of counts of a few thousand.
+    x, counts = _synthetic_map(n_points=5, n_shift=n_shift, seed=9)
+    lam = 1e6 * (h / 16) ** 4  # a similar smoothness relative to the knot spacing
+    ours, diag = bl.asls_baseline_map(x, counts, lam=lam, p=0.01, points_per_knot=h)
+    for row, baseline, iterations in zip(counts, ours, diag["iterations"], strict=True):
+        expected, expected_iterations = _dense_pspline_asls(row, h, lam, 0.01)
+        np.testing.assert_allclose(baseline, expected, rtol=0, atol=0.05)
+        assert iterations == expected_iterations
+    assert diag["converged"].all()
+
+
+def test_batched_banded_cholesky_matches_dense_solves():
+    rng = np.random.default_rng(2)
+    n_coef, n_cols = 12, 5
+    dense = []
+    bands = np.zeros((4, n_coef, n_cols))
     for col in range(n_cols):
-        lhs = design.T @ (w[:, col, None] * design) + lam_s * d2.T @ d2
-        expected = np.linalg.solve(lhs, design.T @ (w[:, col] * y[:, col]))
-        np.testing.assert_allclose(coef[:, col], expected, rtol=1e-9, atol=1e-9)
+        a = rng.normal(size=(n_coef, n_coef))
+        a = np.triu(np.tril(a @ a.T, 3), -3) + 50 * np.eye(n_coef)  # SPD, half-bandwidth 3
+        dense.append(a)
+        for d in range(4):
+            bands[d, : n_coef - d, col] = np.diagonal(a, -d)
+    rhs = rng.normal(size=(n_coef, n_cols))
+    expected = np.stack([np.linalg.solve(a, rhs[:, c]) for c, a in enumerate(dense)], axis=1)
+    np.testing.assert_allclose(bl._solve_banded_batch(bands, rhs.copy()), expected, rtol=1e-10)
+
+
+def test_result_does_not_depend_on_blocks_or_threads(monkeypatch):
+    x, counts = _synthetic_map(n_points=700, n_shift=256, seed=4)
+    whole, diag = bl.asls_baseline_map(x, counts)
+    monkeypatch.setattr(bl, "_BLOCK_SPECTRA", 100)
+    monkeypatch.setattr(bl, "_MIN_BLOCK", 50)
+    blocked, blocked_diag = bl.asls_baseline_map(x, counts)
+    np.testing.assert_array_equal(blocked, whole)
+    np.testing.assert_array_equal(blocked_diag["iterations"], diag["iterations"])
 
 
 def test_flat_background_is_recovered():

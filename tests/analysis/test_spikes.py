@@ -92,3 +92,42 @@ def test_nan_is_refused():
     with pytest.raises(AnalysisInputError) as err:
         remove_spikes(values)
     assert err.value.field == "intensity"
+
+
+@pytest.mark.parametrize("where", ["first", "last"])
+@pytest.mark.parametrize("width", [1, 2])
+def test_spike_on_the_first_or_last_points_is_found_and_repaired(where, width):
+    # Whitaker & Hayes 2018 flag every point whose first difference has |z| > threshold;
+    # a cosmic ray on the edge pixel(s) has only one jump inside the spectrum, and must
+    # still be found and replaced by the mean of its clean neighbours.
+    rng = np.random.default_rng(21)
+    _, truth, noisy = _clean_spectrum(rng)
+    planted = list(range(width)) if where == "first" else list(range(-width, 0))
+    planted = [p % noisy.size for p in planted]
+    spiked = noisy.copy()
+    spiked[planted] += 9000
+    result = remove_spikes(spiked)
+    found = set(np.flatnonzero(result.spike_mask))
+    assert set(planted) <= found
+    edge = {p + d for p in planted for d in (-1, 0, 1)} & set(range(noisy.size))
+    assert found <= edge  # widened by one point, nothing else
+    assert np.max(np.abs(result.cleaned[planted] - truth[planted])) < 5 * 25
+
+
+def test_band_cut_by_the_spectrum_edge_is_not_a_spike():
+    # A strong narrow band whose maximum is the first point: its flank falls over several
+    # similar differences, unlike a one-step cosmic ray, so nothing is replaced.
+    rng = np.random.default_rng(5)
+    x = np.linspace(1075, 1700, 300)
+    y = 1500 + _lorentzian(x, 1075, 6000, 12) + rng.normal(0, 25, x.size)
+    for values in (y, y[::-1]):
+        assert remove_spikes(values).replaced_count == 0
+
+
+def test_interior_spike_near_the_edge_does_not_grow_into_an_edge_spike():
+    rng = np.random.default_rng(8)
+    _, _, noisy = _clean_spectrum(rng)
+    spiked = noisy.copy()
+    spiked[2] += 9000  # one-point spike two points from the start
+    found = set(np.flatnonzero(remove_spikes(spiked).spike_mask))
+    assert found == {1, 2, 3}
