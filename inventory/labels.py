@@ -52,7 +52,7 @@ class Label:
 def qr_svg(payload: str, *, scale: int = 3) -> str:
     """An inline SVG QR code for ``payload`` (no XML declaration, fits in an HTML page)."""
     return segno.make(payload, error=QR_ERROR_LEVEL, micro=False).svg_inline(
-        scale=scale, title=payload)
+        scale=scale, title=payload, omitsize=True)
 
 
 def made_on_of(record) -> date | None:

@@ -19,6 +19,7 @@ matplotlib.use("Agg")
 
 import numpy as np
 from matplotlib.figure import Figure
+from matplotlib.ticker import MaxNLocator
 
 # The project's own palette (same tokens as templates/base.html).
 INK = "#1b2a2f"
@@ -203,6 +204,7 @@ def control_chart_figure(series) -> Figure:
     ax_mr.axhline(chart.mr_upper_limit, color=AMBER, linestyle="--", linewidth=1.0)
     ax_mr.set_ylabel("moving range")
     ax_mr.set_xlabel("result number (in order measured)")
+    ax_mr.xaxis.set_major_locator(MaxNLocator(integer=True))
     return figure
 
 

@@ -158,6 +158,7 @@ def review_sign(request, code: str):
     if isinstance(record, NanoparticleBatch):
         context["uvvis"] = _latest_uvvis_by_batch([record]).get(record.pk)
     context["in_quarantine"] = record.status == Status.QUARANTINE
+    context["is_substrate"] = isinstance(record, Substrate)
     status = 200 if request.method == "GET" or form.is_valid() else 400
     return render(request, "qc/review_sign.html", context, status=status)
 

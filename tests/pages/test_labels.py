@@ -25,6 +25,7 @@ def test_label_qr_payload_is_the_record_url_and_an_svg_is_drawn(lab, login, monk
     match = resolve(urlsplit(payloads[0]).path)  # scanning opens the record page
     assert match.url_name == "record" and match.kwargs == {"code": lab.bath.code}
     assert "<svg" in page and 'class="segno"' in page
+    assert '<svg viewBox="0 0' in page  # scales to the label's printed size, never clipped
     assert "GHS06" in page and "H300" in page  # cyanide bath: skull pictogram, statements
     assert lab.bath.expires_on.isoformat() in page
 
