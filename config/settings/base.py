@@ -160,4 +160,7 @@ SPECTACULAR_SETTINGS = {
         "drf_spectacular.hooks.postprocess_schema_enums",
         "inventory.api.schema.add_error_responses",
     ],
+    # Swagger UI at /api/v1/docs/ from the drf-spectacular-sidecar package (offline, no CDN).
+    "SWAGGER_UI_DIST": "/api/v1/docs/assets/swagger-ui-dist",
+    "SWAGGER_UI_FAVICON_HREF": "/api/v1/docs/assets/swagger-ui-dist/favicon-32x32.png",
 }

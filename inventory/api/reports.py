@@ -10,13 +10,14 @@ from __future__ import annotations
 
 from django.urls import NoReverseMatch, reverse
 from drf_spectacular.types import OpenApiTypes
-from drf_spectacular.utils import OpenApiParameter, extend_schema
+from drf_spectacular.utils import OpenApiParameter, PolymorphicProxySerializer, extend_schema
 from rest_framework import exceptions, serializers
 from rest_framework.response import Response
 from rest_framework.views import APIView
 
 from inventory.codes import record_get
 from inventory.models import LifecycleRecord
+from inventory.prov import lineage_as_prov
 from inventory.selectors import (
     record_get_ancestors,
     record_get_descendants,
@@ -107,6 +108,22 @@ def lineage_data(lineage) -> dict:
             "edges": [vars(edge) for edge in lineage.edges]}
 
 
+class ProvDocumentOut(serializers.Serializer):
+    """A W3C PROV-JSON document (https://www.w3.org/submissions/prov-json/): records as
+    entities, the steps that made them and the signatures as activities, people as agents."""
+
+    prefix = serializers.DictField(child=serializers.CharField(), help_text="Namespaces.")
+    entity = serializers.DictField(required=False, help_text="Records, keyed by qualified "
+                                                             "code.")
+    activity = serializers.DictField(required=False)
+    agent = serializers.DictField(required=False)
+    wasGeneratedBy = serializers.DictField(required=False)
+    used = serializers.DictField(required=False)
+    wasDerivedFrom = serializers.DictField(required=False)
+    wasAttributedTo = serializers.DictField(required=False)
+    wasAssociatedWith = serializers.DictField(required=False)
+
+
 DIRECTIONS = {"ancestors": record_get_ancestors, "descendants": record_get_descendants}
 
 
@@ -119,12 +136,22 @@ class LineageView(RoleMixin, APIView):
             OpenApiParameter("direction", enum=list(DIRECTIONS), default="ancestors",
                              description="ancestors: what it was made from; descendants: "
                                          "everything made from it (for a recall)."),
+            OpenApiParameter("as", enum=["json", "prov"], default="json",
+                             description="prov: the same lineage as a W3C PROV-JSON document "
+                                         "(the `lineage --prov` command's output)."),
         ],
-        responses={200: LineageOut}, operation_id="records_lineage")
+        responses={200: PolymorphicProxySerializer(
+            component_name="LineageOrProv", serializers=[LineageOut, ProvDocumentOut],
+            resource_type_field_name=None)},
+        operation_id="records_lineage")
     def get(self, request, code: str):
         direction = _query(serializers.ChoiceField(choices=list(DIRECTIONS)),
                            request.query_params, "direction", "ancestors")
+        form = _query(serializers.ChoiceField(choices=["json", "prov"]), request.query_params,
+                      "as", "json")
         record = record_get(code)
+        if form == "prov":
+            return Response(lineage_as_prov(record, direction=direction))
         return Response(LineageOut(lineage_data(DIRECTIONS[direction](record))).data)
 
 

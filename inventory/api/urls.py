@@ -1,13 +1,14 @@
 """API routes, mounted at /api/v1/ by config/urls.py (namespace ``api``)."""
 
 from django.urls import include, path
-from drf_spectacular.views import SpectacularAPIView
+from drf_spectacular.views import SpectacularAPIView, SpectacularSwaggerView
 from rest_framework.routers import DefaultRouter
 
 from qc.api.urls import ROUTES as QC_ROUTES
 
 from . import reports, views
 from .auth import TokenView
+from .docs import docs_asset
 
 app_name = "api"
 
@@ -35,6 +36,8 @@ for prefix, viewset in ROUTES:
 urlpatterns = [
     path("token/", TokenView.as_view(), name="token"),
     path("schema/", SpectacularAPIView.as_view(), name="schema"),
+    path("docs/", SpectacularSwaggerView.as_view(url_name="api:schema"), name="docs"),
+    path("docs/assets/<path:path>", docs_asset, name="docs_asset"),
     path("records/<str:code>/", reports.RecordView.as_view(), name="record"),
     path("records/<str:code>/lineage/", reports.LineageView.as_view(), name="lineage"),
     path("records/<str:code>/history/", reports.HistoryView.as_view(), name="history"),

@@ -91,3 +91,25 @@ def test_lineage_matches_the_selector_and_the_record_page(substrates, clients, p
     up = clients["viewer"].get(f"/api/v1/records/{ready.code}/lineage/").json()
     assert run_code in {n["code"] for n in up["nodes"]}
     assert {(e["parent_code"], e["child_code"]) for e in up["edges"]} >= {(run_code, ready.code)}
+
+
+def test_lineage_as_prov_is_the_same_document_as_the_command(substrates, clients):
+    import io
+    import json
+
+    from django.core.management import call_command
+    from prov.model import ProvDocument
+
+    ready = substrates[0]
+    response = clients["viewer"].get(f"/api/v1/records/{ready.code}/lineage/",
+                                     {"as": "prov", "direction": "ancestors"})
+    assert response.status_code == 200
+    document = response.json()
+    out = io.StringIO()
+    call_command("lineage", ready.code, "--prov", stdout=out)
+    assert document == json.loads(out.getvalue())
+    # Read back by the prov library (W3C PROV-JSON): every ancestor is an entity.
+    parsed = ProvDocument.deserialize(content=json.dumps(document), format="json")
+    entities = {str(record.identifier).rsplit(":", 1)[-1] for record in parsed.get_records()
+                if record.get_type().localpart == "Entity"}
+    assert entities == {ready.code, *record_get_ancestors(ready.code).codes()}

@@ -8,6 +8,8 @@ permission layer lets the request through (the service may still refuse the cont
 
 from __future__ import annotations
 
+import re
+
 import pytest
 from django.contrib.auth import get_user_model
 from django.core.files.uploadedfile import SimpleUploadedFile
@@ -149,3 +151,19 @@ def test_browser_session_works_too(db, viewer):
     client = APIClient()
     assert client.login(username="viewer", password=PASSWORDS["viewer"])
     assert client.get("/api/v1/substrates/").status_code == 200
+
+
+def test_docs_page_and_its_assets_are_served_locally(db):
+    from rest_framework.test import APIClient
+
+    client = APIClient()
+    page = client.get("/api/v1/docs/")
+    assert page.status_code == 200
+    html = page.content.decode()
+    # Every script and stylesheet comes from this server, none from a CDN.
+    assets = re.findall(r'(?:src|href)="([^"]+\.(?:js|css|png))"', html)
+    assert assets and all(a.startswith("/api/v1/docs/assets/") for a in assets), assets
+    for asset in assets:
+        response = client.get(asset)
+        assert response.status_code == 200, asset
+    assert client.get("/api/v1/docs/assets/../../settings.py").status_code == 404
