@@ -2,8 +2,11 @@
 
 from __future__ import annotations
 
+from urllib.parse import urlsplit
+
 from django.core.paginator import Paginator
 from django.http import Http404
+from django.urls import Resolver404, resolve
 
 from ..codes import RecordNotFound, record_get
 
@@ -29,3 +32,19 @@ def record_or_404(code: str):
         return record_get(code)
     except RecordNotFound:
         raise Http404(f"No record has the ID '{code}'.") from None
+
+
+def code_from_scan(text: str) -> str:
+    """The record code in what was typed or scanned.
+
+    A handheld scanner reading a label types the QR payload, which is the record page's
+    URL; anything that is not a record URL is taken as typed.
+    """
+    text = text.strip()
+    if "/" not in text:
+        return text
+    try:
+        match = resolve(urlsplit(text).path)
+    except Resolver404:
+        return text
+    return match.kwargs.get("code", text) if match.url_name == "record" else text

@@ -21,14 +21,14 @@ from ..models import (
     Substrate,
 )
 from ..selectors import record_get_ancestors, record_get_descendants, substrate_check_readiness
-from ._common import record_or_404
+from ._common import code_from_scan, record_or_404
 
 MAX_LABELS = 60  # one printed sheet; more is a mistake in the list of codes
 
 
 @login_required
 def readiness_check(request):
-    code = request.GET.get("code", "").strip()
+    code = code_from_scan(request.GET.get("code", ""))
     context = {"code": code, "result": None, "error": None}
     if code:
         try:

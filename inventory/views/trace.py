@@ -18,7 +18,7 @@ from ..labels import made_on_of
 from ..models import Flag, NanoparticleBatch, StatusChange, Substrate
 from ..prov import lineage_as_prov
 from ..selectors import record_get_ancestors, record_get_descendants
-from ._common import record_or_404
+from ._common import code_from_scan, record_or_404
 from .records import lineage_rows
 
 DIRECTIONS = ("ancestors", "descendants")
@@ -29,7 +29,7 @@ TRACE_ROWS = 300
 
 @login_required
 def trace(request):
-    code = request.GET.get("code", "").strip()
+    code = code_from_scan(request.GET.get("code", ""))
     context = {"code": code, "record": None, "error": None, "shown": TRACE_ROWS}
     if code:
         try:

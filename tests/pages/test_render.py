@@ -142,3 +142,14 @@ def test_prov_download_is_a_w3c_prov_document_of_the_lineage(lab, login):
     entities = {str(record.identifier) for record in document.get_records()}
     for code in record_get_ancestors(lab.dataset).depth:
         assert any(identifier.endswith(code) for identifier in entities), code
+
+
+def test_a_scanned_label_url_is_read_as_its_code(lab, login):
+    client = login(lab, "viewer")
+    scanned = f"http://testserver{reverse('record', args=[lab.good.code])}"
+    check = client.get(reverse("readiness"), {"code": scanned})
+    assert check.context["result"].substrate_code == lab.good.code
+    trace = client.get(reverse("trace"), {"code": scanned})
+    assert trace.context["record"].code == lab.good.code
+    other = client.get(reverse("readiness"), {"code": "http://elsewhere.example/x/"})
+    assert other.context["result"] is None and other.context["error"]
