@@ -10,7 +10,7 @@ The app is served by gunicorn on 127.0.0.1 (a free port, never another interface
 ``benchmarks/settings_bench.py``: the production settings with only the TLS redirect off.  The
 load comes from ``wrk`` (Debian package ``wrk``, written in C, one event-loop thread) so the
 client takes as little of the shared cores as possible; its CPU time is measured and reported.
-Each endpoint gets a short untimed warm-up, then ``--seconds`` of load from ``--clients``
+Each endpoint gets ``--warmup`` untimed requests, then ``--seconds`` of load from ``--clients``
 keep-alive connections, stopped early at ``--max-requests``.  Requests carry an API token of
 the generated user bench01 and cycle through many records or pages, so no single row is
 measured hot.  Any answer other than HTTP 200 counts as an error, like socket errors and
@@ -153,18 +153,18 @@ class Server:
         self.process = subprocess.Popen(command, env={**os.environ, **env},
                                         start_new_session=True)
 
-    def wait_ready(self, seconds: float = 60.0) -> None:
+    def wait_ready(self, seconds: float = 180.0) -> None:
         deadline = time.monotonic() + seconds
         while time.monotonic() < deadline:
             if self.process.poll() is not None:
                 raise SystemExit(f"gunicorn exited with {self.process.returncode}; see its log")
             try:
-                with urllib.request.urlopen(f"{self.url}/accounts/login/", timeout=5) as answer:
+                with urllib.request.urlopen(f"{self.url}/accounts/login/", timeout=60) as answer:
                     if answer.status == 200:
                         return
-            except (urllib.error.URLError, ConnectionError):
+            except (urllib.error.URLError, OSError):  # not listening yet, or still importing
                 time.sleep(0.3)
-        raise SystemExit("gunicorn did not answer within a minute")
+        raise SystemExit(f"gunicorn did not answer within {seconds:g} s; see its log")
 
     def cpu_seconds(self) -> float:
         """User + system CPU of the master and its workers so far."""
@@ -204,7 +204,7 @@ def database_cpu_seconds() -> float:
 def status_of(url: str, token: str) -> int:
     request = urllib.request.Request(url, headers={"Authorization": f"Token {token}"})
     try:
-        with urllib.request.urlopen(request, timeout=30) as answer:
+        with urllib.request.urlopen(request, timeout=120) as answer:
             return answer.status
     except urllib.error.HTTPError as error:
         return error.code
@@ -246,7 +246,9 @@ def measure_endpoint(server: Server, paths: list[str], token: str, args) -> dict
     status = status_of(server.url + paths[0], token)
     if status != 200:
         return {"measured": False, "why": f"GET {paths[0]} answered HTTP {status}"}
-    run_wrk(server.url, paths, token, clients=args.clients, seconds=args.warmup, cap=10**9)
+    # Warm-up by count, not time: each worker imports the whole site on its first request
+    # (seconds on a busy machine), which must not fall inside the timed run.
+    run_wrk(server.url, paths, token, clients=args.clients, seconds=120, cap=args.warmup)
     load_before, busy_before = loadavg(), machine_busy()
     cpu_before, db_before = server.cpu_seconds(), database_cpu_seconds()
     result = run_wrk(server.url, paths, token, clients=args.clients, seconds=args.seconds,
@@ -288,8 +290,10 @@ def run(args) -> Path:
     result = {"db": args.db, "scale": summary["scale"], "clients": args.clients,
               "seconds": args.seconds, "max_requests": args.max_requests, "client": "wrk -t1",
               "measured_at": time.strftime("%Y-%m-%d %H:%M UTC", time.gmtime()), "runs": []}
+    log = OUT_DIR / f"gunicorn-{args.db}.log"
+    log.unlink(missing_ok=True)
     for server_spec in args.server:
-        server = Server(server_spec, env, OUT_DIR / f"gunicorn-{args.db}.log")
+        server = Server(server_spec, env, log)
         try:
             server.wait_ready()
             for name, paths in chosen.items():
@@ -342,7 +346,7 @@ def main(argv: list[str] | None = None) -> None:
     parser.add_argument("--endpoint", action="append", help="only this endpoint (repeatable)")
     parser.add_argument("--clients", type=int, default=8)
     parser.add_argument("--seconds", type=float, default=15.0)
-    parser.add_argument("--warmup", type=float, default=2.0)
+    parser.add_argument("--warmup", type=int, default=100, help="untimed requests first")
     parser.add_argument("--max-requests", type=int, default=20000)
     parser.add_argument("--pages", type=int, default=40, help="list pages cycled through")
     parser.add_argument("--records", type=int, default=500, help="substrates cycled through")
@@ -352,6 +356,8 @@ def main(argv: list[str] | None = None) -> None:
         print(report())
         return
     args.server = args.server or [parse_server("gthread:3x4")]
+    # A SIGTERM (e.g. from ``timeout``) unwinds through ``finally`` so gunicorn is stopped too.
+    signal.signal(signal.SIGTERM, lambda *_: sys.exit("stopped by SIGTERM"))
     run(args)
 
 
