@@ -87,6 +87,9 @@ def record_detail(request, code: str):
         "flags": Flag.objects.filter(target_code=record.code).order_by("state", "-created_at"),
         "history": page_queries.record_history(record),
         "signatures": page_queries.record_signatures(record),
+        # A scanned label opens this page: a substrate answers "can I use it?" at the top.
+        "result": substrate_check_readiness(record.code)
+        if isinstance(record, Substrate) else None,
         **_qc_panel(record),
     }
     return render(request, "inventory/record.html", context)

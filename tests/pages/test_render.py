@@ -103,6 +103,7 @@ def test_record_pages_show_units_lineage_flags_files_and_cautions(lab, login):
     assert 'id="laser-caution"' in qc and reverse("plot_heatmap", args=[lab.qc_failed.code]) in qc
     failed = client.get(reverse("record", args=[lab.failed.code])).content.decode()
     assert 'data-flag-state="open"' in failed and lab.qc_failed.code in failed
+    assert 'class="verdict not-ready"' in failed  # a scanned label answers at once
     good = client.get(reverse("record", args=[lab.good.code])).content.decode()
     assert f'href="{reverse("record", args=[lab.batch.code])}"' in good  # made from (ancestors)
     assert f'href="{reverse("record", args=[lab.dataset.code])}"' in good  # used in
