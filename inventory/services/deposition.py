@@ -28,7 +28,7 @@ from qc.analysis.errors import AnalysisInputError
 from ..errors import refusal
 from ..models import DepositionRun, DepositionTolerance, Flag
 from ..roles import ADMINISTRATOR, MAKER, require_role
-from ._common import User, _save_changed, _stamp_history
+from ._common import User, _check_upload, _save_changed, _stamp_history
 from .records import flag_raise, sha256_of
 
 #: Used only when the lab has recorded no DepositionTolerance: a built-in default of this
@@ -178,6 +178,7 @@ def _prepare(run: DepositionRun, filename: str, content: bytes, *, time_unit, cu
     Runs before anything is written, so a refused file leaves no row and no stored file.
     """
     name = _clean_filename(filename)
+    _check_upload(content, field=FILE_FIELD, filename=name)
     parsed, analysis = _parse_and_analyse(
         run, name, content, time_unit=time_unit, current_unit=current_unit,
         cathodic_sign=cathodic_sign, start_s=start_s, end_s=end_s)

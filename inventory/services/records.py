@@ -3,8 +3,8 @@
 from __future__ import annotations
 
 import hashlib
+from collections.abc import Sequence
 from datetime import date
-from typing import Sequence
 
 from django.core.files.base import ContentFile
 from django.db import transaction
@@ -16,6 +16,8 @@ from ..roles import MAKER, REVIEWER, require_role
 from ._common import (
     User,
     _check_substrates_usable,
+    _check_upload,
+    _files_removed_if_failed,
     _link,
     _require_not_future,
     _save_changed,
@@ -38,21 +40,32 @@ def dataset_register(
     require_role(actor, MAKER, action="Registering a dataset")
     _require_not_future(acquired_on, field="acquired_on")
     _check_substrates_usable(substrates, role="a measured substrate", on_date=acquired_on)
+    for name, content in files:
+        _check_upload(content, field="files", filename=name, extensions=None)
     digests = [sha256_of(content) for _, content in files]
     if len(set(digests)) != len(digests):
         raise refusal("files", "The same file was given twice.", "duplicate_file")
+    again = DatasetFile.objects.filter(sha256__in=digests, dataset__voided_at__isnull=True) \
+        .select_related("dataset").first()
+    if again is not None:
+        raise refusal("files", f"{again.original_name} (sha256 {again.sha256[:12]}…) is already "
+                               f"in {again.dataset.code}.", "duplicate_file")
     dataset = _save_new(Dataset(title=title, instrument=instrument, operator=operator,
                                 acquired_on=acquired_on, notes=notes), actor=actor)
     dataset.substrates.set(substrates)
-    for (name, content), digest in zip(files, digests):
-        DatasetFile.objects.create(dataset=dataset, file=ContentFile(content, name=name),
-                                   original_name=name, size_bytes=len(content), sha256=digest)
-    _link([(s, "measured on") for s in substrates], dataset, used_on=acquired_on, actor=actor)
-    if consume_substrates:
-        for substrate in substrates:
-            if substrate.status == Status.RELEASED:
-                record_transition(actor=actor, record=substrate, to_status=Status.CONSUMED,
-                                  reason=f"used for {dataset.code}")
+    stored = [DatasetFile(dataset=dataset, file=ContentFile(content, name=name),
+                          original_name=name, size_bytes=len(content), sha256=digest)
+              for (name, content), digest in zip(files, digests, strict=True)]
+    with _files_removed_if_failed(*stored):
+        for dataset_file in stored:
+            dataset_file.save()
+        _link([(s, "measured on") for s in substrates], dataset, used_on=acquired_on,
+              actor=actor)
+        if consume_substrates:
+            for substrate in substrates:
+                if substrate.status == Status.RELEASED:
+                    record_transition(actor=actor, record=substrate,
+                                      to_status=Status.CONSUMED, reason=f"used for {dataset.code}")
     return dataset
 
 

@@ -33,6 +33,8 @@ from inventory.services._common import (
     User,
     _link,
     _require_not_future,
+    _check_upload,
+    _files_removed_if_failed,
     _save_changed,
     _save_new,
     _stamp_history,
@@ -203,11 +205,12 @@ def uvvis_record_import(
         record.blank_file = ContentFile(blank[1], name=blank[0])
         record.blank_sha256 = sha256_of(blank[1])
     breaches = _evaluate(record, limits)
-    record = _save_new(record, actor=actor)
-    _link([(batch, "colloid measured")], record, used_on=measured_on, actor=actor)
-    flags = _flag_breaches(actor, batch, record, breaches)
-    record.breaches = breaches
-    UvVisRecord.objects.filter(pk=record.pk).update(breaches=breaches)
+    with _files_removed_if_failed(record):
+        record = _save_new(record, actor=actor)
+        _link([(batch, "colloid measured")], record, used_on=measured_on, actor=actor)
+        flags = _flag_breaches(actor, batch, record, breaches)
+        record.breaches = breaches
+        UvVisRecord.objects.filter(pk=record.pk).update(breaches=breaches)
     return UvVisImport(record=record, duplicate=False, breaches=tuple(breaches),
                        flags_raised=tuple(flags))
 
@@ -250,6 +253,7 @@ def _analysis_refusal(error: AnalysisInputError, *, file_field: str, filename: s
 
 
 def _read(filename: str, content: bytes, *, file_field: str) -> Spectrum:
+    _check_upload(content, field=file_field, filename=filename)
     try:
         spectrum = read_spectrum(content, filename=filename)
     except AnalysisInputError as error:

@@ -31,6 +31,8 @@ from inventory.services._common import (
     _link,
     _require_kind,
     _require_not_future,
+    _check_upload,
+    _files_removed_if_failed,
     _save_new,
     _stamp_history,
 )
@@ -149,6 +151,7 @@ def _is_map_file(text: str, filename: str) -> bool:
 
 
 def _read(content: bytes, filename: str) -> Spectrum | RamanMap:
+    _check_upload(content, field=FILE_FIELD, filename=filename)
     if not content or not content.strip():
         raise refusal(FILE_FIELD, "The file is empty.", "empty_file")
     try:
@@ -311,6 +314,7 @@ def reference_measurement_import(
         if value is None or not math.isfinite(value) or value <= 0:
             raise refusal(field, f"Must be a positive number, got {value}.", "invalid_value")
     data = _read(content, filename)
+    _refuse_reimport(ReferenceMeasurement.objects.filter(analyte_lot=analyte_lot), content)
     if isinstance(data, RamanMap):
         raise refusal(FILE_FIELD, "A reference measurement is one spectrum, not a map.",
                       "map_not_allowed")
@@ -328,8 +332,10 @@ def reference_measurement_import(
         effective_height_um=effective_height_um, effective_area_um2=effective_area_um2,
         concentration_rel_u=concentration_rel_u, effective_height_rel_u=effective_height_rel_u,
         notes=notes)
-    _save_new(reference, actor=actor)
-    _link([(analyte_lot, "reference analyte")], reference, used_on=measured_on, actor=actor)
+    with _files_removed_if_failed(reference):
+        _save_new(reference, actor=actor)
+        _link([(analyte_lot, "reference analyte")], reference, used_on=measured_on,
+              actor=actor)
     return reference
 
 
@@ -417,6 +423,16 @@ def qc_judge(*, limits: QcLimitSet, band_center_cm1: float, band_position_cm1: f
     return reasons
 
 
+def _refuse_reimport(earlier, content: bytes) -> None:
+    """The same file (by SHA-256) imported twice would count one measurement twice."""
+    digest = sha256_of(content)
+    same = earlier.filter(raw_sha256=digest, voided_at__isnull=True).first()
+    if same is not None:
+        raise refusal(FILE_FIELD, f"This file (sha256 {digest[:12]}…) was already imported as "
+                                  f"{same.code} on {same.measured_on.isoformat()}.",
+                      "duplicate_file")
+
+
 def _limit_set_for(substrate: Substrate, analyte: ReferenceAnalyte) -> QcLimitSet:
     limits = QcLimitSet.objects.select_related("analyte").filter(
         product_kind=substrate.stage, analyte=analyte).first()
@@ -475,6 +491,7 @@ def qc_measurement_import(
         else surface_density_per_nm2
     limits = _limit_set_for(substrate, analyte)
     data = _read(content, filename)
+    _refuse_reimport(QcMeasurement.objects.filter(substrate=substrate), content)
     numbers = _analyse(data, band_center_cm1=analyte.qc_band_cm1,
                        band_window_cm1=analyte.qc_band_window_cm1, power_mW=power_mW,
                        integration_s=integration_s, accumulations=accumulations)
@@ -508,13 +525,14 @@ def qc_measurement_import(
         log10_enhancement_factor_u=float(factor.log10_standard_uncertainty) if factor else None,
         ef_inputs=ef_inputs, limits_used=limits.as_snapshot(), passed=not reasons,
         failure_reasons=reasons, notes=notes)
-    _save_new(measurement, actor=actor)
     parents = [(substrate, "measured"), (analyte_lot, "reference analyte")]
     if reference is not None:
         parents.append((reference, "enhancement reference"))
-    _link(parents, measurement, used_on=measured_on, actor=actor)
-    if reasons:
-        _hold_failed(measurement, substrate, actor)
+    with _files_removed_if_failed(measurement):
+        _save_new(measurement, actor=actor)
+        _link(parents, measurement, used_on=measured_on, actor=actor)
+        if reasons:
+            _hold_failed(measurement, substrate, actor)
     return measurement
 
 

@@ -22,7 +22,8 @@ def test_latest_qc_is_the_newest_at_the_current_stage(world):
     substrate = world.chain.decorated_substrate()
     assert qc_measurement_get_latest(substrate) is None
     world.measure(substrate, GOOD_MAP, days_ago=2)
-    newest = world.measure(substrate, GOOD_MAP, days_ago=1)
+    # A second, different map (the same file twice is refused as a re-import).
+    newest = world.measure(substrate, map_file(map_heights(3000, 0.05, seed=9)), days_ago=1)
     assert qc_measurement_get_latest(substrate) == newest
     assert qc_measurement_get_latest(substrate, product_kind="film") is None
 
