@@ -78,6 +78,13 @@ DATABASES = {"default": database_from_environment(DATA_DIR / "sersledger.sqlite3
 
 DEFAULT_AUTO_FIELD = "django.db.models.BigAutoField"
 
+# Sign-in refuses a username+address pair for a while after repeated wrong passwords
+# (inventory.login_throttle).  The counter is in Django's cache: local memory by default;
+# with several server processes set CACHES to a shared cache (database or memcached).
+AUTHENTICATION_BACKENDS = ["inventory.login_throttle.ThrottledModelBackend"]
+SERSLEDGER_LOGIN_MAX_FAILURES = 5
+SERSLEDGER_LOGIN_LOCKOUT_MINUTES = 15
+
 AUTH_PASSWORD_VALIDATORS = [
     {"NAME": "django.contrib.auth.password_validation.UserAttributeSimilarityValidator"},
     {"NAME": "django.contrib.auth.password_validation.MinimumLengthValidator",

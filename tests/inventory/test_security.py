@@ -1,0 +1,82 @@
+"""Sign-in throttling, password rules and upload limits in settings (DESIGN §7).
+
+The lockout follows common practice for online guessing (e.g. NIST SP 800-63B §5.2.2 asks
+verifiers to limit consecutive failed attempts on one account)."""
+
+from __future__ import annotations
+
+import pytest
+from django.contrib.auth import authenticate
+from django.contrib.auth.password_validation import validate_password
+from django.core.cache import cache
+from django.core.exceptions import ValidationError
+from django.test import RequestFactory
+
+from inventory.services import record_release
+from inventory.signatures import SignatureIntent
+from tests.conftest import PASSWORDS
+
+
+@pytest.fixture(autouse=True)
+def fresh_counters():
+    cache.clear()
+    yield
+    cache.clear()
+
+
+def _request(address="10.0.0.7"):
+    return RequestFactory().post("/login/", REMOTE_ADDR=address)
+
+
+def test_sign_in_is_refused_after_repeated_failures_even_with_the_right_password(maker,
+                                                                                 settings):
+    settings.SERSLEDGER_LOGIN_MAX_FAILURES = 3
+    for _ in range(3):
+        assert authenticate(_request(), username="maker", password="wrong-guess") is None
+    assert authenticate(_request(), username="maker", password=PASSWORDS["maker"]) is None
+    # Another address is not locked, and neither is another user from this address.
+    assert authenticate(_request("10.0.0.8"), username="maker",
+                        password=PASSWORDS["maker"]) == maker
+
+
+def test_a_success_before_the_limit_resets_the_count(maker, settings):
+    settings.SERSLEDGER_LOGIN_MAX_FAILURES = 3
+    for _ in range(2):
+        authenticate(_request(), username="maker", password="wrong-guess")
+    assert authenticate(_request(), username="maker", password=PASSWORDS["maker"]) == maker
+    for _ in range(2):
+        authenticate(_request(), username="maker", password="wrong-guess")
+    assert authenticate(_request(), username="maker", password=PASSWORDS["maker"]) == maker
+
+
+def test_the_lock_expires(maker, settings):
+    settings.SERSLEDGER_LOGIN_MAX_FAILURES = 2
+    for _ in range(2):
+        authenticate(_request(), username="maker", password="wrong-guess")
+    assert authenticate(_request(), username="maker", password=PASSWORDS["maker"]) is None
+    cache.clear()  # what the cache does when the lockout minutes have passed
+    assert authenticate(_request(), username="maker", password=PASSWORDS["maker"]) == maker
+
+
+def test_signature_passwords_are_throttled_too(chain, reviewer, settings):
+    settings.SERSLEDGER_LOGIN_MAX_FAILURES = 2
+    lot = chain.lot(release=False)
+    wrong = SignatureIntent(password="guess", meaning="approved")
+    for _ in range(2):
+        with pytest.raises(ValidationError):
+            record_release(actor=reviewer, record=lot, signature=wrong)
+    right = SignatureIntent(password=PASSWORDS["reviewer"], meaning="approved")
+    with pytest.raises(ValidationError) as locked:
+        record_release(actor=reviewer, record=lot, signature=right)
+    assert locked.value.error_dict["password"][0].code == "signature_locked"
+
+
+@pytest.mark.parametrize("password", ["short1", "password123", "1234567890123",
+                                      "qwertyuiop"])
+def test_weak_passwords_are_refused(password, maker):
+    with pytest.raises(ValidationError):
+        validate_password(password, user=maker)
+
+
+def test_a_long_unusual_password_is_accepted(maker):
+    validate_password("copper-lattice-9-harbour", user=maker)
