@@ -74,3 +74,15 @@ def require_fraction(value: float, *, field: str, allow_zero: bool = False) -> f
     if not np.isfinite(number) or not low_ok or number > 1:
         raise AnalysisInputError(f"must be a fraction between 0 and 1, got {value}", field=field)
     return number
+
+
+def all_finite(values: np.ndarray) -> bool:
+    """Whether every element is finite, in one reduction pass for the usual all-finite case.
+
+    A NaN or infinity anywhere makes the sum non-finite; only then (or if the sum of
+    finite values overflows) is the element-wise test run.
+    """
+    with np.errstate(over="ignore", invalid="ignore"):
+        if np.isfinite(np.sum(values)):
+            return True
+    return bool(np.isfinite(values).all())

@@ -16,7 +16,12 @@ from pybaselines import Baseline
 from scipy.linalg import solveh_banded
 from threadpoolctl import threadpool_limits
 
-from ._validation import as_finite_1d, as_strictly_monotonic_axis, require_positive
+from ._validation import (
+    all_finite,
+    as_finite_1d,
+    as_strictly_monotonic_axis,
+    require_positive,
+)
 from .errors import AnalysisInputError
 
 # Uniform cubic B-spline pieces on one knot interval, local coordinate u in [0, 1).
@@ -225,7 +230,7 @@ def asls_baseline_map(
         raise AnalysisInputError(
             f"expected shape (n_points, {axis.size}), got {spectra.shape}", field="intensity"
         )
-    if not np.all(np.isfinite(spectra)):
+    if not all_finite(spectra):
         raise AnalysisInputError("contains NaN or infinite values", field="intensity")
     _check_iteration(lam, max_iter, tol)
     if not 0 < p < 1:
@@ -312,59 +317,113 @@ def _asls_spline_block(spectra, basis, max_iter, tol):
     """ASLS iterations for one block of spectra (rows), all solved together."""
     n, n_shift = spectra.shape
     h, n_int, p = basis.h, basis.n_intervals, basis.p
-    y = np.zeros((n, n_int * h), dtype=np.float32)
+    work = _Workspace(n, basis)
+    y, parts, parts_t = work.y, work.parts, work.parts_t
     y[:, :n_shift] = spectra
-    y3 = y.reshape(n, n_int, h)
-    parts = np.empty((n, n_int, 4), dtype=np.float32)
-    parts_t = np.empty((4, n_int, n), dtype=np.float32)
+    y[:, n_shift:] = 0.0
     # Iteration 1 weighs every point 1, so all spectra share one matrix: one LAPACK call.
-    fixed_rhs = _scatter_rhs(np.matmul(y3, basis.pieces32, out=parts), parts_t)
+    np.matmul(y.reshape(n, n_int, h), basis.pieces32, out=parts)
+    fixed_rhs = _scatter_rhs(parts, parts_t)
     alpha = solveh_banded(basis.all_ones_bands, fixed_rhs, lower=True)
     fixed_rhs *= p
     y[:, n_shift:] = _PAD
-    fitted, low_y = np.empty_like(y3), np.empty_like(y3)
-    low = np.empty(y3.shape, dtype=bool)
-    coef = np.empty((n, basis.n_coef), dtype=np.float32)
-    windows = np.empty((n, n_int, 4), dtype=np.float32)
-    bands, rhs = np.empty((4, basis.n_coef, n)), np.empty((basis.n_coef, n))
-    index = np.empty((n_int, n), dtype=np.intp)
-    gathered = np.empty((n_int, n))
+    result = np.empty((n, n_shift))
     iterations = np.zeros(n, dtype=int)
     converged = np.zeros(n, dtype=bool)
+    active = np.arange(n)  # block rows still iterating, in the order of the work arrays
+    done = np.zeros(n, dtype=bool)  # converged, among the active rows
     packed_old = n_low_old = None  # the pattern the last solve was weighted with
     for iteration in range(1, max_iter + 2):
-        _evaluate(alpha, basis.pieces_t32, fitted, coef, windows)
+        y3, fitted, low = work.y3, work.fitted, work.low
+        _evaluate(alpha, basis.pieces_t32, fitted, work.coef, work.windows)
         np.less_equal(y3, fitted, out=low)
         packed = _pack_intervals(low)
-        n_low = _POPCOUNT[packed.reshape(n, -1)].sum(axis=1, dtype=np.int64)
+        m = active.size
+        n_low = _POPCOUNT[packed.reshape(m, -1)].sum(axis=1, dtype=np.int64)
         if iteration == 1:  # the starting weights are all ones
             change = np.sqrt((n_shift - n_low) * (1 - p) ** 2 + n_low * p**2) / np.sqrt(n_shift)
         else:
-            flips = _POPCOUNT[(packed ^ packed_old).reshape(n, -1)].sum(axis=1, dtype=np.int64)
+            flips = _POPCOUNT[(packed ^ packed_old).reshape(m, -1)].sum(axis=1, dtype=np.int64)
             old_norm = np.sqrt(p**2 * (n_shift - n_low_old) + (1 - p) ** 2 * n_low_old)
             change = abs(1 - 2 * p) * np.sqrt(flips) / old_norm
-        iterations[~converged] = iteration
-        converged |= change < tol
-        if converged.all() or iteration > max_iter:
+        iterations[active[~done]] = iteration
+        done |= change < tol
+        if done.all() or iteration > max_iter:
             break
+        if np.count_nonzero(done) * 4 >= m:
+            # A quarter or more have converged: store their baselines (solved with the last
+            # weights before these stopped changing) and go on with the others only.
+            result[active[done]] = fitted.reshape(m, -1)[done, :n_shift]
+            converged[active[done]] = True
+            keep = ~done
+            alpha, fixed_rhs = alpha[:, keep], fixed_rhs[:, keep]
+            packed, n_low = packed[keep], n_low[keep]
+            work.compact(keep)
+            active, done = active[keep], done[keep]
+            m = active.size
+            y3, low = work.y3, work.low
+        bands, rhs, low_y = work.bands, work.rhs, work.low_y
         # BᵀWB with W = p + (1 − 2p)·[y ≤ z]: fixed part plus table look-ups of each byte
         # of an interval's low-point pattern; BᵀWy likewise, the low part as one product.
         bands[:] = basis.fixed_bands[:, :, None]
         for g, table in enumerate(basis.tables):
-            np.copyto(index, packed[:, :, g].T)
+            np.copyto(work.index, packed[:, :, g].T)
             for k, (a, b) in enumerate(_PAIRS):
-                np.take(table[k], index, out=gathered)
-                bands[b - a, a : a + n_int] += gathered
+                np.take(table[k], work.index, out=work.gathered)
+                bands[b - a, a : a + n_int] += work.gathered
         np.multiply(y3, low, out=low_y)
-        np.matmul(low_y, basis.low_pieces32, out=parts)
-        np.add(fixed_rhs, _scatter_rhs(parts, parts_t), out=rhs)
+        np.matmul(low_y, basis.low_pieces32, out=work.parts)
+        np.add(fixed_rhs, _scatter_rhs(work.parts, work.parts_t), out=rhs)
         _solve_banded_batch(bands, rhs)
         # A converged spectrum keeps its coefficients, so its baseline stays the one solved
         # with the last weights before they stopped changing.
-        np.copyto(alpha, rhs, where=~converged[None, :])
+        np.copyto(alpha, rhs, where=~done[None, :])
         packed_old, n_low_old = packed, n_low
     # The last evaluation is of the final coefficients (the loop leaves before solving).
-    return fitted.reshape(n, -1)[:, :n_shift], iterations, converged
+    result[active] = work.fitted.reshape(active.size, -1)[:, :n_shift]
+    converged[active] = done
+    return result, iterations, converged
+
+
+class _Workspace:
+    """Work arrays of one block; ``compact`` keeps the rows still iterating, in front."""
+
+    def __init__(self, n: int, basis: _SplineBasis):
+        n_int, h, n_coef = basis.n_intervals, basis.h, basis.n_coef
+        # shape per spectrum, dtype, and whether spectra run along the last axis
+        self._layout = {
+            "y": ((n_int, h), np.float32, False),
+            "fitted": ((n_int, h), np.float32, False),
+            "low_y": ((n_int, h), np.float32, False),
+            "low": ((n_int, h), bool, False),
+            "coef": ((n_coef,), np.float32, False),
+            "windows": ((n_int, 4), np.float32, False),
+            "parts": ((n_int, 4), np.float32, False),
+            "parts_t": ((4, n_int), np.float32, True),
+            "bands": ((4, n_coef), float, True),
+            "rhs": ((n_coef,), float, True),
+            "index": ((n_int,), np.intp, True),
+            "gathered": ((n_int,), float, True),
+        }
+        self._flat = {
+            name: np.empty(n * int(np.prod(shape)), dtype=dtype)
+            for name, (shape, dtype, _) in self._layout.items()
+        }
+        self._resize(n)
+
+    def _resize(self, n: int) -> None:
+        for name, (shape, _, last) in self._layout.items():
+            size = n * int(np.prod(shape))
+            full = shape + (n,) if last else (n,) + shape
+            setattr(self, name, self._flat[name][:size].reshape(full))
+        self.y3 = self.y
+        self.y = self.y.reshape(n, -1)
+
+    def compact(self, keep: np.ndarray) -> None:
+        """Move the kept rows of the data to the front and shrink every view."""
+        data, low = self.y3[keep], self.low[keep]
+        self._resize(int(np.count_nonzero(keep)))
+        self.y3[:], self.low[:] = data, low
 
 
 def _pack_intervals(low: np.ndarray) -> np.ndarray:

@@ -11,7 +11,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ._validation import as_finite_1d, as_strictly_monotonic_axis
+from ._validation import all_finite, as_finite_1d, as_strictly_monotonic_axis
 from .bands import BandFit, band_metrics_map, check_band_window, fit_band, normalised_intensity
 from .baseline import asls_baseline, asls_baseline_map
 from .errors import AnalysisInputError
@@ -239,7 +239,7 @@ def analyse_qc_map(
             f"has {spectra.shape[1]} shifts per point but shift_cm1 has {axis.size}",
             field="counts_2d",
         )
-    if not np.all(np.isfinite(spectra)):
+    if not all_finite(spectra):
         row = int(np.flatnonzero(~np.isfinite(spectra).all(axis=1))[0])
         raise AnalysisInputError(f"point {row} holds NaN or infinity", field="counts_2d")
     check_band_window(axis, band_center_cm1, band_window_cm1)

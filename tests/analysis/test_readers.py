@@ -220,9 +220,11 @@ def _wide_map_text(n_side, n_shift, rng):
 def test_wide_map_values_survive_and_a_100_by_100_map_reads_fast():
     rng = np.random.default_rng(42)
     text, shift, intensity = _wide_map_text(100, 1024, rng)  # ~10⁷ numbers, ~67 MB
-    started = time.perf_counter()
+    # CPU time, not wall time: the ceiling is about the reader, not about other processes
+    # sharing the machine.
+    started = time.process_time()
     raman_map = read_map(text)
-    seconds = time.perf_counter() - started
+    seconds = time.process_time() - started
     assert raman_map.grid_shape == (100, 100)
     np.testing.assert_allclose(
         raman_map.shift_cm1, shift, atol=5e-5
