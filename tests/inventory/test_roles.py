@@ -37,3 +37,11 @@ def test_unknown_role_is_refused(groups, django_user_model):
     user = django_user_model.objects.create_user("u", password="pw-user-12345678")
     with pytest.raises(ValueError, match="Unknown role"):
         user_has_role(user, "owner")
+
+
+def test_the_migration_created_the_groups(db):
+    """The data migration (inventory 0003) makes the groups without anyone calling
+    ensure_role_groups()."""
+    from django.contrib.auth.models import Group
+
+    assert set(ROLES) <= set(Group.objects.values_list("name", flat=True))
