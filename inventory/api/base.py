@@ -8,9 +8,13 @@ from either side is the same 403 body.
 
 from __future__ import annotations
 
+import datetime as dt
 from typing import ClassVar
 
 import django_filters
+from django.core.exceptions import ValidationError
+from django.db.models import DateTimeField
+from django_filters.fields import IsoDateTimeField
 from drf_spectacular.utils import extend_schema
 from rest_framework import mixins, permissions, status, viewsets
 from rest_framework.decorators import action
@@ -50,18 +54,42 @@ class RoleMixin:
         return f"{action.replace('_', ' ')} on {name.replace('-', ' ')}"
 
 
+class UtcDateTimeField(IsoDateTimeField):
+    """An ISO 8601 date-time, converted to UTC (PostgreSQL refuses offsets beyond ±15:59)."""
+
+    def to_python(self, value):
+        value = super().to_python(value)
+        try:
+            return None if value is None else value.astimezone(dt.UTC)
+        except OverflowError:
+            raise ValidationError("This date-time is outside the calendar once in UTC.",
+                                  code="invalid") from None
+
+
+class UtcDateTimeFilter(django_filters.IsoDateTimeFilter):
+    field_class = UtcDateTimeField
+
+
+def _datetime_ranges(model, names) -> dict:
+    return {f"{name}{suffix}": UtcDateTimeFilter(field_name=name, lookup_expr=lookup)
+            for name in names if isinstance(model._meta.get_field(name), DateTimeField)
+            for suffix, lookup in (("", "exact"), ("__gte", "gte"), ("__lte", "lte"))}
+
+
 def filterset(model, *, exact=(), ranges=(), codes=(), help_texts=None):
     """A django-filter FilterSet: ``exact`` fields, ``ranges`` with ``__gte``/``__lte``,
     and ``codes``: relations filtered by the related record's code."""
     help_texts = help_texts or {}
-    declared = {
+    declared = _datetime_ranges(model, ranges)
+    declared |= {
         name: django_filters.CharFilter(
             field_name=f"{name}__code", distinct=True,
             help_text=help_texts.get(name, f"Code of the {name.replace('_', ' ')}."))
         for name in codes
     }
     fields = {name: ["exact"] for name in exact}
-    fields.update({name: ["exact", "gte", "lte"] for name in ranges})
+    fields.update({name: ["exact", "gte", "lte"] for name in ranges
+                   if not isinstance(model._meta.get_field(name), DateTimeField)})
     meta = type("Meta", (), {"model": model, "fields": fields})
     return type(f"{model.__name__}Filter", (django_filters.FilterSet,),
                 {"Meta": meta, **declared})

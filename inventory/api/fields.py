@@ -17,14 +17,26 @@ EARLIEST_DATE = date(1900, 1, 1)
 LATEST_DATE = date(2999, 12, 31)
 
 
-class RecordRef(serializers.SlugRelatedField):
-    """A record named by its code (``SUB-00001``), case-insensitive."""
+class NamedRef(serializers.SlugRelatedField):
+    """A row named by a unique text field (a reference analyte by its name)."""
 
     def __init__(self, model=None, **kwargs):
         if model is not None:
             kwargs["queryset"] = model.objects.all()
-        kwargs.setdefault("slug_field", "code")
         super().__init__(**kwargs)
+
+    def to_internal_value(self, data):
+        if isinstance(data, str) and "\x00" in data:  # no database stores NUL in text
+            self.fail("invalid")
+        return super().to_internal_value(data)
+
+
+class RecordRef(NamedRef):
+    """A record named by its code (``SUB-00001``), case-insensitive."""
+
+    def __init__(self, model=None, **kwargs):
+        kwargs.setdefault("slug_field", "code")
+        super().__init__(model, **kwargs)
 
     def to_internal_value(self, data):
         if isinstance(data, str):

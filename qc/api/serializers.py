@@ -10,7 +10,7 @@ from __future__ import annotations
 from django.utils import timezone
 from rest_framework import serializers
 
-from inventory.api.fields import FiniteFloat, LabDate, RecordRef, Upload, file_parts
+from inventory.api.fields import FiniteFloat, LabDate, NamedRef, RecordRef, Upload, file_parts
 from inventory.api.serializers import ServiceSerializer
 from inventory.models import NanoparticleBatch, ReagentLot, Substrate
 from qc import services
@@ -18,8 +18,7 @@ from qc.models import ColloidMetal, ReferenceAnalyte, ReferenceMeasurement
 
 
 def _analyte(**kwargs):
-    return serializers.SlugRelatedField(slug_field="name", queryset=ReferenceAnalyte.objects.all(),
-                                        **kwargs)
+    return NamedRef(ReferenceAnalyte, slug_field="name", **kwargs)
 
 
 class _FileImport(ServiceSerializer):

@@ -238,3 +238,16 @@ def test_record_lookup_points_at_its_endpoint(chain, clients):
     body = clients["viewer"].get(f"/api/v1/records/{pieces[0].code}/").json()
     assert body["kind"] == "substrate"
     assert body["url"].endswith(f"/api/v1/substrates/{pieces[0].code}/")
+
+
+def test_inputs_no_database_can_store_are_refused_not_crashed(chain, clients):
+    """Found by the schemathesis run on PostgreSQL: NUL in a code, offsets beyond ±15:59."""
+    admin = clients["administrator"]
+    nul = admin.post("/api/v1/templates/", {"sphere_lot": "SPH-\x0001"}, format="json")
+    assert nul.status_code == 400
+    assert {"field": "sphere_lot", "message": "Invalid value.", "code": "invalid"} in \
+        nul.json()["errors"]
+    far = admin.get("/api/v1/flags/", {"created_at__gte": "0053-06-27T10:37:11.8-18:15"})
+    assert far.status_code == 200  # converted to UTC, a valid instant
+    edge = admin.get("/api/v1/flags/", {"created_at__gte": "0001-01-01T00:00:00+05:00"})
+    assert edge.status_code == 400 and edge.json()["errors"][0]["field"] == "created_at__gte"
