@@ -1,41 +1,30 @@
-"""Housekeeping views of the QC records; the product's own pages are the interface."""
+"""Housekeeping views of the QC records, read-only: limits, analytes and calibrations are set
+through qc.services (administrator role, history with reasons); results come from files."""
 
 from django.contrib import admin
+
+from inventory.admin import ReadOnlyAdmin
 
 from . import models
 
 
 @admin.register(models.UvVisRecord)
-class UvVisRecordAdmin(admin.ModelAdmin):
+class UvVisRecordAdmin(ReadOnlyAdmin):
     list_display = ("code", "batch", "measured_on", "peak_nm", "diameter_nm")
     search_fields = ("code", "batch__code")
 
-    def has_change_permission(self, request, obj=None):
-        return False  # computed from the uploaded file; re-import instead
-
-    def has_delete_permission(self, request, obj=None):
-        return False
-
 
 @admin.register(models.ColloidLimitSet, models.SilverCalibration)
-class ColloidSettingsAdmin(admin.ModelAdmin):
-    def has_delete_permission(self, request, obj=None):
-        return False
+class ColloidSettingsAdmin(ReadOnlyAdmin):
+    pass
 
 
 @admin.register(models.QcMeasurement, models.ReferenceMeasurement)
-class RamanMeasurementAdmin(admin.ModelAdmin):
+class RamanMeasurementAdmin(ReadOnlyAdmin):
     list_display = ("code", "measured_on")
     search_fields = ("code",)
 
-    def has_change_permission(self, request, obj=None):
-        return False  # computed from the uploaded file; re-import instead
-
-    def has_delete_permission(self, request, obj=None):
-        return False
-
 
 @admin.register(models.QcLimitSet, models.ReferenceAnalyte)
-class RamanSettingsAdmin(admin.ModelAdmin):
-    def has_delete_permission(self, request, obj=None):
-        return False
+class RamanSettingsAdmin(ReadOnlyAdmin):
+    pass

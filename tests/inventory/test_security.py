@@ -80,3 +80,14 @@ def test_weak_passwords_are_refused(password, maker):
 
 def test_a_long_unusual_password_is_accepted(maker):
     validate_password("copper-lattice-9-harbour", user=maker)
+
+
+def test_the_admin_only_reads(client, django_user_model, chain):
+    """The admin bypasses the services, so it may look but never write."""
+    boss = django_user_model.objects.create_superuser("boss", password="pw-boss-1234567")
+    client.force_login(boss)
+    lot = chain.lot()
+    assert client.get("/admin/inventory/signature/").status_code == 200
+    assert client.get("/admin/inventory/reagentlot/add/").status_code == 403
+    page = client.get(f"/admin/inventory/reagentlot/{lot.pk}/change/")
+    assert page.status_code == 200 and b'name="_save"' not in page.content
