@@ -15,6 +15,7 @@ from typing import Iterable
 from django.apps import apps
 from django.db import transaction
 from django.db.models import F
+from django.db.models.functions import Length
 
 from .models import CodeCounter, CodedRecord
 
@@ -47,6 +48,20 @@ def coded_models() -> dict[str, type[CodedRecord]]:
                 raise RuntimeError(f"Code prefix {prefix} is used by two models.")
             found[prefix] = model
     return found
+
+
+def code_sort_key(code: str) -> tuple[str, int, str]:
+    """Sort codes by prefix, then by number: SUB-99999 before SUB-100000.
+
+    Codes are zero-padded to five digits, so text order breaks once a counter passes
+    99,999; this key (and ``CODE_ORDER`` in queries) keeps the numeric order.
+    """
+    prefix, _, number = code.partition("-")
+    return (prefix, int(number) if number.isdigit() else -1, code)
+
+
+# ORDER BY for one record kind: a longer number is a larger one, then text order.
+CODE_ORDER = (Length("code"), "code")
 
 
 def prefix_of(code: str) -> str:

@@ -9,7 +9,7 @@ from typing import Any
 from django.apps import apps
 from django.utils import timezone
 
-from .codes import record_get
+from .codes import CODE_ORDER, code_sort_key, record_get
 from .lineage import Lineage, record_get_ancestors, record_get_descendants  # noqa: F401
 from .models import CodedRecord, LifecycleRecord, Signature, Status
 from .readiness import Readiness, substrate_check_readiness  # noqa: F401
@@ -31,13 +31,17 @@ class ExpiringItem:
 
 
 def records_expiring_within(days: int, *, on_date: date | None = None,
-                            include_expired: bool = True) -> list[ExpiringItem]:
+                            include_expired: bool = True,
+                            limit: int | None = None) -> list[ExpiringItem]:
     """Active records (quarantine or released) whose expiry falls within ``days`` days.
 
-    One indexed query per record kind; soonest first.
+    One query per record kind on the (status, expires_on) index; soonest first, then by
+    code in numeric order.  ``limit`` caps the list (and each query) for large stores.
     """
     if days < 0:
         raise ValueError("days must be zero or positive")
+    if limit is not None and limit < 1:
+        raise ValueError("limit must be at least 1")
     on_date = on_date or timezone.localdate()
     horizon = on_date + timedelta(days=days)
     items: list[ExpiringItem] = []
@@ -47,9 +51,13 @@ def records_expiring_within(days: int, *, on_date: date | None = None,
                                     expires_on__lte=horizon)
         if not include_expired:
             rows = rows.filter(expires_on__gte=on_date)
+        rows = rows.order_by("expires_on", *CODE_ORDER)
+        if limit is not None:
+            rows = rows[:limit]
         items.extend(ExpiringItem(record, record.expires_on, (record.expires_on - on_date).days)
-                     for record in rows.order_by("expires_on", "code"))
-    return sorted(items, key=lambda item: (item.expires_on, item.record.code))
+                     for record in rows)
+    items.sort(key=lambda item: (item.expires_on, code_sort_key(item.record.code)))
+    return items if limit is None else items[:limit]
 
 
 # ---------------------------------------------------------------------------------------

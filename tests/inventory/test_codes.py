@@ -96,3 +96,29 @@ def test_concurrent_record_creation_gives_distinct_codes(django_user_model):
     for thread in threads:
         thread.join()
     assert not errors and len(set(codes)) == 6
+
+
+def test_codes_past_99999_keep_numeric_order(chain):
+    """Zero-padding to five digits stops working at 100,000: text order would put
+    RGT-100000 before RGT-99999; the sort key and the query order must not."""
+    from inventory.codes import code_sort_key
+    from inventory.models import CodeCounter
+    from inventory.selectors import records_expiring_within
+
+    chain.s.shelf_life_rule_set(actor=None, record_kind="reagentlot", shelf_life_days=20,
+                                counted_from="received")
+    CodeCounter.objects.update_or_create(prefix="RGT", defaults={"last_value": 99_998})
+    lots = [chain.lot("solvent", days_ago=10) for _ in range(3)]  # same expiry day
+    codes = [lot.code for lot in lots]
+    assert codes == ["RGT-99999", "RGT-100000", "RGT-100001"]
+    assert sorted(codes) != codes  # plain text order is wrong here
+    assert sorted(codes[::-1], key=code_sort_key) == codes
+    assert [item.record.code for item in records_expiring_within(30)] == codes
+    assert [item.record.code for item in records_expiring_within(30, limit=2)] == codes[:2]
+
+
+def test_expiring_limit_must_be_positive(db):
+    from inventory.selectors import records_expiring_within
+
+    with pytest.raises(ValueError, match="limit"):
+        records_expiring_within(7, limit=0)

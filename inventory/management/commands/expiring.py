@@ -10,11 +10,15 @@ class Command(BaseCommand):
 
     def add_arguments(self, parser):
         parser.add_argument("--days", type=int, default=14)
+        parser.add_argument("--limit", type=int, default=None,
+                            help="show at most this many, soonest first")
 
-    def handle(self, *args, days, **options):
+    def handle(self, *args, days, limit=None, **options):
         if days < 0:
             raise CommandError("--days must be zero or positive")
-        items = records_expiring_within(days)
+        if limit is not None and limit < 1:
+            raise CommandError("--limit must be at least 1")
+        items = records_expiring_within(days, limit=limit)
         if not items:
             self.stdout.write(f"Nothing expires within {days} days.")
             return
