@@ -251,8 +251,8 @@ def asls_baseline_map(
     blocks = [slice(a, b) for a, b in itertools.pairwise(edges) if b > a]
 
     def run(rows: slice) -> None:
-        baseline[rows], iterations[rows], converged[rows] = _asls_spline_block(
-            spectra[rows], basis, max_iter, tol
+        iterations[rows], converged[rows] = _asls_spline_block(
+            spectra[rows], basis, max_iter, tol, out=baseline[rows]
         )
 
     with threadpool_limits(limits=1, user_api="blas"):
@@ -313,8 +313,8 @@ def _scatter_gram(parts: np.ndarray, n_coef: int) -> np.ndarray:
     return bands
 
 
-def _asls_spline_block(spectra, basis, max_iter, tol):
-    """ASLS iterations for one block of spectra (rows), all solved together."""
+def _asls_spline_block(spectra, basis, max_iter, tol, out):
+    """ASLS iterations for one block of spectra (rows), all solved together, into ``out``."""
     n, n_shift = spectra.shape
     h, n_int, p = basis.h, basis.n_intervals, basis.p
     work = _Workspace(n, basis)
@@ -327,7 +327,7 @@ def _asls_spline_block(spectra, basis, max_iter, tol):
     alpha = solveh_banded(basis.all_ones_bands, fixed_rhs, lower=True)
     fixed_rhs *= p
     y[:, n_shift:] = _PAD
-    result = np.empty((n, n_shift))
+    result = out
     iterations = np.zeros(n, dtype=int)
     converged = np.zeros(n, dtype=bool)
     active = np.arange(n)  # block rows still iterating, in the order of the work arrays
@@ -382,7 +382,7 @@ def _asls_spline_block(spectra, basis, max_iter, tol):
     # The last evaluation is of the final coefficients (the loop leaves before solving).
     result[active] = work.fitted.reshape(active.size, -1)[:, :n_shift]
     converged[active] = done
-    return result, iterations, converged
+    return iterations, converged
 
 
 class _Workspace:
