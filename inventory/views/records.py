@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 from django.contrib.auth.decorators import login_required
-from django.http import Http404
 from django.shortcuts import render
 from django.urls import reverse
 
@@ -112,7 +111,10 @@ def label_sheet(request):
     """Several labels on one printable page: ``?codes=SUB-00001,SUB-00002``."""
     codes = [c.strip().upper() for c in request.GET.get("codes", "").split(",") if c.strip()]
     if len(codes) > MAX_LABELS:
-        raise Http404(f"At most {MAX_LABELS} labels fit one sheet; {len(codes)} were asked for.")
+        return render(request, "inventory/labels.html",
+                      {"labels": [], "missing": [],
+                       "error": f"At most {MAX_LABELS} labels fit one sheet; {len(codes)} "
+                                "IDs were given."}, status=400)
     found, missing = [], []
     for code in dict.fromkeys(codes):
         try:

@@ -56,3 +56,12 @@ def test_qr_symbol_is_a_full_qr_code_at_error_level_m_or_better(monkeypatch):
     assert labels.qr_svg("https://lab.example/r/SUB-00001/").startswith("<svg")
     # ISO/IEC 18004 levels L < M < Q < H; segno may raise the level when it costs no size.
     assert not symbols[0].is_micro and symbols[0].error in {"M", "Q", "H"}
+
+
+def test_a_sheet_refuses_more_labels_than_fit(lab, login):
+    from inventory.views.records import MAX_LABELS
+
+    client = login(lab, "viewer")
+    codes = ",".join([f"SUB-{n:05d}" for n in range(1, MAX_LABELS + 2)])
+    response = client.get(reverse("label_sheet"), {"codes": codes})
+    assert response.status_code == 400 and 'id="labels-error"' in response.content.decode()
