@@ -1,9 +1,10 @@
-from django.urls import path
+from django.urls import include, path
 
 from . import views
 
 urlpatterns = [
     path("", views.home, name="home"),
+    path("make/", include("inventory.make.urls")),
     path("check/", views.readiness_check, name="readiness"),
     path("stock/", views.stock, name="stock"),
     path("trace/", views.trace, name="trace"),

@@ -1,0 +1,1 @@
+"""Make: the bench-logging pages, one form per fabrication step, each calling one service."""
