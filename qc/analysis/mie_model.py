@@ -18,7 +18,12 @@ from scipy import constants
 from scipy.interpolate import CubicSpline
 from scipy.optimize import least_squares
 
-from ._validation import as_finite_1d, as_strictly_monotonic_axis, require_non_negative, require_positive
+from ._validation import (
+    as_finite_1d,
+    as_strictly_monotonic_axis,
+    require_non_negative,
+    require_positive,
+)
 from .errors import AnalysisInputError
 from .optical_constants import johnson_christy_permittivity, medium_index
 

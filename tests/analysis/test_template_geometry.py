@@ -104,9 +104,9 @@ def test_typical_densities():
     ],
 )
 def test_bad_suspension_inputs_name_the_field(field, value):
-    kwargs = dict(
-        slide_area_cm2=1.0, diameter_nm=600.0, solids_percent_w_v=2.5, sphere_density_g_cm3=1.05
-    )
+    kwargs = {
+        "slide_area_cm2": 1.0, "diameter_nm": 600.0, "solids_percent_w_v": 2.5, "sphere_density_g_cm3": 1.05
+    }
     kwargs[field] = value
     with pytest.raises(AnalysisInputError) as caught:
         suspension_volume_for_monolayer(**kwargs)
