@@ -24,7 +24,7 @@ from rest_framework.response import Response
 from inventory.roles import ADMINISTRATOR, MAKER, REVIEWER, VIEWER, require_role
 
 from .pagination import Pages
-from .serializers import RejectSign, ReleaseSign, Void, related_names
+from .serializers import Amend, RejectSign, ReleaseSign, Void, related_names
 
 
 class HasRole(permissions.BasePermission):
@@ -197,8 +197,16 @@ class SettingViewSet(RecordViewSet):
         return super().respond(result, status_code if created else status.HTTP_200_OK)
 
 
-class VoidMixin:
-    """``POST {code}/void/``: a record made in error is voided with a reason, never deleted."""
+class CorrectionsMixin:
+    """Corrections of a coded record: ``POST {code}/void/`` (made in error: kept, never
+    deleted) and ``POST {code}/amend/`` (typed fields, against the version seen)."""
+
+    @extend_schema(request=Amend)
+    @action(detail=True, methods=["post"], required_role=MAKER, parser_classes=(JSONParser,))
+    def amend(self, request, code=None):
+        """Change typed fields; refused with code 'version_conflict' if someone changed the
+        record since ``expected_version``.  Every amendment is kept in the history."""
+        return self.run_service(Amend, record=self.get_object())
 
     @extend_schema(request=Void)
     @action(detail=True, methods=["post"], required_role=REVIEWER, parser_classes=(JSONParser,))
@@ -207,7 +215,7 @@ class VoidMixin:
         return self.run_service(Void, record=self.get_object())
 
 
-class SignedLifecycleMixin(VoidMixin):
+class SignedLifecycleMixin(CorrectionsMixin):
     """``POST {code}/release/`` and ``{code}/reject/`` under an electronic signature."""
 
     @extend_schema(request=ReleaseSign)

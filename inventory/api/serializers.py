@@ -371,3 +371,53 @@ class Void(ServiceSerializer):
     record_argument = "record"
     reason = serializers.CharField(allow_blank=True, help_text="Why the record is void (made "
                                                                 "in error); it is kept.")
+
+
+class Amend(ServiceSerializer):
+    """A correction of typed fields, made against the version the editor saw."""
+
+    service = staticmethod(services.record_amend)
+    record_argument = "record"
+    changes = serializers.DictField(
+        child=serializers.JSONField(allow_null=True),
+        help_text="Field name → new value, in the units of the field's name; the storage "
+                  "location by its code.  Which fields may change depends on the record.")
+    reason = serializers.CharField(allow_blank=True, required=False, default="",
+                                   help_text="Why (required once a record has left "
+                                             "quarantine or was signed).")
+    expected_version = serializers.IntegerField(min_value=1, max_value=2**31 - 1,
+                                                help_text="The version the editor saw; a "
+                                                          "newer one refuses the change.")
+
+    def perform(self, *, actor, record=None):
+        arguments = self.arguments()
+        arguments["changes"] = _model_values(type(record), arguments["changes"])
+        return services.record_amend(actor=actor, record=record, **arguments)
+
+
+def _record_by_code(model, name: str, code):
+    try:
+        return RecordRef(model).run_validation(code)
+    except serializers.ValidationError as error:
+        raise serializers.ValidationError({name: error.detail}) from None
+
+
+def _model_values(model, changes: dict) -> dict:
+    """Request values as the model takes them: linked rows by code, dates as text.
+
+    Only JSON scalars are accepted; the model's own field cleaning does the rest (in the
+    service), so a bad value is refused by the same rule as everywhere else.
+    """
+    values = {}
+    for name, value in changes.items():
+        if isinstance(value, (dict, list)):
+            raise serializers.ValidationError({name: "Give a single value."})
+        field = next((f for f in model._meta.concrete_fields if f.name == name), None)
+        if field is not None and field.is_relation and value is not None \
+                and issubclass(field.related_model, CodedRecord):
+            values[name] = _record_by_code(field.related_model, name, value)
+        elif isinstance(field, (models.DateField, models.DateTimeField)) and value is not None:
+            values[name] = str(value)
+        else:
+            values[name] = value
+    return values

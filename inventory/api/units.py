@@ -83,6 +83,7 @@ _DIMENSIONLESS = {
     "spikes_removed": "count",
     "version": "count (edits so far; for conflict detection)",
     "record_version": "count (the record's version when signed)",
+    "expected_version": "count (the record's version the editor saw)",
     "id": "none (row identifier, used in this kind's URL)",
     "size_bytes": "bytes",
     "depth": "count (steps from the root)",

@@ -34,10 +34,10 @@ from inventory.roles import MAKER, REVIEWER, VIEWER
 
 from . import serializers as s
 from .base import (
+    CorrectionsMixin,
     RecordViewSet,
     SettingViewSet,
     SignedLifecycleMixin,
-    VoidMixin,
     filterset,
 )
 from .reports import ReadinessOut, readiness_data
@@ -68,7 +68,7 @@ ShelfLifeRuleOut = s.read_serializer(ShelfLifeRule)
 DepositionToleranceOut = s.read_serializer(DepositionTolerance)
 
 
-class StorageLocationViewSet(VoidMixin, RecordViewSet):
+class StorageLocationViewSet(CorrectionsMixin, RecordViewSet):
     queryset = StorageLocation.objects.all()
     serializer_class = StorageLocationOut
     create_serializer = s.StorageLocationCreate
@@ -114,7 +114,7 @@ class TemplateViewSet(SignedLifecycleMixin, RecordViewSet):
     ordering_fields = (*LIFECYCLE_ORDERING, "made_on")
 
 
-class DepositionRunViewSet(VoidMixin, RecordViewSet):
+class DepositionRunViewSet(CorrectionsMixin, RecordViewSet):
     queryset = DepositionRun.objects.all()
     serializer_class = DepositionRunOut
     create_serializer = s.DepositionRunRecord
@@ -168,7 +168,7 @@ class SubstrateViewSet(SignedLifecycleMixin, RecordViewSet):
         return Response(readiness_data(code, request.query_params))
 
 
-class LinkerLayerViewSet(VoidMixin, RecordViewSet):
+class LinkerLayerViewSet(CorrectionsMixin, RecordViewSet):
     queryset = LinkerLayer.objects.all()
     serializer_class = LinkerLayerOut
     create_serializer = s.LinkerLayerApply
@@ -188,7 +188,7 @@ class NanoparticleBatchViewSet(SignedLifecycleMixin, RecordViewSet):
     ordering_fields = (*LIFECYCLE_ORDERING, "made_on")
 
 
-class ParticleAttachmentViewSet(VoidMixin, RecordViewSet):
+class ParticleAttachmentViewSet(CorrectionsMixin, RecordViewSet):
     queryset = ParticleAttachment.objects.all()
     serializer_class = ParticleAttachmentOut
     create_serializer = s.ParticleAttach
@@ -198,7 +198,7 @@ class ParticleAttachmentViewSet(VoidMixin, RecordViewSet):
     ordering_fields = ("code", "created_at", "made_on")
 
 
-class DatasetViewSet(VoidMixin, RecordViewSet):
+class DatasetViewSet(CorrectionsMixin, RecordViewSet):
     queryset = Dataset.objects.all()
     serializer_class = DatasetOut
     create_serializer = s.DatasetRegister
@@ -209,7 +209,7 @@ class DatasetViewSet(VoidMixin, RecordViewSet):
     ordering_fields = ("code", "created_at", "acquired_on", "title")
 
 
-class FlagViewSet(VoidMixin, RecordViewSet):
+class FlagViewSet(CorrectionsMixin, RecordViewSet):
     """Deviations on any record; an open flag blocks readiness downstream."""
 
     queryset = Flag.objects.all()

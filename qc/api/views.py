@@ -10,7 +10,7 @@ from rest_framework import status
 from rest_framework.parsers import MultiPartParser
 from rest_framework.response import Response
 
-from inventory.api.base import RecordViewSet, SettingViewSet, VoidMixin, filterset
+from inventory.api.base import CorrectionsMixin, RecordViewSet, SettingViewSet, filterset
 from inventory.api.serializers import read_serializer
 from qc.models import (
     ColloidLimitSet,
@@ -35,7 +35,7 @@ ColloidLimitSetOut = read_serializer(ColloidLimitSet)
 ReferenceAnalyteOut = read_serializer(ReferenceAnalyte)
 
 
-class UploadViewSet(VoidMixin, RecordViewSet):
+class UploadViewSet(CorrectionsMixin, RecordViewSet):
     """Create = upload one instrument file; the answer is the import's computed result."""
 
     parser_classes = (MultiPartParser,)

@@ -48,6 +48,8 @@ def _requests(w) -> dict[str, tuple[str, str, dict, str]]:
         "raise flag": ("post", "/api/v1/flags/",
                        {"target": piece, "category": "handling", "message": "Dropped."},
                        "maker"),
+        "amend": ("post", f"/api/v1/reagent-lots/{lot}/amend/",
+                  {"changes": {"notes": "{role} was here"}, "expected_version": 999}, "maker"),
         "open lot": ("post", f"/api/v1/reagent-lots/{lot}/open/", {"opened_on": w["day"]},
                      "maker"),
         "upload": ("post", f"/api/v1/deposition-runs/{w['run'].code}/chronoamperogram/",
@@ -86,7 +88,7 @@ def _send(client, method, path, body, role):
 
 
 ACTIONS = ("list", "detail", "readiness", "lineage", "history", "expiring", "flags",
-           "create", "raise flag", "open lot", "upload", "release", "reject", "void",
+           "create", "raise flag", "amend", "open lot", "upload", "release", "reject", "void",
            "resolve flag", "set limits", "set shelf life")
 
 

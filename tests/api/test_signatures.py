@@ -84,3 +84,46 @@ def test_reject_then_void(chain, clients):
     blank = clients["reviewer"].post(f"/api/v1/flags/{'FLG-00009'}/void/", {"reason": ""},
                                      format="json")
     assert blank.status_code == 404
+
+
+def test_amend_against_the_version_seen(chain, clients):
+    lot = chain.lot("solvent", release=False)
+    path = f"/api/v1/reagent-lots/{lot.code}/amend/"
+    shelf = clients["maker"].post("/api/v1/storage-locations/",
+                                  {"name": "Solvent cabinet", "kind": "flammables"},
+                                  format="json").json()
+    first = clients["maker"].post(path, {"changes": {"supplier_lot": "B-7",
+                                                     "storage": shelf["code"]},
+                                         "expected_version": lot.version}, format="json")
+    assert first.status_code == 200, first.json()
+    assert first.json()["storage"] == shelf["code"] and first.json()["supplier_lot"] == "B-7"
+    # A second editor who still saw the old version is refused, not silently overwritten.
+    stale = clients["maker"].post(path, {"changes": {"supplier_lot": "C-1"},
+                                         "expected_version": lot.version}, format="json")
+    assert stale.status_code == 400
+    assert stale.json()["errors"][0]["code"] == "version_conflict"
+    not_allowed = clients["maker"].post(path, {"changes": {"status": "released"},
+                                               "expected_version": first.json()["version"]},
+                                        format="json")
+    assert not_allowed.json()["errors"][0] == {
+        "field": "status", "code": "not_amendable",
+        "message": not_allowed.json()["errors"][0]["message"]}
+    bad_date = clients["maker"].post(path, {"changes": {"opened_on": 12},
+                                            "expected_version": first.json()["version"]},
+                                     format="json")
+    assert bad_date.status_code == 400 and bad_date.json()["errors"][0]["field"] == "opened_on"
+    history = clients["viewer"].get(f"/api/v1/records/{lot.code}/history/").json()
+    assert {c["field"] for c in history[0]["changes"]} == {"supplier_lot", "storage"}
+
+
+def test_amend_refusals_name_the_field(chain, clients):
+    lot = chain.lot("solvent", release=False)
+    path = f"/api/v1/reagent-lots/{lot.code}/amend/"
+    for changes, field in (({"storage": "LOC-99999"}, "storage"),
+                           ({"notes": ["a", "list"]}, "notes"),
+                           ({"created_by": "maker"}, "created_by")):
+        response = clients["maker"].post(path, {"changes": changes,
+                                                "expected_version": lot.version},
+                                         format="json")
+        assert response.status_code == 400, (changes, response.content)
+        assert response.json()["errors"][0]["field"] == field
