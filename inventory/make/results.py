@@ -24,6 +24,7 @@ class Result:
     notes: list[str] = field(default_factory=list)
     links: list[tuple[str, str]] = field(default_factory=list)
     files: list[tuple[str, int, str]] = field(default_factory=list)
+    flags: list[Flag] = field(default_factory=list)
 
 
 def fmt(value, spec: str = ".4g", unit: str = "") -> str:
@@ -33,8 +34,12 @@ def fmt(value, spec: str = ".4g", unit: str = "") -> str:
     return f"{value:{spec}}{' ' + unit if unit else ''}"
 
 
-def _open_flags(code: str) -> list[Flag]:
-    return list(Flag.objects.filter(target_code=code, state=Flag.State.OPEN).order_by("code"))
+def _open_flags(codes: list[str], *, mentioning: str = "") -> list[Flag]:
+    """Open flags on these records (those whose message names ``mentioning``, if given)."""
+    rows = Flag.objects.filter(target_code__in=codes, state=Flag.State.OPEN)
+    if mentioning:
+        rows = rows.filter(message__contains=mentioning)
+    return list(rows.order_by("code"))
 
 
 def deposition_result(run: DepositionRun) -> Result:
@@ -62,8 +67,9 @@ def deposition_result(run: DepositionRun) -> Result:
                             f" on h/D, from {check.tolerance.source}.")
         result.verdict_ok = bool(check.within_tolerance)
         result.verdict = "ON TARGET" if check.within_tolerance else "OFF TARGET"
-    result.reasons = [flag.message for flag in _open_flags(run.code)]
     result.links = [(piece.code, piece.piece_label) for piece in run.substrates.order_by("code")]
+    result.flags = _open_flags([run.code, *(code for code, _label in result.links)],
+                               mentioning=run.code)
     return result
 
 
@@ -85,6 +91,7 @@ def uvvis_result(record: UvVisRecord) -> Result:
     result.notes = [note for note in (record.size_agreement_message, record.concentration_note,
                                       record.limits_note, record.calibration_source) if note]
     result.reasons = [breach["message"] for breach in record.breaches]
+    result.flags = _open_flags([record.batch.code], mentioning=record.code)
     if record.limit_set_id:
         result.verdict_ok = not record.breaches
         result.verdict = "WITHIN LIMITS" if not record.breaches else "OUT OF LIMITS"
@@ -113,8 +120,7 @@ def qc_result(measurement: QcMeasurement) -> Result:
     m.substrate.refresh_from_db()
     result.notes = [f"Substrate {m.substrate.code} is now {m.substrate.get_status_display()}.",
                     f"File {m.raw_filename}, SHA-256 {m.raw_sha256}."]
-    result.notes += [f"Flag {flag.code}: {flag.message}" for flag in _open_flags(m.substrate.code)
-                     if m.code in flag.message]
+    result.flags = _open_flags([m.substrate.code], mentioning=m.code)
     result.links = [(m.substrate.code, "the substrate")]
     if m.reference_id:
         result.links.append((m.reference.code, "the reference measurement"))

@@ -7,14 +7,14 @@ from inventory.models import ReagentLot
 from inventory.services import record_transition, shelf_life_rule_set
 
 
-def test_usable_offers_released_unexpired_lots_only(chain):
+def test_usable_offers_released_unexpired_lots_only(chain, administrator):
     good = chain.lot("plating_bath")
     waiting = chain.lot("plating_bath", release=False)
     rejected = chain.lot("plating_bath", release=False)
     record_transition(actor=chain.reviewer, record=rejected, to_status="rejected",
                       reason="cloudy")
     old = chain.lot("plating_bath", days_ago=200)
-    shelf_life_rule_set(actor=chain.reviewer, record_kind="reagentlot",
+    shelf_life_rule_set(actor=administrator, record_kind="reagentlot",
                         reagent_kind="plating_bath", shelf_life_days=90, counted_from="received")
     codes = set(usable(ReagentLot.objects.all(), on_date=chain.today)
                 .values_list("code", flat=True))
@@ -22,9 +22,9 @@ def test_usable_offers_released_unexpired_lots_only(chain):
     assert not {waiting.code, rejected.code, old.code} & codes
 
 
-def test_a_lot_is_usable_on_its_expiry_day(chain):
+def test_a_lot_is_usable_on_its_expiry_day(chain, administrator):
     lot = chain.lot("plating_bath", days_ago=90)
-    shelf_life_rule_set(actor=chain.reviewer, record_kind="reagentlot",
+    shelf_life_rule_set(actor=administrator, record_kind="reagentlot",
                         reagent_kind="plating_bath", shelf_life_days=90, counted_from="received")
     assert usable(ReagentLot.objects.all(), on_date=chain.today).filter(pk=lot.pk).exists()
     assert not usable(ReagentLot.objects.all(),

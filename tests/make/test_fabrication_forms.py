@@ -8,6 +8,7 @@ from django.urls import reverse
 
 from inventory.models import (
     DepositionRun,
+    Flag,
     LineageEdge,
     LinkerLayer,
     NanoparticleBatch,
@@ -103,6 +104,21 @@ def test_deposition_run_with_chronoamperogram_makes_three_pieces_and_shows_heigh
     assert f"{run.charge_C:.4g} C" in page and "ON TARGET" in page
     for piece in run.substrates.all():
         assert piece.code in page
+
+
+def test_off_target_run_shows_its_flags_on_the_result_page(maker_client, chain):
+    template, bath = template_600nm(chain), chain.lot("plating_bath")
+    data = _deposition_data(chain, template, bath, pieces="2",
+                            chronoamperogram=fixture_upload("chronoamperograms/au_600nm_hd030.txt"))
+    response = maker_client.post(reverse("make:deposition"), data)
+    run = DepositionRun.objects.get()
+    # generate.py made this trace for h/D = 0.30, well short of the 0.50 target.
+    assert run.height_over_diameter == pytest.approx(0.30, abs=0.01)
+    page = maker_client.get(response["Location"]).content.decode()
+    assert "OFF TARGET" in page
+    flagged = Flag.objects.filter(state=Flag.State.OPEN, message__contains=run.code)
+    assert flagged.count() == 3  # the run and both pieces
+    assert all(flag.code in page for flag in flagged)
 
 
 def test_bad_chronoamperogram_saves_no_run_no_piece_and_keeps_the_template(maker_client, chain):

@@ -11,7 +11,7 @@ from django.urls import reverse
 from inventory.models import Dataset, Flag, Status, Substrate
 from qc.models import QcMeasurement, ReferenceMeasurement
 
-from .builders import MAP_SETTINGS, fixture_upload
+from .builders import FIXTURES, MAP_SETTINGS, fixture_upload
 
 
 def _qc_data(lab, substrate, filename, **extra):
@@ -75,14 +75,27 @@ def test_qc_with_a_broken_file_names_the_file_field(maker_client, chain, qc_lab)
     assert not QcMeasurement.objects.exists() and not Flag.objects.exists()
 
 
+def _reference_data(lab, chain, upload):
+    return {"analyte_lot": lab.lot.code, "raw_file": upload,
+            "measured_on": chain.day(1).isoformat(), "laser_nm": "785", "power_mW": "20",
+            "integration_s": "10", "accumulations": "1", "concentration_mol_L": "9.74",
+            "concentration_rel_u": "0", "effective_height_um": "12",
+            "effective_height_rel_u": "0.15", "effective_area_um2": "1.5"}
+
+
+def test_the_same_reference_file_twice_is_refused_beside_the_file(maker_client, chain, qc_lab):
+    response = maker_client.post(reverse("make:reference"), _reference_data(
+        qc_lab, chain, fixture_upload("raman/reference_neat_benzenethiol.csv")))
+    assert "already imported" in " ".join(response.context["form"].errors["raw_file"])
+    assert ReferenceMeasurement.objects.count() == 1
+
+
 def test_reference_measurement_upload(maker_client, chain, qc_lab):
-    response = maker_client.post(reverse("make:reference"), {
-        "analyte_lot": qc_lab.lot.code,
-        "raw_file": fixture_upload("raman/reference_neat_benzenethiol.csv", name="neat2.csv"),
-        "measured_on": chain.day(1).isoformat(), "laser_nm": "785", "power_mW": "20",
-        "integration_s": "10", "accumulations": "1", "concentration_mol_L": "9.74",
-        "concentration_rel_u": "0", "effective_height_um": "12",
-        "effective_height_rel_u": "0.15", "effective_area_um2": "1.5"})
+    content = (FIXTURES / "raman" / "reference_neat_benzenethiol.csv").read_bytes()
+    second_aliquot = SimpleUploadedFile("neat2.csv", b"# second aliquot\n" + content)
+    response = maker_client.post(reverse("make:reference"),
+                                 _reference_data(qc_lab, chain, second_aliquot))
+    assert response.status_code == 302, response.context["form"].errors
     reference = ReferenceMeasurement.objects.latest("id")
     assert reference != qc_lab.reference
     assert response["Location"] == reverse("make:result", args=[reference.code])

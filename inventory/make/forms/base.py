@@ -67,6 +67,14 @@ def record_label(obj) -> str:
     for name in ("name", "piece_label"):
         if getattr(obj, name, ""):
             parts.append(getattr(obj, name))
+    if hasattr(obj, "get_stage_display"):
+        parts.append(f"{obj.get_stage_display().lower()}, {obj.get_status_display().lower()}")
+    if getattr(obj, "sphere_lot_id", None):
+        parts.append(f"{obj.sphere_lot.nominal_diameter_nm:g} nm spheres")
+    if hasattr(obj, "synthesis_method"):
+        parts.append(f"{obj.metal}, {obj.get_synthesis_method_display().lower()}")
+    if getattr(obj, "made_on", None):
+        parts.append(f"made {obj.made_on.isoformat()}")
     if getattr(obj, "ghs_hazard_codes", ""):
         parts.append(f"⚠ {obj.ghs_hazard_codes}")
     if getattr(obj, "expires_on", None):
