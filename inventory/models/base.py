@@ -35,7 +35,9 @@ class StampedRecord(models.Model):
     version = models.PositiveIntegerField(default=1, editable=False)
     # Every create and change of every concrete subclass, with who, when and the reason
     # (django-simple-history; read through inventory.selectors.record_get_history).
-    history = HistoricalRecords(inherit=True)
+    # Reasons are sentences (a QC failure summary can be long): text, not varchar(100).
+    history = HistoricalRecords(inherit=True,
+                                history_change_reason_field=models.TextField(null=True))
 
     class Meta:
         abstract = True

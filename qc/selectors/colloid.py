@@ -80,13 +80,15 @@ def nanoparticle_batch_get_uvvis_series(batch: NanoparticleBatch) -> list[UvVisP
             broadening_nm=r.broadening_nm, aggregation_index_change=r.aggregation_index_change,
             breaches=tuple(b["limit"] for b in r.breaches),
         )
-        for r in UvVisRecord.objects.filter(batch=batch).order_by("measured_on", "id")
+        for r in UvVisRecord.objects.filter(batch=batch, voided_at__isnull=True)
+        .order_by("measured_on", "id")
     ]
 
 
 def nanoparticle_batch_get_latest_size(batch: NanoparticleBatch) -> ColloidSize | None:
     """Size and concentration from the batch's most recent record (None without records)."""
-    r = UvVisRecord.objects.filter(batch=batch).order_by("-measured_on", "-id").first()
+    r = (UvVisRecord.objects.filter(batch=batch, voided_at__isnull=True)
+         .order_by("-measured_on", "-id").first())
     if r is None:
         return None
     return ColloidSize(

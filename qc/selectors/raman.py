@@ -33,7 +33,8 @@ def qc_measurement_get_latest(substrate: Substrate, *,
                               product_kind: str | None = None) -> QcMeasurement | None:
     """The newest QC measurement of ``substrate`` at ``product_kind`` (default: its stage)."""
     return (QcMeasurement.objects
-            .filter(substrate=substrate, product_kind=product_kind or substrate.stage)
+            .filter(substrate=substrate, product_kind=product_kind or substrate.stage,
+                    voided_at__isnull=True)
             .select_related("analyte", "reference", "limit_set")
             .order_by("-measured_on", "-id").first())
 
@@ -61,7 +62,7 @@ def qc_control_chart(*, product_kind: str, metric: str, analyte=None,
     """
     if metric not in CHART_METRICS:
         raise ValueError(f"metric must be one of {sorted(CHART_METRICS)}, not {metric!r}")
-    rows = QcMeasurement.objects.filter(product_kind=product_kind,
+    rows = QcMeasurement.objects.filter(product_kind=product_kind, voided_at__isnull=True,
                                         **{f"{metric}__isnull": False})
     if analyte is not None:
         rows = rows.filter(analyte=analyte)
@@ -81,7 +82,8 @@ def qc_control_chart(*, product_kind: str, metric: str, analyte=None,
 def _latest_maps(substrate_ids) -> list[QcMeasurement]:
     """The newest map of each substrate (one query)."""
     newest: dict[int, QcMeasurement] = {}
-    for measurement in (QcMeasurement.objects.filter(substrate_id__in=substrate_ids, is_map=True)
+    for measurement in (QcMeasurement.objects.filter(substrate_id__in=substrate_ids, is_map=True,
+                                                             voided_at__isnull=True)
                         .order_by("substrate_id", "-measured_on", "-id")
                         .only("code", "substrate_id", "point_values")):
         newest.setdefault(measurement.substrate_id, measurement)
@@ -137,7 +139,7 @@ def datasets_needing_review(*, category: str | None = None) -> list[ReviewNotice
     One descendant walk per flagged record (inventory.lineage), so the cost grows with the
     number of open flags, not with the depth of the graph.
     """
-    flags = Flag.objects.filter(state=Flag.State.OPEN)
+    flags = Flag.objects.filter(state=Flag.State.OPEN, voided_at__isnull=True)
     if category:
         flags = flags.filter(category=category)
     notices = []
@@ -152,5 +154,6 @@ def dataset_get_review_notices(dataset: Dataset) -> list[ReviewNotice]:
     """Open flags on ``dataset``'s ancestors (or itself), as review notices (two queries+)."""
     ancestry = record_get_ancestors(dataset)
     codes = [dataset.code, *ancestry.depth]
-    flags = Flag.objects.filter(target_code__in=codes, state=Flag.State.OPEN).order_by("code")
+    flags = Flag.objects.filter(target_code__in=codes, state=Flag.State.OPEN,
+                                voided_at__isnull=True).order_by("code")
     return [_notice(dataset, flag) for flag in flags]

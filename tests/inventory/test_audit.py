@@ -160,3 +160,12 @@ def test_two_concurrent_amendments_of_one_version_exactly_one_wins(django_user_m
     assert sorted(outcomes) == ["version_conflict", "won"]
     stored = ReagentLot.objects.get(pk=lot.pk)
     assert stored.version == lot.version + 1 and stored.supplier in {"A", "B"}
+
+
+def test_a_long_reason_is_kept_whole(chain, reviewer):
+    """Reasons are sentences; history stores them as text (PostgreSQL would refuse a
+    varchar(100) overflow, SQLite would keep it silently)."""
+    lot = chain.lot("solvent")
+    reason = "Supplier recall notice R-7 lists this lot; " * 8
+    record_transition(actor=reviewer, record=lot, to_status=Status.QUARANTINE, reason=reason)
+    assert record_get_history(lot)[0].reason == reason

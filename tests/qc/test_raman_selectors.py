@@ -75,3 +75,13 @@ def test_batch_reproducibility_of_one_run(world):
         100 * np.std(means, ddof=1) / np.mean(means))
     with pytest.raises(ValueError):
         qc_batch_reproducibility(deposition_run=chain.run(pieces=1)[0])
+
+
+def test_a_voided_measurement_no_longer_counts_as_the_latest(world):
+    from inventory.services import record_void
+
+    substrate = world.chain.decorated_substrate()
+    older = world.measure(substrate, GOOD_MAP, days_ago=2)
+    newest = world.measure(substrate, map_file(map_heights(3000, 0.05, seed=9)), days_ago=1)
+    record_void(actor=world.chain.reviewer, record=newest, reason="Wrong substrate scanned.")
+    assert qc_measurement_get_latest(substrate) == older
