@@ -88,8 +88,10 @@ def uvvis_result(record: UvVisRecord) -> Result:
         ("Aggregation index", fmt(record.aggregation_index, ".4f")),
         ("Peak shift since first record", fmt(record.peak_shift_nm, "+.1f", "nm")),
     ]
-    result.notes = [note for note in (record.size_agreement_message, record.concentration_note,
-                                      record.limits_note, record.calibration_source) if note]
+    notes = (("Size", record.size_agreement_message), ("FWHM", record.fwhm_note),
+             ("Concentration", record.concentration_note), ("Limits", record.limits_note),
+             ("Calibration", record.calibration_source))
+    result.notes = [f"{topic}: {note}" for topic, note in notes if note]
     result.reasons = [breach["message"] for breach in record.breaches]
     result.flags = _open_flags([record.batch.code], mentioning=record.code)
     if record.limit_set_id:
