@@ -6,6 +6,9 @@ every spectrum of a map at once with array operations.
 
 from __future__ import annotations
 
+import itertools
+import os
+from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass
 
 import numpy as np
@@ -151,7 +154,9 @@ def remove_spikes(
         raise AnalysisInputError("must be a whole number ≥ 0", field="widen_points")
 
     spectra = np.atleast_2d(values)
-    mask = _spike_points(spectra, threshold, int(max_spike_width_points), float(sharpness))
+    mask = _spike_points_threaded(
+        spectra, threshold, int(max_spike_width_points), float(sharpness)
+    )
     mask = _widen(mask, int(widen_points))
     cleaned = _replace_by_neighbour_mean(spectra, mask, int(replace_window_points))
 
@@ -176,6 +181,25 @@ def _row_median_in_place(values: np.ndarray) -> np.ndarray:
         return values[:, middle : middle + 1].copy()
     values.partition((middle - 1, middle), axis=1)
     return values[:, middle - 1 : middle + 1].mean(axis=1, keepdims=True)
+
+
+# Rows per thread below which one thread does all (thread start-up would dominate).
+_ROWS_PER_THREAD = 2000
+
+
+def _spike_points_threaded(spectra, threshold, max_width, sharpness):
+    """:func:`_spike_points` on row blocks in parallel threads; rows are independent, and
+    numpy releases the GIL in the partitions that dominate, so the mask is the same."""
+    n_threads = min(os.cpu_count() or 1, 4, spectra.shape[0] // _ROWS_PER_THREAD)
+    if n_threads < 2:
+        return _spike_points(spectra, threshold, max_width, sharpness)
+    edges = np.linspace(0, spectra.shape[0], n_threads + 1).astype(int)
+    with ThreadPoolExecutor(max_workers=n_threads) as pool:
+        masks = pool.map(
+            lambda rows: _spike_points(spectra[rows], threshold, max_width, sharpness),
+            [slice(a, b) for a, b in itertools.pairwise(edges)],
+        )
+        return np.concatenate(list(masks))
 
 
 def _spike_points(spectra: np.ndarray, threshold: float, max_width: int, sharpness: float):

@@ -131,3 +131,21 @@ def test_interior_spike_near_the_edge_does_not_grow_into_an_edge_spike():
     spiked[2] += 9000  # one-point spike two points from the start
     found = set(np.flatnonzero(remove_spikes(spiked).spike_mask))
     assert found == {1, 2, 3}
+
+
+def test_threaded_row_blocks_give_the_same_mask(monkeypatch):
+    from qc.analysis import spikes
+
+    rng = np.random.default_rng(30)
+    rows = []
+    for k in range(40):
+        _, _, noisy = _clean_spectrum(rng)
+        noisy[(37 * k) % noisy.size] += 8000 * (k % 3 == 0)
+        rows.append(noisy)
+    stack = np.array(rows)
+    single = remove_spikes(stack)
+    monkeypatch.setattr(spikes, "_ROWS_PER_THREAD", 7)  # several blocks on several threads
+    threaded = remove_spikes(stack)
+    np.testing.assert_array_equal(threaded.spike_mask, single.spike_mask)
+    np.testing.assert_array_equal(threaded.cleaned, single.cleaned)
+    assert single.replaced_count > 0
