@@ -22,7 +22,11 @@ FIXTURES = Path(__file__).resolve().parents[2] / "fixtures" / "spectra"
 
 # The worked example of the paper's section on data compression, the ten ordinates
 # 1 2 3 3 2 1 0 −1 −2 −3, in its five forms. The exact characters are recalled from the
-# paper (from memory), and every one is re-derived here from the rules above:
+# paper (from memory), and every one is re-derived here from the rules above. Second-hand
+# support for the DIFDUP form: the test suite of an independent open-source JavaScript
+# JCAMP-DX encoder names this sequence its "publication example" and expects the lines
+# "0AJT%jX" and "9c" (x from 0; the second line is the y check value), as our writer gives.
+# The paper's own table was not found in any public text searched.
 PAPER_SEQUENCE = [1, 2, 3, 3, 2, 1, 0, -1, -2, -3]
 PAPER_FORMS = {
     # AFFN: free-format numbers separated by blanks.
