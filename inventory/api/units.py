@@ -123,6 +123,8 @@ def describe(name: str, field: serializers.Field, text: str = "") -> str:
         return f"{sentence} ISO 8601 date and time (UTC)."
     if isinstance(field, serializers.DateField):
         return f"{sentence} ISO 8601 date (YYYY-MM-DD)."
+    if isinstance(field, serializers.PrimaryKeyRelatedField):
+        return f"{sentence} Unit: none (the id of the related row)."
     if isinstance(field, _NUMERIC):
         raise TypeError(f"Field '{name}' is a number without a unit; name its unit or add it "
                          "to inventory.api.units._DIMENSIONLESS.")
