@@ -25,18 +25,23 @@ SCREENSHOTS = Path(__file__).resolve().parents[2] / "test-artifacts" / "screensh
 TABLET = {"width": 800, "height": 1280}
 
 
+def require_chromium(path: str = CHROMIUM, *, ci: bool | None = None) -> str:
+    """The Chromium to drive; without one, fail in CI (``CI`` set) and skip elsewhere."""
+    if os.path.exists(path):
+        return path
+    message = f"No Chromium at {path}: install Debian's package with `apt-get install -y chromium`."
+    if os.environ.get("CI") if ci is None else ci:
+        pytest.fail(message)
+    pytest.skip(message)
+
+
 @pytest.fixture(scope="session")
 def browser():
-    if not os.path.exists(CHROMIUM):
-        message = (f"No Chromium at {CHROMIUM}: install Debian's package with "
-                   "`apt-get install -y chromium`.")
-        if os.environ.get("CI"):
-            pytest.fail(message)
-        pytest.skip(message)
+    executable = require_chromium()
     from playwright.sync_api import sync_playwright
 
     with sync_playwright() as playwright:
-        chromium = playwright.chromium.launch(executable_path=CHROMIUM, args=CHROMIUM_ARGS)
+        chromium = playwright.chromium.launch(executable_path=executable, args=CHROMIUM_ARGS)
         yield chromium
         chromium.close()
 
