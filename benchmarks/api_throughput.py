@@ -167,8 +167,8 @@ class Server:
                 time.sleep(0.3)
         raise SystemExit(f"gunicorn did not answer within {seconds:g} s; see its log")
 
-    def cpu_seconds(self) -> float:
-        """User + system CPU of the master and its workers so far."""
+    def cpu_seconds(self) -> dict[int, float]:
+        """User + system CPU of the master and its workers so far, by pid."""
         return process_cpu_seconds(lambda pid, ppid, _: self.process.pid in (pid, ppid))
 
     def stop(self) -> None:
@@ -181,10 +181,10 @@ class Server:
                 self.process.wait()
 
 
-def process_cpu_seconds(chosen) -> float:
-    """CPU seconds (user + system) of the processes ``chosen(pid, ppid, cmdline)``, from /proc."""
+def process_cpu_seconds(chosen) -> dict[int, float]:
+    """CPU seconds (user + system) by pid of the processes ``chosen(pid, ppid, cmdline)``."""
     tick = os.sysconf("SC_CLK_TCK")
-    total = 0.0
+    by_pid = {}
     for folder in Path("/proc").glob("[0-9]*"):
         try:
             fields = (folder / "stat").read_text().rsplit(")", 1)[1].split()
@@ -192,12 +192,21 @@ def process_cpu_seconds(chosen) -> float:
         except OSError:
             continue
         if chosen(int(folder.name), int(fields[1]), cmdline):
-            total += (int(fields[11]) + int(fields[12])) / tick
-    return total
+            by_pid[int(folder.name)] = (int(fields[11]) + int(fields[12])) / tick
+    return by_pid
 
 
-def database_cpu_seconds() -> float:
-    """CPU of the PostgreSQL backends serving the benchmark database (0 on SQLite)."""
+def cpu_used(before: dict[int, float], after: dict[int, float]) -> float:
+    """CPU spent between two readings by the processes alive at the second one.
+
+    A process that ended in between (a recycled database connection, a parallel query
+    worker) takes its CPU with it, so the figure is a lower bound, never negative.
+    """
+    return sum(cpu - before.get(pid, 0.0) for pid, cpu in after.items())
+
+
+def database_cpu_seconds() -> dict[int, float]:
+    """CPU of the PostgreSQL backends serving the benchmark database (none on SQLite)."""
     return process_cpu_seconds(lambda _pid, _ppid, cmd: cmd.startswith("postgres:")
                                and f" {PG_DATABASE} " in cmd)
 
@@ -256,8 +265,8 @@ def measure_endpoint(server: Server, paths: list[str], token: str, args) -> dict
                      cap=args.max_requests)
     busy_after, cpu_after, db_after = machine_busy(), server.cpu_seconds(), database_cpu_seconds()
     requests = max(result["requests"], 1)
-    cpu_ms = {"server": (cpu_after - cpu_before) * 1000 / requests,
-              "database": (db_after - db_before) * 1000 / requests,
+    cpu_ms = {"server": cpu_used(cpu_before, cpu_after) * 1000 / requests,
+              "database": cpu_used(db_before, db_after) * 1000 / requests,
               "client": result["client_cpu_s"] * 1000 / requests}
     seconds = result["duration_us"] / 1e6
     errors = (result["non200"] + result["connect"] + result["read"] + result["write"]
@@ -307,7 +316,8 @@ def run(args) -> Path:
                 print(row(result["runs"][-1]), flush=True)
         finally:
             server.stop()
-    path = OUT_DIR / f"throughput-{args.db}-{summary['scale']:g}.json"
+    label = f"-{args.label}" if args.label else ""
+    path = OUT_DIR / f"throughput-{args.db}-{summary['scale']:g}{label}.json"
     path.write_text(json.dumps(result, indent=2))
     print(f"Saved {path}")
     return path
@@ -346,7 +356,7 @@ def main(argv: list[str] | None = None) -> None:
     parser = argparse.ArgumentParser(description=__doc__.split("\n\n")[0])
     parser.add_argument("--db", choices=["sqlite", "postgres"], default="postgres")
     parser.add_argument("--server", type=parse_server, action="append",
-                        help="sync:N or gthread:NxT, repeatable (default gthread:3x4)")
+                        help="sync:N or gthread:NxT, repeatable (default sync:3)")
     parser.add_argument("--endpoint", action="append", help="only this endpoint (repeatable)")
     parser.add_argument("--clients", type=int, default=8)
     parser.add_argument("--seconds", type=float, default=15.0)
@@ -354,12 +364,13 @@ def main(argv: list[str] | None = None) -> None:
     parser.add_argument("--max-requests", type=int, default=20000)
     parser.add_argument("--pages", type=int, default=40, help="list pages cycled through")
     parser.add_argument("--records", type=int, default=500, help="substrates cycled through")
+    parser.add_argument("--label", help="saved as throughput-<db>-<scale>-<label>.json")
     parser.add_argument("--report", action="store_true", help="print markdown from saved results")
     args = parser.parse_args(argv)
     if args.report:
         print(report())
         return
-    args.server = args.server or [parse_server("gthread:3x4")]
+    args.server = args.server or [parse_server("sync:3")]
     # A SIGTERM (e.g. from ``timeout``) unwinds through ``finally`` so gunicorn is stopped too.
     signal.signal(signal.SIGTERM, lambda *_: sys.exit("stopped by SIGTERM"))
     run(args)
