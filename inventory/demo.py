@@ -91,7 +91,7 @@ def load_inventory_demo(*, today: date | None = None) -> DemoScenario:
     today = today or timezone.localdate()
     day = lambda n: today - timedelta(days=n)  # noqa: E731  n days ago
     s = DemoScenario(today=today, users=_users())
-    maker, reviewer = s.users["maker"], s.users["reviewer"]
+    maker = s.users["maker"]
 
     for kind, reagent_kind, days, counted_from, why in EXAMPLE_RULES:
         services.shelf_life_rule_set(actor=s.users["admin"], record_kind=kind,
@@ -109,8 +109,9 @@ def load_inventory_demo(*, today: date | None = None) -> DemoScenario:
                                                   room="B.102")
 
     def release(record):
-        return services.record_transition(actor=reviewer, record=record,
-                                          to_status=Status.RELEASED)
+        # The invented starting state is set by the system (unsigned); people sign in the demo.
+        return services.record_transition(actor=None, record=record, to_status=Status.RELEASED,
+                                          reason="Demo starting state (invented).")
 
     receive = services.reagent_lot_receive
     s.lots["bath"] = release(receive(
@@ -225,7 +226,7 @@ def load_inventory_demo(*, today: date | None = None) -> DemoScenario:
     for name in ("ready_a", "ready_b", "old_linker", "old_linker_2", "flat_gold", "bare_film"):
         s.substrates[name] = release(Substrate.objects.get(pk=s.substrates[name].pk))
     s.substrates["rejected"] = services.record_transition(
-        actor=reviewer, record=Substrate.objects.get(pk=s.substrates["older_bare"].pk),
+        actor=None, record=Substrate.objects.get(pk=s.substrates["older_bare"].pk),
         to_status=Status.REJECTED, reason="Film visibly patchy after template removal.")
 
     services.dataset_register(

@@ -74,7 +74,22 @@ class ChainBuilder:
         return self.today - timedelta(days=days_ago)
 
     def release(self, record):
-        return self.s.record_transition(actor=self.reviewer, record=record, to_status="released")
+        """Set-up release by the system: no QC or signature needed (tests of those sign)."""
+        return self.s.record_transition(actor=None, record=record, to_status="released")
+
+    def signed_release(self, record, meaning="approved"):
+        """The reviewer's release as a person does it: an electronic signature."""
+        from inventory.signatures import SignatureIntent
+
+        return self.s.record_release(actor=self.reviewer, record=record, signature=SignatureIntent(
+            password=PASSWORDS["reviewer"], meaning=meaning))
+
+    def signed_reject(self, record, reason):
+        from inventory.signatures import SignatureIntent
+
+        return self.s.record_reject(actor=self.reviewer, record=record, reason=reason,
+                                    signature=SignatureIntent(password=PASSWORDS["reviewer"],
+                                                              meaning="rejected"))
 
     def lot(self, kind="plating_bath", days_ago=30, release=True, **extra):
         lot = self.s.reagent_lot_receive(actor=self.maker, name=f"{kind} lot", kind=kind,

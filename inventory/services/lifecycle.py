@@ -20,6 +20,8 @@ ROLE_FOR_STATUS = {
     Status.DISPOSED: MAKER,
 }
 
+SIGNED_STATUSES = frozenset({Status.RELEASED, Status.REJECTED})
+
 
 def check_not_self_release(actor: User | None, record: LifecycleRecord) -> None:
     """A maker may not release what they made unless the lab's setting allows it."""
@@ -62,14 +64,19 @@ def record_transition(*, actor: User | None, record: LifecycleRecord, to_status:
                       reason: str = "") -> LifecycleRecord:
     """Move a record through its lifecycle, refusing illegal moves; keeps a StatusChange.
 
-    Unsigned: pages and the API release and reject through ``record_release`` and
-    ``record_reject`` (electronic signatures); this is for holds, consumption, disposal,
-    the system (``actor=None``) and tests.
+    Unsigned, so a person cannot release or reject through it (``signature_required``):
+    pages and the API use ``record_release`` and ``record_reject`` (electronic signatures).
+    It serves holds, consumption and disposal, and the system (``actor=None``: demo loader,
+    data migrations, test set-up), which may set any legal state.
     """
     role = ROLE_FOR_STATUS.get(to_status, REVIEWER)
     require_role(actor, role, action=f"Making {record.code} {to_status}")
+    if actor is not None and to_status in SIGNED_STATUSES:
+        # A person's release or reject is an electronic signature; only the system may set
+        # these states unsigned (demo loader, data migrations, test set-up).
+        raise refusal("to_status", f"Making {record.code} {to_status} is a signed decision: "
+                                   "use record_release or record_reject with the signer's "
+                                   "password and meaning.", "signature_required")
     locked = lock(record)
     check_not_voided(locked)
-    if to_status == Status.RELEASED:
-        check_not_self_release(actor, locked)
     return _transition(locked, to_status, reason=reason, actor=actor)

@@ -24,7 +24,7 @@ def test_history_keeps_create_change_and_status_with_who_and_why(chain, maker, r
     lot = chain.lot("solvent", release=False)
     lot = record_amend(actor=maker, record=lot, changes={"supplier_lot": "S-2"}, reason="",
                        expected_version=lot.version)
-    chain.release(lot)
+    chain.signed_release(lot)
     lot.refresh_from_db()
     record_transition(actor=reviewer, record=lot, to_status=Status.QUARANTINE,
                       reason="Odd smell; held for a check.")

@@ -14,7 +14,7 @@ def test_new_records_start_in_quarantine(chain):
 
 def test_release_then_consume_is_recorded_with_who_and_why(chain):
     lot = chain.lot(release=False)
-    released = chain.s.record_transition(actor=chain.reviewer, record=lot, to_status="released")
+    released = chain.signed_release(lot)
     consumed = chain.s.record_transition(actor=chain.maker, record=released, to_status="consumed",
                                          reason="bath used up")
     assert consumed.status == Status.CONSUMED
@@ -34,11 +34,9 @@ def test_illegal_transitions_are_refused_and_nothing_changes(chain, path):
     lot = chain.lot(release=False)
     *legal, illegal = path
     for status in legal:
-        lot = chain.s.record_transition(actor=chain.reviewer, record=lot, to_status=status,
-                                        reason="test")
+        lot = chain.s.record_transition(actor=None, record=lot, to_status=status, reason="test")
     with pytest.raises(ValidationError) as error:
-        chain.s.record_transition(actor=chain.reviewer, record=lot, to_status=illegal,
-                                  reason="test")
+        chain.s.record_transition(actor=None, record=lot, to_status=illegal, reason="test")
     assert error.value.error_dict["to_status"][0].code == "illegal_transition"
     assert lot.code in str(error.value)
     lot.refresh_from_db()
@@ -48,14 +46,14 @@ def test_illegal_transitions_are_refused_and_nothing_changes(chain, path):
 def test_rejecting_needs_a_reason(chain):
     lot = chain.lot(release=False)
     with pytest.raises(ValidationError) as error:
-        chain.s.record_transition(actor=chain.reviewer, record=lot, to_status="rejected")
+        chain.s.record_transition(actor=None, record=lot, to_status="rejected")
     assert "reason" in error.value.error_dict
 
 
 @pytest.mark.parametrize("status", ["rejected", "disposed"])
 def test_rejected_or_disposed_bath_cannot_be_used(chain, status):
     bath = chain.lot("plating_bath", release=False)
-    bath = chain.s.record_transition(actor=chain.reviewer, record=bath, to_status=status,
+    bath = chain.s.record_transition(actor=None, record=bath, to_status=status,
                                      reason="contaminated")
     template = chain.template()
     with pytest.raises(ValidationError) as error:
@@ -92,3 +90,16 @@ def test_particles_need_a_linker_layer_first(chain):
         chain.s.particle_attach(actor=chain.maker, substrate=piece, batch=chain.batch(),
                                 immersion_min=30, made_on=chain.day(1))
     assert error.value.error_dict["substrate"][0].code == "wrong_stage"
+
+
+@pytest.mark.parametrize("to_status", ["released", "rejected"])
+def test_a_person_cannot_release_or_reject_without_signing(chain, to_status):
+    # DESIGN §7: release and reject are electronic signatures; only the system sets them unsigned.
+    lot = chain.lot(release=False)
+    with pytest.raises(ValidationError) as error:
+        chain.s.record_transition(actor=chain.reviewer, record=lot, to_status=to_status,
+                                  reason="looks fine")
+    assert error.value.error_dict["to_status"][0].code == "signature_required"
+    lot.refresh_from_db()
+    assert lot.status == Status.QUARANTINE
+    assert not StatusChange.objects.filter(record_code=lot.code).exists()
