@@ -2,7 +2,7 @@
 
 Single spectra go through pybaselines, the project's reference implementation of the
 asymmetric least squares family. Maps use :func:`asls_baseline_map`, the same asymmetric
-weighting on a penalised B-spline (P-spline) basis, solved for every spectrum at once.
+weighting on a penalised B-spline (P-spline) basis, solved by a compiled kernel per spectrum.
 """
 
 from __future__ import annotations
@@ -12,9 +12,8 @@ import os
 from concurrent.futures import ThreadPoolExecutor
 
 import numpy as np
+from numba import njit
 from pybaselines import Baseline
-from scipy.linalg import solveh_banded
-from threadpoolctl import threadpool_limits
 
 from ._validation import (
     all_finite,
@@ -193,22 +192,27 @@ def asls_baseline_map(
     Notes
     -----
     Why a spline basis: a point-by-point (Whittaker) system has ``n_shift`` unknowns per
-    spectrum; with knots every ``h`` points the unknowns drop ``h``-fold. Because the knots
-    are uniform in point index, every knot interval holds the same ``h`` basis values, and
-    the work per reweighting is done for all spectra at once:
+    spectrum; with knots every ``h`` points the unknowns drop ``h``-fold, and the normal
+    equations ``(BᵀWB + λ_s DᵀD) α = BᵀWy`` are banded (half-bandwidth 3 for cubic splines).
 
-    * the weights take two values, ``w = p + (1 − 2p)·[y ≤ z]``, so ``BᵀWB`` is a fixed
-      part plus, per interval, a sum over its low points — looked up from tables indexed by
-      the bit pattern of those points (one table per byte of the pattern);
-    * ``BᵀWy`` is ``p·Bᵀy`` (fixed) plus one matrix product over the low points;
-    * the first iteration (all weights 1) shares one matrix across spectra: one LAPACK
-      banded solve with many right-hand sides (``scipy.linalg.solveh_banded``);
-    * later systems (half-bandwidth 3) are factorised by a banded Cholesky that runs down
-      the coefficients once, vectorised across spectra;
-    * data, baseline and comparisons are float32 (counts need no more; the relative
-      rounding, 6·10⁻⁸, only decides points lying on the baseline), the normal equations
-      and their solution float64; BLAS runs single-threaded inside (threadpoolctl) while
-      blocks of spectra run on up to four threads, since numpy releases the GIL.
+    Each spectrum runs end to end in one compiled kernel (numba, ``nogil``), so its data stay
+    in cache across the reweightings:
+
+    * ``B`` is never formed: each point has four nonzero basis values, the same ``h`` rows for
+      every knot interval (the knots are uniform in point index);
+    * the weights take two values, ``w = p + (1 − 2p)·[y ≤ z]``, so ``BᵀWB`` and ``BᵀWy`` are a
+      fixed part plus ``(1 − 2p)`` times sums over the low points; those sums are formed afresh
+      while many points change side, then updated only at the points that changed side since
+      the last solve (after the first reweightings, a handful per spectrum);
+    * data and sums are float64; the baseline is rounded to float32 before it is compared
+      with the data (also float32), so a point lying on the baseline (a flat background)
+      compares the same way every time and the weights settle;
+    * the first iteration (all weights 1) shares one matrix across spectra, factorised once;
+      later systems by a banded Cholesky of half-bandwidth 3;
+    * blocks of spectra run on up to four threads, since the kernel releases the GIL.
+
+    The compiled kernel is cached on disk (``cache=True``), so its compile time is paid once
+    per machine, on the first call.
 
     The penalty acts on point index, like pybaselines' ``asls``. The λ conversion follows
     from ``Δ²α ≈ h² z''`` for a smooth curve summed over ``n/h`` coefficients; it is a
@@ -225,7 +229,7 @@ def asls_baseline_map(
        Statistical Science 1996, 11, 89–121.
     """
     axis = as_strictly_monotonic_axis(shift_cm1, field="shift_cm1", min_points=5)
-    spectra = np.asarray(intensity, dtype=float)
+    spectra = np.ascontiguousarray(intensity, dtype=float)
     if spectra.ndim != 2 or spectra.shape[1] != axis.size:
         raise AnalysisInputError(
             f"expected shape (n_points, {axis.size}), got {spectra.shape}", field="intensity"
@@ -243,215 +247,63 @@ def asls_baseline_map(
     basis = _SplineBasis(axis.size, int(points_per_knot), float(lam), float(p))
     n_points = spectra.shape[0]
     baseline = np.empty_like(spectra)
-    iterations = np.zeros(n_points, dtype=int)
-    converged = np.zeros(n_points, dtype=bool)
+    iterations = np.zeros(n_points, dtype=np.int64)
+    converged = np.zeros(n_points, dtype=np.bool_)
     n_workers = max(1, min(os.cpu_count() or 1, _MAX_THREADS))
     n_blocks = max(n_workers, -(-n_points // _BLOCK_SPECTRA)) if n_points >= 2 * _MIN_BLOCK else 1
     edges = np.linspace(0, n_points, n_blocks + 1).astype(int)
     blocks = [slice(a, b) for a, b in itertools.pairwise(edges) if b > a]
 
     def run(rows: slice) -> None:
-        iterations[rows], converged[rows] = _asls_spline_block(
-            spectra[rows], basis, max_iter, tol, out=baseline[rows]
+        _asls_spline_rows(
+            spectra[rows], basis.pieces_t, basis.products_t, basis.fixed_bands,
+            basis.ones_factor, basis.p,
+            int(max_iter), float(tol), baseline[rows], iterations[rows], converged[rows],
         )
 
-    with threadpool_limits(limits=1, user_api="blas"):
-        if n_workers == 1 or len(blocks) == 1:
-            for rows in blocks:
-                run(rows)
-        else:
-            with ThreadPoolExecutor(max_workers=min(n_workers, len(blocks))) as pool:
-                list(pool.map(run, blocks))
-    return baseline, {"iterations": iterations, "converged": converged}
+    if n_workers == 1 or len(blocks) == 1:
+        for rows in blocks:
+            run(rows)
+    else:
+        with ThreadPoolExecutor(max_workers=min(n_workers, len(blocks))) as pool:
+            list(pool.map(run, blocks))
+    return baseline, {"iterations": iterations.astype(int), "converged": converged}
 
 
-# Spectra solved together: large blocks keep the per-call cost of the vectorised Cholesky
-# (a few thousand numpy calls per solve) small; one block per thread for a 10⁴ map.
-_BLOCK_SPECTRA = 5000
+# Spectra per block handed to a thread: several blocks per thread even out the load of a
+# shared machine; a small map runs in one block (thread start-up would dominate).
+_BLOCK_SPECTRA = 1000
 _MIN_BLOCK = 256
 _MAX_THREADS = 4
-# A padding point compares above any baseline, so it never joins the low (weight 1 − p) set.
-_PAD = np.float32(np.finfo(np.float32).max)
-_POPCOUNT = np.array([v.bit_count() for v in range(256)], dtype=np.uint8)
 
 
 class _SplineBasis:
-    """Per-map constants: basis values on one knot interval, lookup tables, fixed bands."""
+    """Per-map constants: basis values on one knot interval and the fixed bands."""
 
     def __init__(self, n_shift: int, h: int, lam: float, p: float):
-        self.n_shift, self.h, self.p = n_shift, h, p
-        self.n_intervals = -(-n_shift // h)
-        self.n_coef = self.n_intervals + 3
+        self.p = p
+        n_intervals = -(-n_shift // h)
+        n_coef = n_intervals + 3
         local = np.arange(h) / h
         pieces = np.stack([piece(local) for piece in _CUBIC_PIECES], axis=1)  # (h, 4)
         products = np.stack([pieces[:, a] * pieces[:, b] for a, b in _PAIRS], axis=1)
-        real = np.arange(self.n_intervals * h).reshape(self.n_intervals, h) < n_shift
-        gram_real = _scatter_gram(real.astype(float) @ products, self.n_coef)
-        penalty = _second_difference_bands(self.n_coef, lam / h**3)
-        self.all_ones_bands = penalty + gram_real  # lower form: bands[d, j] = A[j + d, j]
-        self.fixed_bands = penalty + p * gram_real
-        self.pieces = pieces
-        self.pieces32 = pieces.astype(np.float32)
-        self.pieces_t32 = np.ascontiguousarray(pieces.T, dtype=np.float32)
-        self.low_pieces32 = ((1 - 2 * p) * pieces).astype(np.float32)
-        n_bytes = -(-h // 8)
-        padded = np.zeros((8 * n_bytes, len(_PAIRS)))
-        padded[:h] = products
-        bits = np.unpackbits(np.arange(256, dtype=np.uint8)[:, None], axis=1).astype(float)
-        self.tables = [
-            np.ascontiguousarray(((1 - 2 * p) * bits @ padded[8 * g : 8 * g + 8]).T)
-            for g in range(n_bytes)
-        ]
+        real = np.arange(n_intervals * h).reshape(n_intervals, h) < n_shift
+        gram_real = _scatter_gram(real.astype(float) @ products, n_coef)
+        penalty = _second_difference_bands(n_coef, lam / h**3)
+        self.pieces_t = np.ascontiguousarray(pieces.T)
+        self.products_t = np.ascontiguousarray(products.T)
+        self.fixed_bands = penalty + p * gram_real  # lower form: bands[d, j] = A[j + d, j]
+        self.ones_factor = penalty + gram_real  # all weights 1, factorised below
+        _cholesky_banded(self.ones_factor)
 
 
 def _scatter_gram(parts: np.ndarray, n_coef: int) -> np.ndarray:
-    """Add per-interval products (n_intervals, 10, ...) into lower bands (4, n_coef, ...)."""
+    """Add per-interval products (n_intervals, 10) into lower bands (4, n_coef)."""
     n_intervals = parts.shape[0]
-    bands = np.zeros((4, n_coef) + parts.shape[2:])
+    bands = np.zeros((4, n_coef))
     for k, (a, b) in enumerate(_PAIRS):
         bands[b - a, a : a + n_intervals] += parts[:, k]
     return bands
-
-
-def _asls_spline_block(spectra, basis, max_iter, tol, out):
-    """ASLS iterations for one block of spectra (rows), all solved together, into ``out``."""
-    n, n_shift = spectra.shape
-    h, n_int, p = basis.h, basis.n_intervals, basis.p
-    work = _Workspace(n, basis)
-    y, parts, parts_t = work.y, work.parts, work.parts_t
-    y[:, :n_shift] = spectra
-    y[:, n_shift:] = 0.0
-    # Iteration 1 weighs every point 1, so all spectra share one matrix: one LAPACK call.
-    np.matmul(y.reshape(n, n_int, h), basis.pieces32, out=parts)
-    fixed_rhs = _scatter_rhs(parts, parts_t)
-    alpha = solveh_banded(basis.all_ones_bands, fixed_rhs, lower=True)
-    fixed_rhs *= p
-    y[:, n_shift:] = _PAD
-    result = out
-    iterations = np.zeros(n, dtype=int)
-    converged = np.zeros(n, dtype=bool)
-    active = np.arange(n)  # block rows still iterating, in the order of the work arrays
-    done = np.zeros(n, dtype=bool)  # converged, among the active rows
-    packed_old = n_low_old = None  # the pattern the last solve was weighted with
-    for iteration in range(1, max_iter + 2):
-        y3, fitted, low = work.y3, work.fitted, work.low
-        _evaluate(alpha, basis.pieces_t32, fitted, work.coef, work.windows)
-        np.less_equal(y3, fitted, out=low)
-        packed = _pack_intervals(low)
-        m = active.size
-        n_low = _POPCOUNT[packed.reshape(m, -1)].sum(axis=1, dtype=np.int64)
-        if iteration == 1:  # the starting weights are all ones
-            change = np.sqrt((n_shift - n_low) * (1 - p) ** 2 + n_low * p**2) / np.sqrt(n_shift)
-        else:
-            flips = _POPCOUNT[(packed ^ packed_old).reshape(m, -1)].sum(axis=1, dtype=np.int64)
-            old_norm = np.sqrt(p**2 * (n_shift - n_low_old) + (1 - p) ** 2 * n_low_old)
-            change = abs(1 - 2 * p) * np.sqrt(flips) / old_norm
-        iterations[active[~done]] = iteration
-        done |= change < tol
-        if done.all() or iteration > max_iter:
-            break
-        if np.count_nonzero(done) * 4 >= m:
-            # A quarter or more have converged: store their baselines (solved with the last
-            # weights before these stopped changing) and go on with the others only.
-            result[active[done]] = fitted.reshape(m, -1)[done, :n_shift]
-            converged[active[done]] = True
-            keep = ~done
-            alpha, fixed_rhs = alpha[:, keep], fixed_rhs[:, keep]
-            packed, n_low = packed[keep], n_low[keep]
-            work.compact(keep)
-            active, done = active[keep], done[keep]
-            m = active.size
-            y3, low = work.y3, work.low
-        bands, rhs, low_y = work.bands, work.rhs, work.low_y
-        # BᵀWB with W = p + (1 − 2p)·[y ≤ z]: fixed part plus table look-ups of each byte
-        # of an interval's low-point pattern; BᵀWy likewise, the low part as one product.
-        bands[:] = basis.fixed_bands[:, :, None]
-        for g, table in enumerate(basis.tables):
-            np.copyto(work.index, packed[:, :, g].T)
-            for k, (a, b) in enumerate(_PAIRS):
-                np.take(table[k], work.index, out=work.gathered)
-                bands[b - a, a : a + n_int] += work.gathered
-        np.multiply(y3, low, out=low_y)
-        np.matmul(low_y, basis.low_pieces32, out=work.parts)
-        np.add(fixed_rhs, _scatter_rhs(work.parts, work.parts_t), out=rhs)
-        _solve_banded_batch(bands, rhs)
-        # A converged spectrum keeps its coefficients, so its baseline stays the one solved
-        # with the last weights before they stopped changing.
-        np.copyto(alpha, rhs, where=~done[None, :])
-        packed_old, n_low_old = packed, n_low
-    # The last evaluation is of the final coefficients (the loop leaves before solving).
-    result[active] = work.fitted.reshape(active.size, -1)[:, :n_shift]
-    converged[active] = done
-    return iterations, converged
-
-
-class _Workspace:
-    """Work arrays of one block; ``compact`` keeps the rows still iterating, in front."""
-
-    def __init__(self, n: int, basis: _SplineBasis):
-        n_int, h, n_coef = basis.n_intervals, basis.h, basis.n_coef
-        # shape per spectrum, dtype, and whether spectra run along the last axis
-        self._layout = {
-            "y": ((n_int, h), np.float32, False),
-            "fitted": ((n_int, h), np.float32, False),
-            "low_y": ((n_int, h), np.float32, False),
-            "low": ((n_int, h), bool, False),
-            "coef": ((n_coef,), np.float32, False),
-            "windows": ((n_int, 4), np.float32, False),
-            "parts": ((n_int, 4), np.float32, False),
-            "parts_t": ((4, n_int), np.float32, True),
-            "bands": ((4, n_coef), float, True),
-            "rhs": ((n_coef,), float, True),
-            "index": ((n_int,), np.intp, True),
-            "gathered": ((n_int,), float, True),
-        }
-        self._flat = {
-            name: np.empty(n * int(np.prod(shape)), dtype=dtype)
-            for name, (shape, dtype, _) in self._layout.items()
-        }
-        self._resize(n)
-
-    def _resize(self, n: int) -> None:
-        for name, (shape, _, last) in self._layout.items():
-            size = n * int(np.prod(shape))
-            full = shape + (n,) if last else (n,) + shape
-            setattr(self, name, self._flat[name][:size].reshape(full))
-        self.y3 = self.y
-        self.y = self.y.reshape(n, -1)
-
-    def compact(self, keep: np.ndarray) -> None:
-        """Move the kept rows of the data to the front and shrink every view."""
-        data, low = self.y3[keep], self.low[keep]
-        self._resize(int(np.count_nonzero(keep)))
-        self.y3[:], self.low[:] = data, low
-
-
-def _pack_intervals(low: np.ndarray) -> np.ndarray:
-    """Bit patterns of each knot interval's low points, (n, n_intervals, bytes) uint8."""
-    n, n_int, h = low.shape
-    if h % 8 == 0:  # whole bytes per interval: pack the flat array (much faster)
-        return np.packbits(low.reshape(-1)).reshape(n, n_int, h // 8)
-    return np.packbits(low, axis=-1)
-
-
-def _scatter_rhs(parts: np.ndarray, parts_t: np.ndarray) -> np.ndarray:
-    """Per-interval sums (n, n_intervals, 4) → right-hand sides (n_coef, n), float64."""
-    n, n_int, _ = parts.shape
-    np.copyto(parts_t, parts.transpose(2, 1, 0))
-    rhs = np.zeros((n_int + 3, n))
-    for a in range(4):
-        rhs[a : a + n_int] += parts_t[a]
-    return rhs
-
-
-def _evaluate(alpha, pieces_t, out, coef, windows) -> None:
-    """z[s, i, t] = Σ_a α[i + a, s] · piece_a(t), as one matrix product."""
-    n_coef, n = alpha.shape
-    n_int = n_coef - 3
-    np.copyto(coef, alpha.T)
-    for a in range(4):
-        windows[:, :, a] = coef[:, a : a + n_int]
-    np.matmul(windows.reshape(n * n_int, 4), pieces_t, out=out.reshape(n * n_int, -1))
 
 
 def _second_difference_bands(n_coef: int, lam: float) -> np.ndarray:
@@ -467,25 +319,224 @@ def _second_difference_bands(n_coef: int, lam: float) -> np.ndarray:
 def _solve_banded_batch(bands: np.ndarray, rhs: np.ndarray) -> np.ndarray:
     """Solve A α = r for many symmetric positive definite matrices of half-bandwidth 3.
 
-    ``bands[d, j]`` (shape (4, n_coef, n)) holds ``A[j + d, j]`` for every column; it is
+    ``bands[d, j, s]`` (shape (4, n_coef, n)) holds ``A[j + d, j]`` of system ``s``; it is
     overwritten by the Cholesky factor ``L`` (same layout) and ``rhs`` (n_coef, n) by α,
-    which is returned. Each step is a numpy operation on a vector over all spectra.
+    which is returned. Runs the compiled factorisation and solve the map kernel uses.
     """
-    n_coef = bands.shape[1]
-    for j in range(n_coef):
-        for f in range(1, min(j, 3) + 1):
-            bands[0, j] -= bands[f, j - f] ** 2
-        np.sqrt(bands[0, j], out=bands[0, j])
-        for e in range(1, min(3, n_coef - 1 - j) + 1):
-            for f in range(1, min(j, 3 - e) + 1):
-                bands[e, j] -= bands[e + f, j - f] * bands[f, j - f]
-            bands[e, j] /= bands[0, j]
-    for j in range(n_coef):
-        for f in range(1, min(j, 3) + 1):
-            rhs[j] -= bands[f, j - f] * rhs[j - f]
-        rhs[j] /= bands[0, j]
-    for j in range(n_coef - 1, -1, -1):
-        for e in range(1, min(3, n_coef - 1 - j) + 1):
-            rhs[j] -= bands[e, j] * rhs[j + e]
-        rhs[j] /= bands[0, j]
+    for s in range(rhs.shape[1]):
+        factor = np.ascontiguousarray(bands[:, :, s])
+        column = np.ascontiguousarray(rhs[:, s])
+        _cholesky_banded(factor)
+        _solve_factored(factor, column)
+        bands[:, :, s], rhs[:, s] = factor, column
     return rhs
+
+
+@njit(nogil=True, cache=True)
+def _cholesky_banded(bands):  # pragma: no cover - compiled
+    """In place: lower bands (4, n_coef) of an SPD matrix → bands of its Cholesky factor.
+
+    ``bands[e, j]`` = ``A[j + e, j]``, zero beyond the matrix. Column j of L needs only the
+    three columns before it, kept in registers (``c1`` = column j − 1, ...).
+    """
+    c1_1 = c1_2 = c1_3 = c2_2 = c2_3 = c3_3 = 0.0  # c{f}_{x} = L[j − f + x, j − f]
+    for j in range(bands.shape[1]):
+        diagonal = np.sqrt(bands[0, j] - c1_1 * c1_1 - c2_2 * c2_2 - c3_3 * c3_3)
+        inverse = 1.0 / diagonal
+        l1 = (bands[1, j] - c1_2 * c1_1 - c2_3 * c2_2) * inverse
+        l2 = (bands[2, j] - c1_3 * c1_1) * inverse
+        l3 = bands[3, j] * inverse
+        bands[0, j], bands[1, j], bands[2, j], bands[3, j] = diagonal, l1, l2, l3
+        c3_3 = c2_3
+        c2_2, c2_3 = c1_2, c1_3
+        c1_1, c1_2, c1_3 = l1, l2, l3
+
+
+@njit(nogil=True, cache=True)
+def _solve_factored(factor, rhs):  # pragma: no cover - compiled
+    """In place: rhs → α with L Lᵀ α = rhs, L in lower-band form (4, n_coef), zero beyond."""
+    n_coef = factor.shape[1]
+    r1 = r2 = r3 = 0.0  # rhs[j − 1], rhs[j − 2], rhs[j − 3] (solved)
+    for j in range(n_coef):
+        value = rhs[j]
+        if j >= 1:
+            value -= factor[1, j - 1] * r1
+        if j >= 2:
+            value -= factor[2, j - 2] * r2
+        if j >= 3:
+            value -= factor[3, j - 3] * r3
+        r3, r2, r1 = r2, r1, value / factor[0, j]
+        rhs[j] = r1
+    r1 = r2 = r3 = 0.0  # α[j + 1], α[j + 2], α[j + 3]
+    for j in range(n_coef - 1, -1, -1):
+        value = rhs[j] - factor[1, j] * r1 - factor[2, j] * r2 - factor[3, j] * r3
+        r3, r2, r1 = r2, r1, value / factor[0, j]
+        rhs[j] = r1
+
+
+# Floating-point sums may be reassociated (and multiply-adds fused) so the sums over an
+# interval's points vectorise; this changes results only by rounding.
+_FAST = {"reassoc", "contract"}
+
+
+@njit(nogil=True, cache=True, fastmath=_FAST)
+def _asls_spline_rows(
+    spectra, pieces_t, products_t, fixed_bands, ones_factor, p, max_iter, tol, out, iterations,
+    converged,
+):  # pragma: no cover - compiled
+    """ASLS on the P-spline basis for each row of ``spectra``, one spectrum at a time.
+
+    ``pieces_t`` (4, h) holds the basis values on one knot interval, ``products_t`` (10, h)
+    their pairwise products in the order of ``_PAIRS``.
+    """
+    n_rows, n_shift = spectra.shape
+    h = pieces_t.shape[1]
+    n_coef = fixed_bands.shape[1]
+    low_weight = 1.0 - 2.0 * p
+    alpha = np.empty(n_coef)
+    fixed_rhs = np.empty(n_coef)
+    low_rhs = np.empty(n_coef)
+    bands = np.empty((4, n_coef))
+    low_bands = np.empty((4, n_coef))
+    y32 = np.empty(n_shift, dtype=np.float32)
+    low = np.empty(n_shift)  # 1.0 where y ≤ z (weight 1 − p) in the last solve, else 0.0
+    low_new = np.empty(n_shift)  # the same for the baseline just evaluated
+    low_y = np.empty(n_shift)
+    for row in range(n_rows):
+        y = spectra[row]
+        fitted = out[row]
+        y32[:] = y
+        fixed_rhs[:] = 0.0
+        _add_basis_sums(fixed_rhs, y, pieces_t, n_shift)
+        # Iteration 1 weighs every point 1: the shared, already factorised matrix.
+        alpha[:] = fixed_rhs
+        _solve_factored(ones_factor, alpha)
+        low[:] = 0.0
+        n_low_old = 0.0
+        done = False
+        for iteration in range(1, max_iter + 2):
+            n_low = 0.0
+            flips = 0.0
+            for k in range(n_coef - 3):
+                a0, a1, a2, a3 = alpha[k], alpha[k + 1], alpha[k + 2], alpha[k + 3]
+                start = k * h
+                for t in range(min(h, n_shift - start)):
+                    i = start + t
+                    z = np.float32(a0 * pieces_t[0, t] + a1 * pieces_t[1, t]
+                                   + a2 * pieces_t[2, t] + a3 * pieces_t[3, t])
+                    fitted[i] = z
+                    is_low = 1.0 if y32[i] <= z else 0.0
+                    n_low += is_low
+                    flips += abs(is_low - low[i])
+                    low_new[i] = is_low
+            # pybaselines' rule ‖w_new − w_old‖ / ‖w_old‖ < tol, from the two-valued weights
+            if iteration == 1:  # the starting weights are all ones
+                change = np.sqrt(
+                    (n_shift - n_low) * (1 - p) ** 2 + n_low * p**2
+                ) / np.sqrt(n_shift)
+            else:
+                old_norm = np.sqrt(p**2 * (n_shift - n_low_old) + (1 - p) ** 2 * n_low_old)
+                change = abs(low_weight) * np.sqrt(flips) / old_norm
+            iterations[row] = iteration
+            if change < tol:
+                done = True
+                break
+            if iteration > max_iter:
+                break
+            # BᵀWB and BᵀWy with W = p + (1 − 2p)·[y ≤ z]: fixed part plus low-point sums,
+            # summed afresh while many points change side, then updated at those that do.
+            if iteration == 1 or 8 * flips > n_shift:
+                low_bands[:, :] = 0.0
+                low_rhs[:] = 0.0
+                for i in range(n_shift):
+                    low_y[i] = low_new[i] * y[i]
+                _add_product_sums(low_bands, low_new, products_t, n_shift)
+                _add_basis_sums(low_rhs, low_y, pieces_t, n_shift)
+            else:
+                for i in range(n_shift):
+                    if low_new[i] != low[i]:
+                        _add_point(low_bands, low_rhs, products_t, pieces_t, i // h, i % h,
+                                   low_new[i] - low[i], y[i])
+            low, low_new = low_new, low
+            for j in range(n_coef):
+                alpha[j] = p * fixed_rhs[j] + low_weight * low_rhs[j]
+                for d in range(4):
+                    bands[d, j] = fixed_bands[d, j] + low_weight * low_bands[d, j]
+            _cholesky_banded(bands)
+            _solve_factored(bands, alpha)
+            n_low_old = n_low
+        # The baseline is the last evaluation: of the weights before they stopped changing.
+        converged[row] = done
+
+
+@njit(nogil=True, cache=True, inline="always")
+def _add_point(bands, rhs, products_t, pieces_t, k, t, sign, y):  # pragma: no cover - compiled
+    """Add ``sign`` (±1) × point t of interval k to the sums of the two functions below."""
+    bands[0, k] += sign * products_t[0, t]
+    bands[1, k] += sign * products_t[1, t]
+    bands[2, k] += sign * products_t[2, t]
+    bands[3, k] += sign * products_t[3, t]
+    bands[0, k + 1] += sign * products_t[4, t]
+    bands[1, k + 1] += sign * products_t[5, t]
+    bands[2, k + 1] += sign * products_t[6, t]
+    bands[0, k + 2] += sign * products_t[7, t]
+    bands[1, k + 2] += sign * products_t[8, t]
+    bands[0, k + 3] += sign * products_t[9, t]
+    for a in range(4):
+        rhs[k + a] += sign * y * pieces_t[a, t]
+
+
+@njit(nogil=True, cache=True, fastmath=_FAST, inline="always")
+def _add_basis_sums(target, values, pieces_t, n_shift):  # pragma: no cover - compiled
+    """``target`` (n_coef,) += Bᵀ·values, summed knot interval by knot interval."""
+    h = pieces_t.shape[1]
+    for k in range(-(-n_shift // h)):
+        start = k * h
+        s0 = s1 = s2 = s3 = 0.0  # separate sums run in parallel in the processor
+        for t in range(min(h, n_shift - start)):
+            v = values[start + t]
+            s0 += v * pieces_t[0, t]
+            s1 += v * pieces_t[1, t]
+            s2 += v * pieces_t[2, t]
+            s3 += v * pieces_t[3, t]
+        target[k] += s0
+        target[k + 1] += s1
+        target[k + 2] += s2
+        target[k + 3] += s3
+
+
+@njit(nogil=True, cache=True, fastmath=_FAST, inline="always")
+def _add_product_sums(bands, values, products_t, n_shift):  # pragma: no cover - compiled
+    """Lower bands (4, n_coef) += those of Bᵀ·diag(values)·B, interval by interval.
+
+    Row q of ``products_t`` is the product of basis values a and b of ``_PAIRS[q]``; it
+    lands in band b − a at column k + a (written out below so the ten sums stay in
+    registers).
+    """
+    h = products_t.shape[1]
+    for k in range(-(-n_shift // h)):
+        start = k * h
+        s0 = s1 = s2 = s3 = s4 = s5 = s6 = s7 = s8 = s9 = 0.0
+        for t in range(min(h, n_shift - start)):
+            v = values[start + t]
+            s0 += v * products_t[0, t]
+            s1 += v * products_t[1, t]
+            s2 += v * products_t[2, t]
+            s3 += v * products_t[3, t]
+            s4 += v * products_t[4, t]
+            s5 += v * products_t[5, t]
+            s6 += v * products_t[6, t]
+            s7 += v * products_t[7, t]
+            s8 += v * products_t[8, t]
+            s9 += v * products_t[9, t]
+        # _PAIRS: (0,0) (0,1) (0,2) (0,3) (1,1) (1,2) (1,3) (2,2) (2,3) (3,3)
+        bands[0, k] += s0
+        bands[1, k] += s1
+        bands[2, k] += s2
+        bands[3, k] += s3
+        bands[0, k + 1] += s4
+        bands[1, k + 1] += s5
+        bands[2, k + 1] += s6
+        bands[0, k + 2] += s7
+        bands[1, k + 2] += s8
+        bands[0, k + 3] += s9

@@ -141,3 +141,24 @@ def test_shape_mismatch_is_refused():
     with pytest.raises(AnalysisInputError) as err:
         bl.asls_baseline_map(np.arange(10.0), np.ones((3, 12)))
     assert err.value.field == "intensity"
+
+
+def test_compiled_map_path_agrees_with_pybaselines_per_spectrum_on_threaded_blocks(monkeypatch):
+    # Enough spectra for several blocks on worker threads, so the compiled kernel runs as in a
+    # full map; every spectrum's band height must stay within 2 % of pybaselines' asls
+    # (Eilers & Boelens 2005; pybaselines, Erb, doi:10.5281/zenodo.5608581), the tolerance
+    # of the test above, and one block on one thread must give the identical result.
+    monkeypatch.setattr(bl, "_BLOCK_SPECTRA", 64)
+    monkeypatch.setattr(bl, "_MIN_BLOCK", 32)
+    x, counts = _synthetic_map(n_points=300, n_shift=512, seed=11)
+    threaded, diag = bl.asls_baseline_map(x, counts, lam=1e6, p=0.01)
+    assert diag["converged"].all()
+    fitter = Baseline(x)
+    window = (x > 1060) & (x < 1090)
+    for row, baseline in zip(counts[::10], threaded[::10], strict=True):
+        reference = row - fitter.asls(row, lam=1e6, p=0.01)[0]
+        ours = (row - baseline)[window].max()
+        assert abs(ours / reference[window].max() - 1) < 0.02
+    monkeypatch.setattr(bl, "_MAX_THREADS", 1)
+    single, _ = bl.asls_baseline_map(x, counts, lam=1e6, p=0.01)
+    np.testing.assert_array_equal(single, threaded)
