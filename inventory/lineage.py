@@ -15,7 +15,7 @@ from datetime import date
 
 from django.db import connection
 
-from .codes import record_get, records_by_code
+from .codes import code_sort_key, record_get, records_by_code
 from .models import CodedRecord, LineageEdge
 
 _WALK_SQL = """
@@ -55,7 +55,7 @@ class Lineage:
 
     def codes(self) -> list[str]:
         """Reached codes, nearest first, then by code."""
-        return sorted(self.depth, key=lambda code: (self.depth[code], code))
+        return sorted(self.depth, key=lambda code: (self.depth[code], code_sort_key(code)))
 
     def of_kind(self, model) -> list[CodedRecord]:
         return [r for code, r in self.records.items() if isinstance(r, model)]

@@ -24,7 +24,8 @@ def qc_reasons(context: ReadinessContext) -> list[Reason]:
         return []
     latest = (QcMeasurement.objects
               .filter(substrate_id=substrate.pk, product_kind=substrate.stage,
-                      analyte_id__in=list(limits), measured_on__lte=context.on_date)
+                      analyte_id__in=list(limits), measured_on__lte=context.on_date,
+                      voided_at__isnull=True)  # a voided result no longer speaks for it
               .order_by("-measured_on", "-id")
               .only("code", "measured_on", "passed", "failure_reasons", "analyte_id")
               .first())

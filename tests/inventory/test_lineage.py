@@ -72,3 +72,11 @@ def test_query_count_does_not_grow_with_depth(chain, depth, django_assert_max_nu
     with django_assert_max_num_queries(3):
         down = record_get_descendants(root)
     assert down.depth[leaf.code] == depth
+
+
+def test_codes_at_one_depth_keep_numeric_order_past_five_digits():
+    from inventory.lineage import Lineage
+
+    depth = {"SUB-100000": 1, "SUB-99999": 1, "SUB-00002": 1, "DS-00001": 0}
+    lineage = Lineage(root=None, direction="ancestors", edges=[], records={}, depth=depth)
+    assert lineage.codes() == ["DS-00001", "SUB-00002", "SUB-99999", "SUB-100000"]

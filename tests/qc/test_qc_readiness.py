@@ -49,6 +49,14 @@ def test_passing_qc_makes_ready(world):
     assert substrate_check_readiness(substrate.code).ready
 
 
+def test_a_voided_passing_qc_no_longer_counts(world):
+    substrate = world.chain.decorated_substrate()
+    passing = world.measure(substrate, GOOD_MAP)
+    world.chain.s.record_void(actor=world.chain.reviewer, record=passing,
+                              reason="Measured on the wrong piece.")
+    assert _qc_codes(substrate) == ["qc_missing"]
+
+
 def test_failed_names_the_measurement(world):
     substrate = world.chain.decorated_substrate()
     failed = world.measure(substrate, map_file(map_heights(3000, 0.45, seed=5)))
