@@ -8,11 +8,11 @@ from pathlib import Path
 from django.core.exceptions import ValidationError
 from django.core.management.base import BaseCommand, CommandError
 
+from inventory.api.results import chronoamperogram_summary
 from inventory.management.cli import refusal_sentences, user_for_command
 from inventory.models import DepositionRun
 from inventory.services.deposition import (
     deposition_run_attach_chronoamperogram,
-    deposition_run_target_charge_C,
 )
 
 
@@ -49,36 +49,12 @@ class Command(BaseCommand):
                 start_s=options["start_s"], end_s=options["end_s"])
         except ValidationError as error:
             raise CommandError(refusal_sentences(error)) from None
-        summary = self._summary(result)
+        summary = chronoamperogram_summary(result)
         if options["json"]:
             self.stdout.write(json.dumps(summary, indent=2))
         else:
             self._print(summary)
 
-
-    def _summary(self, result) -> dict:
-        run = result.run
-        tolerance = result.tolerance
-        return {
-            "run": run.code,
-            "file": run.chronoamperogram_name,
-            "sha256": run.chronoamperogram_sha256,
-            "unchanged": result.unchanged,
-            "charge_C": run.charge_C,
-            "metal_volume_cm3": run.metal_volume_cm3,
-            "equivalent_thickness_nm": run.equivalent_thickness_nm,
-            "film_height_nm": run.film_height_nm,
-            "height_over_diameter": run.height_over_diameter,
-            "target": run.target_height_over_diameter,
-            "target_charge_C": deposition_run_target_charge_C(run),
-            "deviation": result.deviation_height_over_diameter,
-            "tolerance": None if tolerance is None
-            else tolerance.max_abs_deviation_height_over_diameter,
-            "tolerance_source": None if tolerance is None else tolerance.source,
-            "flags": [{"code": f.code, "target": f.target_code, "message": f.message}
-                      for f in result.flags],
-            "notes": list(result.notes),
-        }
 
     def _print(self, summary: dict) -> None:
         self.stdout.write(f"{summary['run']}: {summary['file']}")

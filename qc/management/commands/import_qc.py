@@ -11,7 +11,8 @@ from django.core.management.base import BaseCommand, CommandError
 from django.utils import timezone
 
 from inventory.management.cli import refusal_sentences, user_for_command
-from inventory.models import Flag, ReagentLot, Substrate
+from inventory.models import ReagentLot, Substrate
+from qc.api.results import qc_measurement_summary
 from qc.models import ReferenceMeasurement
 from qc.services import qc_measurement_import
 
@@ -56,7 +57,7 @@ class Command(BaseCommand):
                 objective=options["objective"], reference=reference)
         except ValidationError as error:
             raise CommandError(refusal_sentences(error)) from None
-        summary = _summary(measurement)
+        summary = qc_measurement_summary(measurement)
         if options["json"]:
             self.stdout.write(json.dumps(summary, indent=2))
         else:
@@ -82,27 +83,3 @@ def _get(model, code: str, what: str):
     if record is None:
         raise CommandError(f"No {what} has the ID '{code}'.")
     return record
-
-
-def _summary(m) -> dict:
-    m.substrate.refresh_from_db()
-    flags = Flag.objects.filter(target_code=m.substrate.code, category="qc",
-                                state=Flag.State.OPEN, message__contains=m.code)
-    return {
-        "measurement": m.code, "substrate": m.substrate.code,
-        "substrate_status": m.substrate.status, "file": m.raw_filename, "sha256": m.raw_sha256,
-        "measured_on": m.measured_on.isoformat(), "is_map": m.is_map, "n_points": m.n_points,
-        "band_position_cm1": m.band_position_cm1, "band_fwhm_cm1": m.band_fwhm_cm1,
-        "normalised_height_counts_per_mW_s": m.normalised_height_counts_per_mW_s,
-        "snr": m.snr, "rsd_percent": m.rsd_percent,
-        "fraction_within_20_percent": m.fraction_within_20_percent,
-        "enhancement_factor": m.enhancement_factor,
-        "enhancement_factor_u": m.enhancement_factor_u,
-        "log10_enhancement_factor": m.log10_enhancement_factor,
-        "passed": m.passed, "failure_reasons": list(m.failure_reasons),
-        "limits": m.limits_used,
-        "flags": [{"code": f.code, "target": f.target_code, "message": f.message}
-                  for f in flags],
-    }
-
-

@@ -10,17 +10,8 @@ from django.utils import timezone
 
 from inventory.codes import RecordNotFound, record_get
 from inventory.models import NanoparticleBatch
+from qc.api.results import uvvis_import_summary
 from qc.services import uvvis_record_import
-
-_SHOWN = [
-    "peak_nm", "peak_absorbance_1cm", "fwhm_nm", "absorbance_450_1cm", "ratio_spr_450",
-    "aggregation_index", "diameter_nm", "diameter_method", "calibration_source",
-    "haiss_ratio_diameter_nm", "haiss_peak_diameter_nm", "silver_table_diameter_nm",
-    "number_per_mL", "molar_concentration_M", "mie_median_diameter_nm", "mie_geometric_sigma",
-    "mie_number_per_mL", "mie_relative_residual", "size_difference_percent", "sizes_agree",
-    "size_agreement_message", "age_days", "peak_shift_nm", "absorbance_loss_fraction",
-    "broadening_nm", "aggregation_index_change", "limits_note",
-]
 
 
 def _date(text: str) -> date:
@@ -69,14 +60,7 @@ class Command(BaseCommand):
                 path_length_cm=path_cm, blank=blank_file)
         except ValidationError as error:
             raise CommandError(f"Refused, nothing saved. {_messages(error)}")
-        uv = result.record
-        payload = {
-            "record": uv.code, "batch": record.code, "metal": record.metal,
-            "measured_on": uv.measured_on.isoformat(), "duplicate": result.duplicate,
-            "sha256": uv.raw_sha256, **{name: getattr(uv, name) for name in _SHOWN},
-            "breaches": list(result.breaches),
-            "flags_raised": [flag.code for flag in result.flags_raised],
-        }
+        payload = uvvis_import_summary(result)
         if options["json"]:
             self.stdout.write(json.dumps(payload, indent=2))
         else:
