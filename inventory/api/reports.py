@@ -198,14 +198,18 @@ class ExpiringView(RoleMixin, APIView):
     """Active records (quarantine or released) expiring within ``days`` days, soonest first;
     already expired ones are included (negative days_left)."""
 
-    @extend_schema(parameters=[OpenApiParameter(
-        "days", type=OpenApiTypes.INT, default=14,
-        description="Horizon in days (0–3650).")],
+    @extend_schema(parameters=[
+        OpenApiParameter("days", type=OpenApiTypes.INT, default=14,
+                         description="Horizon in days (0–3650)."),
+        OpenApiParameter("limit", type=OpenApiTypes.INT, default=500,
+                         description="At most this many records, soonest first (1–5000).")],
         responses={200: ExpiringOut(many=True)})
     def get(self, request):
         days = _query(serializers.IntegerField(min_value=0, max_value=3650),
                       request.query_params, "days", 14)
-        items = records_expiring_within(days)
+        limit = _query(serializers.IntegerField(min_value=1, max_value=5000),
+                       request.query_params, "limit", 500)
+        items = records_expiring_within(days, limit=limit)
         return Response(ExpiringOut([
             {"code": item.record.code, "kind": item.kind_label, "status": item.record.status,
              "expires_on": item.expires_on, "days_left": item.days_left} for item in items

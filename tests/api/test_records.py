@@ -233,6 +233,18 @@ def test_expiring_soon(chain, clients):
     assert bad.status_code == 400 and bad.json()["errors"][0]["field"] == "days"
 
 
+def test_expiring_soon_is_bounded_soonest_first(chain, clients):
+    clients["administrator"].post("/api/v1/shelf-life-rules/", {
+        "record_kind": "reagentlot", "shelf_life_days": 40, "counted_from": "received"},
+        format="json")
+    soonest = chain.lot("solvent", days_ago=38)   # expires in 2 days
+    chain.lot("solvent", days_ago=35)             # in 5 days
+    listed = clients["viewer"].get("/api/v1/expiring/", {"days": 14, "limit": 1}).json()
+    assert [i["code"] for i in listed] == [soonest.code]
+    bad = clients["viewer"].get("/api/v1/expiring/", {"limit": 0})
+    assert bad.status_code == 400 and bad.json()["errors"][0]["field"] == "limit"
+
+
 def test_record_lookup_points_at_its_endpoint(chain, clients):
     _run, pieces = chain.run(pieces=1)
     body = clients["viewer"].get(f"/api/v1/records/{pieces[0].code}/").json()
