@@ -9,6 +9,8 @@ field's description.
 
 from __future__ import annotations
 
+import functools
+
 from rest_framework import serializers
 
 # Longest suffix first, so ``_counts_cm1_per_mW_s`` wins over ``_s``.
@@ -113,19 +115,25 @@ def _sentence(name: str) -> str:
 
 def describe(name: str, field: serializers.Field, text: str = "") -> str:
     """``text`` (or a sentence made from the name) followed by the unit or the value's form."""
+    return _describe(name, type(field), text)
+
+
+@functools.cache
+def _describe(name: str, field_type: type, text: str) -> str:
+    # Cached: serializers are built per request, and the answer depends only on these three.
     if "Unit:" in text:
         return text
     unit = unit_of(name)
     sentence = text.strip() or _sentence(name)
     if unit is not None:
         return f"{sentence} Unit: {unit}."
-    if isinstance(field, serializers.DateTimeField):
+    if issubclass(field_type, serializers.DateTimeField):
         return f"{sentence} ISO 8601 date and time (UTC)."
-    if isinstance(field, serializers.DateField):
+    if issubclass(field_type, serializers.DateField):
         return f"{sentence} ISO 8601 date (YYYY-MM-DD)."
-    if isinstance(field, serializers.PrimaryKeyRelatedField):
+    if issubclass(field_type, serializers.PrimaryKeyRelatedField):
         return f"{sentence} Unit: none (the id of the related row)."
-    if isinstance(field, _NUMERIC):
+    if issubclass(field_type, _NUMERIC):
         raise TypeError(f"Field '{name}' is a number without a unit; name its unit or add it "
                          "to inventory.api.units._DIMENSIONLESS.")
     return sentence
