@@ -9,10 +9,10 @@ spectrum is a cheap spline evaluation.
 
 from __future__ import annotations
 
+import os
 from dataclasses import dataclass
-from functools import lru_cache
+from functools import cache, lru_cache
 
-import miepython
 import numpy as np
 from scipy import constants
 from scipy.interpolate import CubicSpline
@@ -145,6 +145,23 @@ def size_corrected_permittivity(
     return johnson_christy_permittivity(metal, wavelength)[None, :] + bulk_drude - size_drude
 
 
+@cache
+def _miepython():
+    """miepython with its compiled (numba) backend, imported on the first Mie calculation.
+
+    The compiled backend fills a 72 × 451 cross-section table in about 0.05 s, the
+    pure-Python one in 1.5 s (benchmarks/REPORT.md), and each new wavelength grid, metal or
+    medium needs a new table.  Importing it costs about 1.2 s more, because numba loads its
+    compiled functions from the on-disk cache (about 7 s once per machine, to compile them),
+    so it is imported here, when a process first needs it, not whenever Django starts.
+    ``MIEPYTHON_USE_JIT=0`` in the environment keeps the pure-Python backend.
+    """
+    os.environ.setdefault("MIEPYTHON_USE_JIT", "1")
+    import miepython
+
+    return miepython
+
+
 def extinction_cross_section_nm2(
     metal: str,
     wavelength_nm,
@@ -193,7 +210,7 @@ def extinction_cross_section_nm2(
     )
     relative_index = np.conj(sphere_index) / n_medium[None, :]
     size_parameter = np.pi * diameter[:, None] * n_medium[None, :] / wavelength[None, :]
-    q_ext, _, _, _ = miepython.efficiencies_mx(relative_index.ravel(), size_parameter.ravel())
+    q_ext, _, _, _ = _miepython().efficiencies_mx(relative_index.ravel(), size_parameter.ravel())
     return np.asarray(q_ext).reshape(relative_index.shape) * np.pi * diameter[:, None] ** 2 / 4.0
 
 
