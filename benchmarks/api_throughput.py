@@ -23,7 +23,6 @@ from __future__ import annotations
 
 import argparse
 import json
-import math
 import os
 import resource
 import secrets
@@ -40,6 +39,7 @@ from pathlib import Path
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 
 from generate_lab import OUT_DIR, PG_DATABASE, ROOT, database_url
+from run_benchmarks import substrate_list_cursor
 
 HOST = "127.0.0.1"
 TARGET_RPS = 200.0
@@ -99,8 +99,10 @@ def configure(db: str) -> dict:
     return env
 
 
-def endpoints(pages_to_cycle: int, records_to_cycle: int) -> tuple[str, dict[str, list[str]]]:
-    """The token of bench01 and, per endpoint, the paths its requests cycle through."""
+def endpoints(pages_to_cycle: int, records_to_cycle: int,
+              wanted=None) -> tuple[str, dict[str, list[str]]]:
+    """The token of bench01 and, per endpoint (``wanted``, default all), the paths its
+    requests cycle through."""
     from django.contrib.auth.models import User
     from django.db import connections
     from rest_framework.authtoken.models import Token
@@ -112,17 +114,20 @@ def endpoints(pages_to_cycle: int, records_to_cycle: int) -> tuple[str, dict[str
     codes = list(Substrate.objects.order_by("code").values_list("code", flat=True))
     step = max(1, len(codes) // records_to_cycle)
     sample = codes[::step][:records_to_cycle]
-    page_size = 50
-    last_page = max(1, math.ceil(len(codes) / page_size))
-    pages = sorted({1 + (i * (last_page - 1)) // max(1, pages_to_cycle - 1)
-                    for i in range(pages_to_cycle)})
-    connections.close_all()
-    return token, {
-        "login page (no auth, harness check)": ["/accounts/login/"],
-        "API substrate detail": [f"/api/v1/substrates/{c}/" for c in sample],
-        "API substrate readiness": [f"/api/v1/substrates/{c}/readiness/" for c in sample],
-        "API substrate list (?page=)": [f"/api/v1/substrates/?page={p}" for p in pages],
+    # Cursors of pages spread over the whole list, as clients following ``next`` hold them.
+    starts = sorted({(i * (len(codes) - 1)) // max(1, pages_to_cycle - 1)
+                     for i in range(pages_to_cycle)})
+    paths = {
+        "login page (no auth, harness check)": lambda: ["/accounts/login/"],
+        "API substrate detail": lambda: [f"/api/v1/substrates/{c}/" for c in sample],
+        "API substrate readiness": lambda: [f"/api/v1/substrates/{c}/readiness/"
+                                            for c in sample],
+        "API substrate list (cursor)": lambda: [
+            f"/api/v1/substrates/?cursor={substrate_list_cursor(n)}" for n in starts],
     }
+    chosen = {name: make() for name, make in paths.items() if not wanted or name in wanted}
+    connections.close_all()
+    return token, chosen
 
 
 def free_port() -> int:
@@ -150,7 +155,8 @@ class Server:
         command = [str(GUNICORN), "config.wsgi:application", "--bind", f"{HOST}:{self.port}",
                    "--chdir", str(ROOT), "--workers", str(server["workers"]),
                    "--worker-class", server["worker_class"], "--threads", str(server["threads"]),
-                   "--timeout", "60", "--error-logfile", str(log), "--log-level", "warning"]
+                   "--timeout", "60", "--preload", "--error-logfile", str(log),
+                   "--log-level", "warning"]
         self.process = subprocess.Popen(command, env={**os.environ, **env},
                                         start_new_session=True)
 
@@ -297,9 +303,7 @@ def run(args) -> Path:
         raise SystemExit(f"gunicorn is missing beside {sys.executable}: pip install gunicorn")
     env = configure(args.db)
     summary = json.loads((OUT_DIR / f"generate-{args.db}.json").read_text())
-    token, paths_by_name = endpoints(args.pages, args.records)
-    chosen = {name: paths for name, paths in paths_by_name.items()
-              if not args.endpoint or name in args.endpoint}
+    token, chosen = endpoints(args.pages, args.records, args.endpoint)
     result = {"db": args.db, "scale": summary["scale"], "clients": args.clients,
               "seconds": args.seconds, "max_requests": args.max_requests, "client": "wrk -t1",
               "measured_at": time.strftime("%Y-%m-%d %H:%M UTC", time.gmtime()), "runs": []}

@@ -106,6 +106,17 @@ def probes() -> dict:
             "open_flags": Flag.objects.filter(state="open").count()}
 
 
+def substrate_list_cursor(rows_before: int) -> str:
+    """The API's own cursor for the substrate list page that starts after ``rows_before`` rows
+    (newest first), as a client following ``next`` that far would hold it."""
+    from inventory.api.pagination import encode_cursor, ordering_keys
+    from inventory.models import Substrate
+
+    newest_first = Substrate.objects.order_by("-id").values_list("id", flat=True)
+    last_before = newest_first[max(0, rows_before - 1)]
+    return encode_cursor(ordering_keys(Substrate, ["-id"]), [last_before])
+
+
 def _client(token: str | None = None, user=None):
     """A test client logged in as ``user`` (pages) or carrying an API ``token``."""
     from django.test import Client
@@ -179,7 +190,7 @@ def operations(chosen: dict) -> dict:
         return _get(api, found) if found else None
 
     deep_page = max(1, chosen["released_substrates"] // 50 // 2)
-    api_page = max(1, chosen["substrates"] // 50 // 2)
+    middle = substrate_list_cursor(chosen["substrates"] // 2)
     sub, ds, sph = chosen["substrate"], chosen["dataset"], chosen["sphere_lot"]
     return {
         "readiness (service)": ("readiness", lambda: substrate_check_readiness(sub)),
@@ -197,8 +208,9 @@ def operations(chosen: dict) -> dict:
         "record page of the substrate": ("list", page(_url("record", sub))),
         "API substrate detail": ("api", api_get(f"/api/v1/substrates/{sub}/")),
         "API substrate readiness": ("readiness", api_get(f"/api/v1/substrates/{sub}/readiness/")),
-        "API substrate list, page 1": ("api", api_get("/api/v1/substrates/?page=1")),
-        f"API substrate list, page {api_page}": ("api", api_get(f"/api/v1/substrates/?page={api_page}")),
+        "API substrate list, first page": ("api", api_get("/api/v1/substrates/")),
+        "API substrate list, middle page (cursor)": (
+            "api", api_get(f"/api/v1/substrates/?cursor={middle}")),
         "API substrates filtered by status=released": (
             "api", api_get("/api/v1/substrates/?status=released")),
         "API ancestors of a dataset": (

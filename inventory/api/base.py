@@ -23,8 +23,8 @@ from rest_framework.response import Response
 
 from inventory.roles import ADMINISTRATOR, MAKER, REVIEWER, VIEWER, require_role
 
-from .pagination import Pages
-from .serializers import Amend, RejectSign, ReleaseSign, Void, related_names
+from .pagination import Keyset
+from .serializers import Amend, RejectSign, ReleaseSign, Void, read_plan
 
 
 class HasRole(permissions.BasePermission):
@@ -106,7 +106,7 @@ class RecordViewSet(RoleMixin, mixins.ListModelMixin, mixins.RetrieveModelMixin,
 
     lookup_field = "code"
     lookup_value_regex = r"[A-Za-z]+-[0-9]+"
-    pagination_class = Pages
+    pagination_class = Keyset
     list_serializer_class = None
     create_serializer = None
     # Newest first by primary key: ids grow with creation and, unlike created_at, are indexed,
@@ -155,8 +155,14 @@ class RecordViewSet(RoleMixin, mixins.ListModelMixin, mixins.RetrieveModelMixin,
             self.list_serializer_class else self.serializer_class
 
     def get_queryset(self):
-        single, many = related_names(self.read_serializer_class())
-        return super().get_queryset().select_related(*single).prefetch_related(*many)
+        plan = read_plan(self.read_serializer_class())
+        queryset = super().get_queryset().select_related(*plan.select).prefetch_related(
+            *plan.prefetch)
+        # Plain reads load only the columns shown; actions hand the record to a service,
+        # which gets it whole.
+        if plan.columns is not None and getattr(self, "action", None) in ("list", "retrieve"):
+            queryset = queryset.only(*plan.columns)
+        return queryset
 
     def filter_queryset(self, queryset):
         # Filters, search and ordering shape a list; a record fetched by its code needs none,
