@@ -14,7 +14,7 @@ import json
 import shutil
 import sqlite3
 from dataclasses import dataclass
-from datetime import datetime, timezone
+from datetime import UTC, datetime
 from pathlib import Path
 
 from django.conf import settings
@@ -76,7 +76,7 @@ def backup_write(folder: Path, *, media_root: Path | None = None) -> BackupSumma
             shutil.copy2(path, destination)
             files[relative] = _sha256(destination)
     manifest = {
-        "written_at": datetime.now(timezone.utc).isoformat(timespec="seconds"),
+        "written_at": datetime.now(UTC).isoformat(timespec="seconds"),
         "database_sha256": _sha256(folder / DATABASE_FILE),
         "files": files,
     }

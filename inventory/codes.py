@@ -9,8 +9,8 @@ The unique constraint on ``code`` is the backstop.
 from __future__ import annotations
 
 from collections import defaultdict
+from collections.abc import Iterable
 from functools import lru_cache
-from typing import Iterable
 
 from django.apps import apps
 from django.db import transaction

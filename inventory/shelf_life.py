@@ -7,8 +7,8 @@ the date is recorded.
 
 from __future__ import annotations
 
+from collections.abc import Iterable
 from datetime import date, timedelta
-from typing import Iterable
 
 from .errors import refusal
 from .models import LifecycleRecord, ReagentLot, RecordKind, ShelfLifeRule

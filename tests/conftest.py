@@ -126,7 +126,7 @@ class ChainBuilder:
         """Run → piece → linker layer → particles; the piece is released."""
         from inventory.models import Substrate
 
-        run, pieces = self.run(pieces=1, days_ago=linker_days_ago + 3)
+        _run, pieces = self.run(pieces=1, days_ago=linker_days_ago + 3)
         piece = pieces[0]
         self.s.linker_layer_apply(actor=self.maker, linker_lot=linker_lot
                                   or self.lot("linker_thiol"), substrates=[piece],

@@ -31,10 +31,10 @@ from inventory.roles import ADMINISTRATOR, MAKER, require_role
 from inventory.services import flag_raise, sha256_of
 from inventory.services._common import (
     User,
-    _link,
-    _require_not_future,
     _check_upload,
     _files_removed_if_failed,
+    _link,
+    _require_not_future,
     _save_changed,
     _save_new,
     _stamp_history,

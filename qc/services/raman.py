@@ -28,11 +28,11 @@ from inventory.services import flag_raise, record_release, record_transition, sh
 from inventory.services._common import (
     User,
     _check_substrates_usable,
+    _check_upload,
+    _files_removed_if_failed,
     _link,
     _require_kind,
     _require_not_future,
-    _check_upload,
-    _files_removed_if_failed,
     _save_new,
     _stamp_history,
 )

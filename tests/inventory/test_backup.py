@@ -34,7 +34,7 @@ def _state():
 def test_backup_wipe_restore_round_trip(sqlite_only, tx_chain, tmp_path, settings):
     settings.MEDIA_ROOT = tmp_path / "media"
     chain = tx_chain
-    run, pieces = chain.run(pieces=2)
+    _run, pieces = chain.run(pieces=2)
     chain.release(pieces[0])
     content = b"raman_shift_cm1,intensity_counts\n1000,5\n1001,7\n"
     chain.s.dataset_register(actor=chain.maker, title="t", substrates=[pieces[0]],
@@ -58,7 +58,7 @@ def test_backup_wipe_restore_round_trip(sqlite_only, tx_chain, tmp_path, setting
 def test_restore_refuses_an_altered_backup(sqlite_only, tx_chain, tmp_path, settings):
     settings.MEDIA_ROOT = tmp_path / "media"
     chain = tx_chain
-    run, (piece,) = chain.run(pieces=1)
+    _run, (piece,) = chain.run(pieces=1)
     chain.release(piece)
     chain.s.dataset_register(actor=chain.maker, title="t", substrates=[piece],
                              acquired_on=chain.day(0), files=[("s.csv", b"1,2\n")])
@@ -109,7 +109,7 @@ def test_backup_keeps_history_signatures_and_every_file_digest(sqlite_only, tx_c
         password=PASSWORDS["reviewer"], meaning="approved"))
     record_amend(actor=chain.maker, record=lot, changes={"supplier": "Acme"},
                  reason="Supplier missing at receipt.", expected_version=lot.version)
-    run, (piece,) = chain.run(pieces=1)
+    _run, (piece,) = chain.run(pieces=1)
     chain.release(piece)
     chain.s.dataset_register(actor=chain.maker, title="t", substrates=[piece],
                              acquired_on=chain.day(0), files=[("a.csv", b"1,2\n"),

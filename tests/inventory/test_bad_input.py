@@ -81,7 +81,7 @@ def test_refused_prepared_lot_leaves_no_edges(chain):
 
 
 def test_same_file_twice_in_one_dataset_is_refused(chain):
-    run, (piece,) = chain.run(pieces=1)
+    _run, (piece,) = chain.run(pieces=1)
     with pytest.raises(ValidationError) as error:
         chain.s.dataset_register(actor=chain.maker, title="t", substrates=[piece],
                                  acquired_on=chain.day(0),

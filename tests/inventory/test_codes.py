@@ -27,7 +27,7 @@ def test_record_get_is_case_insensitive_and_refuses_unknown(chain):
 
 def test_records_by_code_uses_one_query_per_kind(chain, django_assert_num_queries):
     lots = [chain.lot() for _ in range(5)]
-    run, pieces = chain.run(pieces=4)
+    _run, pieces = chain.run(pieces=4)
     codes = [lot.code for lot in lots] + [p.code for p in pieces]
     with django_assert_num_queries(2):
         found = records_by_code(codes)

@@ -5,8 +5,8 @@ import json
 import pytest
 from django.core.management import call_command
 
-from inventory.models import Substrate
 from inventory.demo import DEMO_PASSWORD  # noqa: F401  (documented demo credential)
+from inventory.models import Substrate
 
 
 @pytest.fixture

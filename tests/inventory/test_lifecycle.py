@@ -85,7 +85,7 @@ def test_template_is_consumed_by_its_run_and_cannot_be_plated_twice(chain):
 
 
 def test_particles_need_a_linker_layer_first(chain):
-    run, (piece,) = chain.run(pieces=1)
+    _run, (piece,) = chain.run(pieces=1)
     with pytest.raises(ValidationError) as error:
         chain.s.particle_attach(actor=chain.maker, substrate=piece, batch=chain.batch(),
                                 immersion_min=30, made_on=chain.day(1))

@@ -63,7 +63,7 @@ def _prepared_chain(chain, depth: int, fan_out: int):
 @pytest.mark.parametrize("depth", [8, 16])
 def test_query_count_does_not_grow_with_depth(chain, depth, django_assert_max_num_queries):
     root, leaf, sides = _prepared_chain(chain, depth=depth, fan_out=2)
-    run, pieces = chain.run(pieces=3)  # a second record kind in the walk
+    _run, _pieces = chain.run(pieces=3)  # a second record kind in the walk
     # one recursive query for the edges, one per record kind reached
     with django_assert_max_num_queries(3):
         up = record_get_ancestors(leaf)

@@ -26,7 +26,7 @@ def test_a_released_decorated_substrate_in_date_is_ready(chain):
 
 
 def test_quarantined_substrate_is_not_ready(chain):
-    run, (piece,) = chain.run(pieces=1)
+    _run, (piece,) = chain.run(pieces=1)
     assert codes(substrate_check_readiness(piece.code)) == ["status_quarantine"]
 
 
@@ -105,7 +105,7 @@ def test_upstream_lot_already_expired_when_used(chain):
 def test_upstream_rejection_is_a_recall(chain):
     spheres = chain.spheres()
     template = chain.template(spheres=spheres)
-    run, (piece,) = chain.run(pieces=1, template=template)
+    _run, (piece,) = chain.run(pieces=1, template=template)
     chain.release(piece)
     chain.signed_reject(spheres, reason="wrong size delivered")
     result = substrate_check_readiness(piece.code)

@@ -39,7 +39,7 @@ def test_expiry_counted_from_prepared(chain):
 
 def test_expiry_counted_from_made(chain):
     _rule(chain, record_kind="substrate", shelf_life_days=30, counted_from="made")
-    run, (piece,) = chain.run(pieces=1, days_ago=9)
+    _run, (piece,) = chain.run(pieces=1, days_ago=9)
     assert piece.expires_on == chain.day(9) + timedelta(days=30)
 
 
@@ -83,6 +83,6 @@ def test_expiring_selector_lists_only_active_records_within_the_horizon(chain):
 
 
 def test_expiry_cannot_be_typed(chain):
-    lot = chain.lot("solvent")
+    chain.lot("solvent")
     field = ReagentLot._meta.get_field("expires_on")
     assert field.editable is False
