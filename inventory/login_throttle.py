@@ -4,8 +4,8 @@ SERSLEDGER_LOGIN_LOCKOUT_MINUTES).
 
 The counter lives in Django's cache.  Sign-in (pages, admin, the API token view) goes through
 ``ThrottledModelBackend``; the electronic-signature password check uses the same counter
-under its own scope.  With several server processes, configure a shared cache (database or
-memcached) so every process sees the same count.
+under its own scope.  The production settings use a file cache, which every server process
+on the host shares; serving from several hosts needs a network cache (memcached, Redis).
 """
 
 from __future__ import annotations

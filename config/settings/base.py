@@ -88,8 +88,8 @@ DATABASES = {"default": database_from_environment(DATA_DIR / "sersledger.sqlite3
 DEFAULT_AUTO_FIELD = "django.db.models.BigAutoField"
 
 # Sign-in refuses a username+address pair for a while after repeated wrong passwords
-# (inventory.login_throttle).  The counter is in Django's cache: local memory by default;
-# with several server processes set CACHES to a shared cache (database or memcached).
+# (inventory.login_throttle).  The counter is in Django's cache: local memory here (one
+# process); the production settings use a file cache that every worker process shares.
 AUTHENTICATION_BACKENDS = ["inventory.login_throttle.ThrottledModelBackend"]
 SERSLEDGER_LOGIN_MAX_FAILURES = 5
 SERSLEDGER_LOGIN_LOCKOUT_MINUTES = 15

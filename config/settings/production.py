@@ -9,6 +9,7 @@ import os
 from django.core.exceptions import ImproperlyConfigured
 
 from .base import *  # noqa: F401,F403
+from .base import DATA_DIR
 
 
 def _required_environment(name: str) -> str:
@@ -19,6 +20,12 @@ def _required_environment(name: str) -> str:
 
 
 DEBUG = False
+
+# The sign-in and signature lockout counters (inventory.login_throttle) must be one count for
+# every gunicorn worker: a file cache on this host's disk is shared by its processes and needs
+# no extra service.  A lab serving from several hosts sets a network cache (memcached, Redis).
+CACHES = {"default": {"BACKEND": "django.core.cache.backends.filebased.FileBasedCache",
+                      "LOCATION": str(DATA_DIR / "cache")}}
 SECRET_KEY = _required_environment("SECRET_KEY")
 ALLOWED_HOSTS = [h.strip() for h in _required_environment("ALLOWED_HOSTS").split(",") if h.strip()]
 CSRF_TRUSTED_ORIGINS = [

@@ -91,3 +91,37 @@ def test_the_admin_only_reads(client, django_user_model, chain):
     assert client.get("/admin/inventory/reagentlot/add/").status_code == 403
     page = client.get(f"/admin/inventory/reagentlot/{lot.pk}/change/")
     assert page.status_code == 200 and b'name="_save"' not in page.content
+
+
+def test_production_lockouts_are_seen_by_every_server_process(tmp_path, settings):
+    """Failures counted in this process lock the pair in a separate process started with the
+    production settings (what another gunicorn worker is), through their file cache."""
+    import os
+    import subprocess
+    import sys
+    from pathlib import Path
+
+    from django.core.cache import caches
+
+    from inventory import login_throttle
+
+    settings.SERSLEDGER_LOGIN_MAX_FAILURES = 3
+    settings.CACHES = {"default": {"BACKEND": "django.core.cache.backends.filebased."
+                                              "FileBasedCache",
+                                   "LOCATION": str(tmp_path / "cache")}}
+    # (Django's test signals rebuild the cache handler when CACHES changes.)
+    assert type(caches["default"]).__name__ == "FileBasedCache"
+    for _ in range(3):
+        login_throttle.record_failure("login", "maker", "10.0.0.7")
+    script = ("import django; django.setup(); from django.conf import settings; "
+              "settings.SERSLEDGER_LOGIN_MAX_FAILURES = 3; "
+              "from inventory.login_throttle import is_locked; "
+              "print(is_locked('login', 'maker', '10.0.0.7'), "
+              "is_locked('login', 'maker', '10.0.0.8'))")
+    env = {k: v for k, v in os.environ.items() if k != "DATABASE_URL"}
+    env |= {"DJANGO_SETTINGS_MODULE": "config.settings.production", "SECRET_KEY": "x" * 60,
+            "ALLOWED_HOSTS": "lab.example", "SERSLEDGER_DATA_DIR": str(tmp_path)}
+    other = subprocess.run([sys.executable, "-c", script], capture_output=True, text=True,
+                           env=env, cwd=Path(__file__).resolve().parents[2], check=False)
+    assert other.returncode == 0, other.stderr
+    assert other.stdout.split() == ["True", "False"]
