@@ -85,8 +85,13 @@ def record_get(code: str) -> CodedRecord:
         raise RecordNotFound(normalised) from None
 
 
-def records_by_code(codes: Iterable[str]) -> dict[str, CodedRecord]:
-    """Fetch many records with one query per record kind, however many codes."""
+def records_by_code(codes: Iterable[str], *,
+                    fields: Iterable[str] | None = None) -> dict[str, CodedRecord]:
+    """Fetch many records with one query per record kind, however many codes.
+
+    ``fields`` limits the columns loaded to those of each kind that has them (plus the code
+    and primary key); another field read later costs a query of its own.
+    """
     by_prefix: dict[str, list[str]] = defaultdict(list)
     for code in set(codes):
         by_prefix[prefix_of(code)].append(code)
@@ -96,6 +101,10 @@ def records_by_code(codes: Iterable[str]) -> dict[str, CodedRecord]:
         model = models.get(prefix)
         if model is None:
             continue
-        for record in model.objects.filter(code__in=group):
+        rows = model.objects.filter(code__in=group)
+        if fields is not None:
+            present = {f.name for f in model._meta.concrete_fields}
+            rows = rows.only("code", *(name for name in fields if name in present))
+        for record in rows:
             found[record.code] = record
     return found

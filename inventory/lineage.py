@@ -97,17 +97,20 @@ def _depths(root_code: str, edges: list[Edge], direction: str) -> dict[str, int]
     return depth
 
 
-def _lineage(root: CodedRecord, direction: str) -> Lineage:
+def _lineage(root: CodedRecord, direction: str, fields=None) -> Lineage:
     edges = _walk_edges(direction, root.code)
     depth = _depths(root.code, edges, direction)
     return Lineage(root=root, direction=direction, edges=edges,
-                   records=records_by_code(depth), depth=depth)
+                   records=records_by_code(depth, fields=fields), depth=depth)
 
 
-def record_get_ancestors(record_or_code) -> Lineage:
-    """Everything ``record`` was made from, however deep (bounded query count)."""
+def record_get_ancestors(record_or_code, *, fields=None) -> Lineage:
+    """Everything ``record`` was made from, however deep (bounded query count).
+
+    ``fields`` (optional) loads only those columns of each ancestor (``records_by_code``).
+    """
     root = record_get(record_or_code) if isinstance(record_or_code, str) else record_or_code
-    return _lineage(root, "ancestors")
+    return _lineage(root, "ancestors", fields)
 
 
 def record_get_descendants(record_or_code) -> Lineage:

@@ -55,9 +55,15 @@ class Readiness:
         return "READY" if self.ready else "NOT READY"
 
 
+# What the inventory reasons read of each ancestor; the check loads only these columns (a
+# provider that reads another field of an ancestor costs a query for it).
+ANCESTOR_FIELDS = ("status", "expires_on", "voided_at", "void_reason", "made_on")
+
+
 @dataclass
 class ReadinessContext:
-    """What a reason provider is given: the substrate, the date and its whole ancestry."""
+    """What a reason provider is given: the substrate, the date and its whole ancestry
+    (ancestors loaded with ``ANCESTOR_FIELDS``)."""
 
     substrate: Substrate
     on_date: date
@@ -184,7 +190,7 @@ def substrate_check_readiness(code: str, *, on_date: date | None = None) -> Read
         raise ValueError(f"{record.code} is a {record._meta.verbose_name}, not a substrate.")
     on_date = on_date or timezone.localdate()
     context = ReadinessContext(substrate=record, on_date=on_date,
-                               ancestry=record_get_ancestors(record))
+                               ancestry=record_get_ancestors(record, fields=ANCESTOR_FIELDS))
     rules = rules_by_scope()
     reasons = [
         *_void_reasons(context),

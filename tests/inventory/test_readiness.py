@@ -153,3 +153,28 @@ def test_readiness_query_count_is_bounded(chain, django_assert_max_num_queries):
     with django_assert_max_num_queries(14):
         substrate_check_readiness(substrate.code)
     assert Substrate.objects.filter(code=substrate.code).exists()
+
+
+def test_reasons_read_only_the_ancestor_fields_the_check_loads(chain):
+    """Ancestors are loaded with ANCESTOR_FIELDS only; a reason reading another field would
+    cost one query per ancestor.  Here every inventory reason about ancestors fires, and the
+    count is exactly: substrate, lineage walk, one query per record kind reached, flags,
+    shelf-life rules, and the providers' own (qc: its limits)."""
+    from django.db import connection
+    from django.test.utils import CaptureQueriesContext
+
+    from inventory.lineage import record_get_ancestors
+
+    chain.s.shelf_life_rule_set(actor=None, record_kind="linkerlayer", shelf_life_days=1,
+                                counted_from="made")
+    batch = chain.batch(release=False)
+    substrate = chain.decorated_substrate(batch=batch, linker_days_ago=4)
+    run = Substrate.objects.get(pk=substrate.pk).deposition_run
+    chain.s.record_void(actor=chain.reviewer, record=run.template, reason="wrong spheres logged")
+    chain.signed_reject(run.bath_lot, reason="contaminated")
+    kinds = {type(record) for record in record_get_ancestors(substrate.code).records.values()}
+    with CaptureQueriesContext(connection) as captured:
+        result = substrate_check_readiness(substrate.code)
+    assert {"colloid_not_released", "linker_layer_too_old", "voided",
+            "upstream_rejected"} <= set(codes(result))
+    assert len(captured) == 2 + len(kinds) + 2 + 1
