@@ -11,6 +11,7 @@ editing the same record cannot silently overwrite each other.
 from __future__ import annotations
 
 from collections.abc import Callable
+from datetime import date
 from functools import lru_cache
 from typing import Any
 
@@ -23,10 +24,10 @@ from django.utils.module_loading import import_string
 from .. import login_throttle
 from ..errors import refusal
 from ..lifecycle import check_transition
-from ..models import CodedRecord, LifecycleRecord, Signature, Status
+from ..models import CodedRecord, LifecycleRecord, LineageEdge, Signature, Status
 from ..roles import MAKER, REVIEWER, require_role
 from ..signatures import REJECT_MEANINGS, RELEASE_MEANINGS, SignatureIntent, record_content_digest
-from ._common import User, _save_changed
+from ._common import User, _require_not_future, _save_changed
 from .lifecycle import _transition, check_not_self_release, check_not_voided, lock
 
 # Fields an amendment may change: plain values the maker typed, and where it is kept.
@@ -163,6 +164,36 @@ def amendable_fields(model: type[CodedRecord]) -> frozenset[str]:
     )
 
 
+# A lineage edge carries the date of the step that made it (LineageEdge.used_on).  A step
+# makes the edges into its own record, except these, which it makes out of its record to what
+# it produced or modified: a run's pieces, a linker layer's or an attachment's substrate.
+OUTPUT_ROLES = ("cut from", "linker layer", "particles")
+# Where each kind keeps the date of its step, in the order the services choose it.
+STEP_DATE_FIELDS = ("prepared_on", "made_on", "acquired_on", "received_on")
+
+
+def step_date_field(record: CodedRecord) -> str | None:
+    """The field holding the date of the step ``record`` stands for (None: no step date)."""
+    return next((name for name in STEP_DATE_FIELDS if getattr(record, name, None) is not None),
+                None)
+
+
+def _step_date(record: CodedRecord) -> date | None:
+    name = step_date_field(record)
+    return None if name is None else getattr(record, name)
+
+
+def _follow_step_date(record: CodedRecord, old: date, new: date) -> None:
+    """Move the lineage edges the step made to its new date.
+
+    (A deposition run's date, which its pieces share, is never amended: its figures belong to
+    its chronoamperogram, so ``amendable_fields`` offers only notes and storage.)
+    """
+    made_by_step = (models.Q(child_code=record.code) & ~models.Q(role__in=OUTPUT_ROLES)) | \
+        (models.Q(parent_code=record.code) & models.Q(role__in=OUTPUT_ROLES))
+    LineageEdge.objects.filter(made_by_step, used_on=old).update(used_on=new)
+
+
 def _reason_needed(record: CodedRecord) -> bool:
     """A record that has left quarantine (or was ever signed) is only changed with a reason."""
     if isinstance(record, LifecycleRecord) and record.status != Status.QUARANTINE:
@@ -178,7 +209,9 @@ def record_amend(*, actor: User | None, record: CodedRecord, changes: dict[str, 
     The row is re-read under a lock, so of two amendments made against the same version
     exactly one wins and the other is refused (``version``, ``version_conflict``).  A
     released (or otherwise decided, or signed) record needs a reason; every amendment is a
-    history row with the old and new values.
+    history row with the old and new values.  Changing the date of a step moves the lineage
+    edges that step made to the new date (so readiness judges inputs on the day they were
+    really used).
     """
     require_role(actor, MAKER, action=f"Amending {record.code}")
     if not changes:
@@ -197,7 +230,13 @@ def record_amend(*, actor: User | None, record: CodedRecord, changes: dict[str, 
     if _reason_needed(locked) and not reason.strip():
         raise refusal("reason", f"{locked.code} is {getattr(locked, 'status', 'signed')}; give "
                                 "a reason for the amendment.", "reason_required")
+    old_date = _step_date(locked)
     for name, value in changes.items():
         setattr(locked, name, value)
+    new_date = _step_date(locked)
+    if new_date is not None and new_date != old_date:
+        _require_not_future(new_date, field=step_date_field(locked))
     _save_changed(locked, actor=actor, reason=reason.strip() or "amended")
+    if old_date is not None and new_date is not None and new_date != old_date:
+        _follow_step_date(locked, old_date, new_date)
     return locked

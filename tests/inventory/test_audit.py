@@ -169,3 +169,56 @@ def test_a_long_reason_is_kept_whole(chain, reviewer):
     reason = "Supplier recall notice R-7 lists this lot; " * 8
     record_transition(actor=reviewer, record=lot, to_status=Status.QUARANTINE, reason=reason)
     assert record_get_history(lot)[0].reason == reason
+
+
+def _edges(**where):
+    from inventory.models import LineageEdge
+
+    return {(e.parent_code, e.child_code, e.role): e.used_on
+            for e in LineageEdge.objects.filter(**where)}
+
+
+def test_amending_a_step_date_moves_the_edges_that_step_made(chain, maker):
+    """A linker layer logged on the wrong day: its inputs' edges and its edge to the
+    substrate move to the corrected day; the run's edge to the piece keeps the run's day.
+    Readiness then judges the linker lot on the day it was really used (common practice:
+    an input must be in date on the day of use)."""
+    from inventory.models import LinkerLayer, Substrate
+
+    linker = chain.s.reagent_lot_receive(actor=maker, name="Benzenethiol", kind="linker_thiol",
+                                         received_on=chain.day(40))
+    chain.release(linker)
+    substrate = chain.decorated_substrate(linker_lot=linker, linker_days_ago=3)
+    layer = LinkerLayer.objects.get(substrates=substrate)
+    run_code = Substrate.objects.get(pk=substrate.pk).deposition_run.code
+    cut_before = _edges(parent_code=run_code)
+    record_amend(actor=maker, record=layer, changes={"made_on": chain.day(20)},
+                 reason="Logged a week late.", expected_version=layer.version)
+    assert set(_edges(child_code=layer.code).values()) == {chain.day(20)}
+    assert _edges(parent_code=layer.code) == {
+        (layer.code, substrate.code, "linker layer"): chain.day(20)}
+    assert _edges(parent_code=run_code) == cut_before
+    # The linker keeps 30 days from receipt (day 40 → day 10): in date on day 20, and so the
+    # substrate stays ready; moved to day 5 instead, it was used after its expiry.
+    chain.s.shelf_life_rule_set(actor=None, record_kind="reagentlot",
+                                reagent_kind="linker_thiol", shelf_life_days=30,
+                                counted_from="received")
+    assert substrate_check_readiness(substrate.code).ready
+    layer.refresh_from_db()
+    record_amend(actor=maker, record=layer, changes={"made_on": chain.day(5)},
+                 reason="The notebook says day 5.", expected_version=layer.version)
+    reasons = [r.code for r in substrate_check_readiness(substrate.code).reasons]
+    assert "upstream_expired_at_use" in reasons
+
+
+def test_a_step_date_in_the_future_is_refused_by_name(chain, maker):
+    from inventory.models import LineageEdge, LinkerLayer
+
+    substrate = chain.decorated_substrate()
+    layer = LinkerLayer.objects.get(substrates=substrate)
+    edges_before = list(LineageEdge.objects.values_list("id", "used_on").order_by("id"))
+    with pytest.raises(ValidationError) as refused:
+        record_amend(actor=maker, record=layer, changes={"made_on": chain.day(-3)},
+                     reason="r", expected_version=layer.version)
+    assert _code(refused.value, "made_on") == "future_date"
+    assert list(LineageEdge.objects.values_list("id", "used_on").order_by("id")) == edges_before
