@@ -111,8 +111,10 @@ def read_plan(serializer_class) -> ReadPlan:
             if source.split(".")[0] in concrete:
                 prefetch.append(source.replace(".", "__"))
         elif isinstance(field, serializers.RelatedField):
-            if source.split(".")[0] in concrete:
-                select.append(source.replace(".", "__"))
+            if source.split(".")[0] not in concrete:
+                trimmable = False  # a property or method: it may read anything
+                continue
+            select.append(source.replace(".", "__"))
             if isinstance(field, serializers.SlugRelatedField) and "." not in source:
                 named_by.append(f"{source}__{field.slug_field}")
             else:
