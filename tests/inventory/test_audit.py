@@ -10,7 +10,7 @@ from django.core.exceptions import PermissionDenied, ValidationError
 from django.db import connection, connections
 
 from inventory.lineage import record_get_ancestors, record_get_descendants
-from inventory.models import ReagentLot, Status
+from inventory.models import LineageEdge, LinkerLayer, ReagentLot, Status, Substrate
 from inventory.readiness import substrate_check_readiness
 from inventory.selectors import record_get_history
 from inventory.services import record_amend, record_transition, record_void
@@ -172,8 +172,6 @@ def test_a_long_reason_is_kept_whole(chain, reviewer):
 
 
 def _edges(**where):
-    from inventory.models import LineageEdge
-
     return {(e.parent_code, e.child_code, e.role): e.used_on
             for e in LineageEdge.objects.filter(**where)}
 
@@ -183,8 +181,6 @@ def test_amending_a_step_date_moves_the_edges_that_step_made(chain, maker):
     substrate move to the corrected day; the run's edge to the piece keeps the run's day.
     Readiness then judges the linker lot on the day it was really used (common practice:
     an input must be in date on the day of use)."""
-    from inventory.models import LinkerLayer, Substrate
-
     linker = chain.s.reagent_lot_receive(actor=maker, name="Benzenethiol", kind="linker_thiol",
                                          received_on=chain.day(40))
     chain.release(linker)
@@ -212,8 +208,6 @@ def test_amending_a_step_date_moves_the_edges_that_step_made(chain, maker):
 
 
 def test_a_step_date_in_the_future_is_refused_by_name(chain, maker):
-    from inventory.models import LineageEdge, LinkerLayer
-
     substrate = chain.decorated_substrate()
     layer = LinkerLayer.objects.get(substrates=substrate)
     edges_before = list(LineageEdge.objects.values_list("id", "used_on").order_by("id"))

@@ -8,9 +8,12 @@ when used, upstream rejection, consumed.
 from datetime import timedelta
 
 import pytest
+from django.db import connection
 from django.test import override_settings
+from django.test.utils import CaptureQueriesContext
 
 from inventory.codes import RecordNotFound
+from inventory.lineage import record_get_ancestors
 from inventory.models import Substrate
 from inventory.readiness import Reason, substrate_check_readiness
 
@@ -160,11 +163,6 @@ def test_reasons_read_only_the_ancestor_fields_the_check_loads(chain):
     cost one query per ancestor.  Here every inventory reason about ancestors fires, and the
     count is exactly: substrate, lineage walk, one query per record kind reached, flags,
     shelf-life rules, and the providers' own (qc: its limits)."""
-    from django.db import connection
-    from django.test.utils import CaptureQueriesContext
-
-    from inventory.lineage import record_get_ancestors
-
     chain.s.shelf_life_rule_set(actor=None, record_kind="linkerlayer", shelf_life_days=1,
                                 counted_from="made")
     batch = chain.batch(release=False)

@@ -5,13 +5,19 @@ verifiers to limit consecutive failed attempts on one account)."""
 
 from __future__ import annotations
 
+import os
+import subprocess
+import sys
+from pathlib import Path
+
 import pytest
 from django.contrib.auth import authenticate
 from django.contrib.auth.password_validation import validate_password
-from django.core.cache import cache
+from django.core.cache import cache, caches
 from django.core.exceptions import ValidationError
 from django.test import RequestFactory
 
+from inventory import login_throttle
 from inventory.services import record_release
 from inventory.signatures import SignatureIntent
 from tests.conftest import PASSWORDS
@@ -96,15 +102,6 @@ def test_the_admin_only_reads(client, django_user_model, chain):
 def test_production_lockouts_are_seen_by_every_server_process(tmp_path, settings):
     """Failures counted in this process lock the pair in a separate process started with the
     production settings (what another gunicorn worker is), through their file cache."""
-    import os
-    import subprocess
-    import sys
-    from pathlib import Path
-
-    from django.core.cache import caches
-
-    from inventory import login_throttle
-
     settings.SERSLEDGER_LOGIN_MAX_FAILURES = 3
     settings.CACHES = {"default": {"BACKEND": "django.core.cache.backends.filebased."
                                               "FileBasedCache",
