@@ -156,6 +156,7 @@ class MakeForm(forms.Form):
         return upload.name, upload.read()
 
     def submit(self, actor) -> CodedRecord:
+        """Call this form's service with the cleaned data; every logging form defines it."""
         raise NotImplementedError
 
     def add_service_error(self, error: ValidationError) -> None:
