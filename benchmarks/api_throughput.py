@@ -152,7 +152,7 @@ class Server:
     def __init__(self, server: dict, env: dict, log: Path):
         self.port = free_port()
         self.url = f"http://{HOST}:{self.port}"
-        command = [str(GUNICORN), "config.wsgi:application", "--bind", f"{HOST}:{self.port}",
+        command = [str(GUNICORN), "sersledger.wsgi:application", "--bind", f"{HOST}:{self.port}",
                    "--chdir", str(ROOT), "--workers", str(server["workers"]),
                    "--worker-class", server["worker_class"], "--threads", str(server["threads"]),
                    "--timeout", "60", "--preload", "--error-logfile", str(log),

@@ -57,7 +57,7 @@ def configure_django(db: str) -> None:
     """Point the test settings (fast hasher, DEBUG off) at the benchmark database."""
     sys.path.insert(0, str(ROOT))
     os.environ["DATABASE_URL"] = database_url(db)
-    os.environ["DJANGO_SETTINGS_MODULE"] = "config.settings.test"
+    os.environ["DJANGO_SETTINGS_MODULE"] = "sersledger.settings.test"
     import django
 
     django.setup()

@@ -29,8 +29,8 @@ from inventory.models import (
     Substrate,
     TemplateAssembly,
 )
+from inventory.physics.chronoamperogram import CURRENT_UNITS_A, TIME_UNITS_S
 from inventory.signatures import REJECT_MEANINGS, RELEASE_MEANINGS, SignatureIntent
-from qc.analysis.chronoamperogram import CURRENT_UNITS_A, TIME_UNITS_S
 
 from .fields import AnyRecordRef, FiniteFloat, LabDate, RecordRef, Upload, file_parts
 from .units import DocumentedFields

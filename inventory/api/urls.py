@@ -1,18 +1,16 @@
-"""API routes, mounted at /api/v1/ by config/urls.py (namespace ``api``)."""
+"""The inventory's API routes; sersledger/api_urls.py puts them on the one router at /api/v1/.
 
-from django.urls import include, path
+``ROUTES`` are the record viewsets (registered on the router beside the qc app's);
+``urlpatterns`` are the inventory's fixed paths (token, schema, docs, record reports).
+"""
+
+from django.urls import path
 from drf_spectacular.views import SpectacularAPIView, SpectacularSwaggerView
-from rest_framework.routers import DefaultRouter
-
-from qc.api.urls import ROUTES as QC_ROUTES
 
 from . import reports, views
 from .auth import TokenView
 from .docs import docs_asset
 
-app_name = "api"
-
-router = DefaultRouter()
 ROUTES = [
     ("storage-locations", views.StorageLocationViewSet),
     ("reagent-lots", views.ReagentLotViewSet),
@@ -27,11 +25,7 @@ ROUTES = [
     ("flags", views.FlagViewSet),
     ("shelf-life-rules", views.ShelfLifeRuleViewSet),
     ("deposition-tolerances", views.DepositionToleranceViewSet),
-    *QC_ROUTES,
 ]
-for prefix, viewset in ROUTES:
-    router.register(prefix, viewset, basename=prefix)
-    reports.DETAIL_ROUTES[viewset.queryset.model._meta.model_name] = prefix
 
 urlpatterns = [
     path("token/", TokenView.as_view(), name="token"),
@@ -43,5 +37,4 @@ urlpatterns = [
     path("records/<str:code>/history/", reports.HistoryView.as_view(), name="history"),
     path("records/<str:code>/signatures/", reports.SignaturesView.as_view(), name="signatures"),
     path("expiring/", reports.ExpiringView.as_view(), name="expiring"),
-    path("", include(router.urls)),
 ]

@@ -29,7 +29,7 @@ class TemplateAssembly(LifecycleRecord):
     # What the maker says was dispensed; the computed need is kept beside it, never over it.
     suspension_volume_uL = models.FloatField(null=True, blank=True)
     made_on = models.DateField()
-    # Figures from the sphere lot (qc.analysis.template_geometry), stored when assembled.
+    # Figures from the sphere lot (inventory.physics.template_geometry), stored when assembled.
     spheres_per_cm2 = models.FloatField(null=True, blank=True, editable=False)
     sphere_density_g_cm3 = models.FloatField(null=True, blank=True, editable=False)
     suspension_excess_factor = models.FloatField(null=True, blank=True, editable=False)
@@ -57,7 +57,7 @@ class DepositionRun(CodedRecord):
     """Electrodeposition through a template (or onto a flat base slide).
 
     The chronoamperogram is kept as uploaded; charge, film height and h/D are computed from
-    it by qc.analysis (inventory.services.deposition) and stored beside the lab's target,
+    it by inventory.physics (inventory.services.deposition) and stored beside the lab's target,
     with the sphere diameter, sign convention and time window that produced them.
     """
 

@@ -1,7 +1,7 @@
 """A deposition run's numbers from its chronoamperogram, compared with the lab's tolerance.
 
 The file is kept as uploaded (with its SHA-256 digest); the charge, metal volume, equivalent
-thickness, film height and h/D come from ``qc.analysis`` (the reader and Faraday's law in a
+thickness, film height and h/D come from ``inventory.physics`` (the reader and Faraday's law in a
 close-packed template) and are stored on the run with the inputs that produced them.  A run
 whose h/D strays from its target by more than the lab's tolerance gets an open
 ``deposition`` flag, as does every piece cut from it, so readiness blocks them.
@@ -16,14 +16,14 @@ from django.core.exceptions import ValidationError
 from django.core.files.base import ContentFile
 from django.db import transaction
 
-from qc.analysis.chronoamperogram import Chronoamperogram, parse_chronoamperogram
-from qc.analysis.electrodeposition import (
+from inventory.physics.chronoamperogram import Chronoamperogram, parse_chronoamperogram
+from inventory.physics.electrodeposition import (
     DepositionAnalysis,
     analyse_deposition,
     charge_for_target_height_C,
     metal_properties,
 )
-from qc.analysis.errors import AnalysisInputError
+from inventory.physics.errors import AnalysisInputError
 
 from ..errors import refusal
 from ..models import DepositionRun, DepositionTolerance, Flag

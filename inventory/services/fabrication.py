@@ -7,8 +7,8 @@ from datetime import date
 
 from django.db import transaction
 
-from qc.analysis.errors import AnalysisInputError
-from qc.analysis.template_geometry import (
+from inventory.physics.errors import AnalysisInputError
+from inventory.physics.template_geometry import (
     TYPICAL_SPHERE_DENSITY_G_CM3,
     close_packed_spheres_per_cm2,
     suspension_volume_for_monolayer,
@@ -57,7 +57,7 @@ def template_assemble(
 
     Spheres per cm² and the suspension volume one close-packed layer needs (times
     ``suspension_excess_factor``) are computed from the sphere lot by
-    qc.analysis.template_geometry.  The density is the caller's, else the typical value for
+    inventory.physics.template_geometry.  The density is the caller's, else the typical value for
     the lot's material; with neither the volume is left blank.  A ``suspension_volume_uL``
     the maker gives is kept as given; the computed one is stored beside it.
     """

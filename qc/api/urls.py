@@ -1,4 +1,4 @@
-"""QC routes, registered on the one API router by inventory/api/urls.py."""
+"""QC routes, registered on the one API router by sersledger/api_urls.py."""
 
 from . import views
 

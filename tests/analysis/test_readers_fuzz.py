@@ -2,7 +2,7 @@
 
 Random and malformed text or bytes go into every reader; whatever comes out must be
 finite, ascending and of matched lengths, and nothing but AnalysisInputError may escape
-(the contract stated in qc/analysis/errors.py).  Derandomized so CI runs are repeatable.
+(the contract stated in inventory/physics/errors.py).  Derandomized so CI runs are repeatable.
 """
 
 import numpy as np

@@ -12,8 +12,8 @@ from django.test.utils import CaptureQueriesContext
 from rest_framework.renderers import JSONRenderer
 
 from inventory.api.serializers import read_plan
-from inventory.api.urls import ROUTES
 from qc.services import colloid_limit_set_set, uvvis_record_import
+from sersledger.api_urls import ROUTES
 
 from .conftest import UVVIS
 

@@ -24,9 +24,9 @@ from django.core.management import CommandError, call_command
 from scipy import constants
 
 from inventory.models import DepositionRun, Flag, Substrate
+from inventory.physics.chronoamperogram import parse_chronoamperogram
+from inventory.physics.electrodeposition import analyse_deposition
 from inventory.readiness import substrate_check_readiness
-from qc.analysis.chronoamperogram import parse_chronoamperogram
-from qc.analysis.electrodeposition import analyse_deposition
 
 FIXTURES = Path(__file__).resolve().parents[2] / "fixtures" / "chronoamperograms"
 ON_TARGET = FIXTURES / "au_600nm_hd050.csv"
@@ -369,7 +369,7 @@ def test_inventory_migrations_match_the_models():
     completed = subprocess.run(
         [sys.executable, "manage.py", "makemigrations", "inventory", "--check", "--dry-run"],
         check=False, cwd=root, capture_output=True, text=True, timeout=120,
-        env={**os.environ, "DJANGO_SETTINGS_MODULE": "config.settings.test"})
+        env={**os.environ, "DJANGO_SETTINGS_MODULE": "sersledger.settings.test"})
     assert completed.returncode == 0, completed.stdout + completed.stderr
 
 

@@ -116,7 +116,7 @@ def test_production_lockouts_are_seen_by_every_server_process(tmp_path, settings
               "print(is_locked('login', 'maker', '10.0.0.7'), "
               "is_locked('login', 'maker', '10.0.0.8'))")
     env = {k: v for k, v in os.environ.items() if k != "DATABASE_URL"}
-    env |= {"DJANGO_SETTINGS_MODULE": "config.settings.production", "SECRET_KEY": "x" * 60,
+    env |= {"DJANGO_SETTINGS_MODULE": "sersledger.settings.production", "SECRET_KEY": "x" * 60,
             "ALLOWED_HOSTS": "lab.example", "SERSLEDGER_DATA_DIR": str(tmp_path)}
     other = subprocess.run([sys.executable, "-c", script], capture_output=True, text=True,
                            env=env, cwd=Path(__file__).resolve().parents[2], check=False)

@@ -18,24 +18,24 @@ def _load_settings(module: str, **env) -> subprocess.CompletedProcess:
 
 
 def test_production_refuses_to_start_without_secret_key():
-    result = _load_settings("config.settings.production", ALLOWED_HOSTS="lab.example")
+    result = _load_settings("sersledger.settings.production", ALLOWED_HOSTS="lab.example")
     assert result.returncode != 0 and "SECRET_KEY" in result.stderr
 
 
 def test_production_refuses_to_start_without_allowed_hosts():
-    result = _load_settings("config.settings.production", SECRET_KEY="x" * 60)
+    result = _load_settings("sersledger.settings.production", SECRET_KEY="x" * 60)
     assert result.returncode != 0 and "ALLOWED_HOSTS" in result.stderr
 
 
 def test_production_starts_with_both_and_debug_off():
-    result = _load_settings("config.settings.production", SECRET_KEY="x" * 60,
+    result = _load_settings("sersledger.settings.production", SECRET_KEY="x" * 60,
                             ALLOWED_HOSTS="lab.example")
     assert result.returncode == 0, result.stderr
     assert result.stdout.split() == ["django.db.backends.sqlite3", "False"]
 
 
 def test_database_url_switches_to_postgresql():
-    result = _load_settings("config.settings.development",
+    result = _load_settings("sersledger.settings.development",
                             DATABASE_URL="postgres://lab@db.example:5432/sersledger")
     assert result.returncode == 0, result.stderr
     assert result.stdout.split() == ["django.db.backends.postgresql", "True"]

@@ -3,7 +3,7 @@
 import pytest
 from django.urls import reverse
 
-from inventory.make.steps import STEPS
+from bench.make.steps import STEPS
 from inventory.models import StorageLocation
 
 

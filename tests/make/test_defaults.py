@@ -2,7 +2,7 @@
 
 from django.urls import reverse
 
-from inventory.make.defaults import last_used_code, usable
+from bench.make.defaults import last_used_code, usable
 from inventory.models import ReagentLot
 from inventory.services import record_transition, shelf_life_rule_set
 

@@ -59,7 +59,7 @@ def test_qr_symbol_is_a_full_qr_code_at_error_level_m_or_better(monkeypatch):
 
 
 def test_a_sheet_refuses_more_labels_than_fit(lab, login):
-    from inventory.views.records import MAX_LABELS
+    from bench.views.records import MAX_LABELS
 
     client = login(lab, "viewer")
     codes = ",".join([f"SUB-{n:05d}" for n in range(1, MAX_LABELS + 2)])

@@ -8,7 +8,7 @@ import numpy as np
 import pytest
 from django.urls import reverse
 
-from qc import plots
+from bench import plots
 from qc.analysis import control_charts, qc_pipeline
 from qc.analysis.readers import read_map
 
@@ -107,7 +107,7 @@ def test_heatmap_view_draws_the_stored_grid(lab, login, monkeypatch):
 
 def test_raman_plot_redraws_the_band_the_import_stored(lab):
     """Re-running the pipeline on the stored file gives the band position stored at import."""
-    from qc.views import _raman_rerun
+    from bench.views.review import _raman_rerun
 
     _shift, _intensity, band, what = _raman_rerun(lab.qc_good)
     assert what == "mean of map"

@@ -1,0 +1,230 @@
+"""Read-only queries shaped for the pages: capped, paginated, a fixed number of statements.
+
+No rule lives here: which records count as active comes from ``inventory.selectors``, what
+counts as expired from ``inventory.shelf_life``.  These helpers only slice, count and order,
+so a page costs the same number of queries with ten records or a hundred thousand.
+"""
+
+from __future__ import annotations
+
+import heapq
+from dataclasses import dataclass
+from datetime import date, timedelta
+
+from django.apps import apps
+from django.db import models
+from django.db.models import Count, Q
+
+from inventory import selectors
+from inventory.models import Flag, LifecycleRecord, Status
+from inventory.selectors import ACTIVE_STATUSES, ExpiringItem
+from inventory.shelf_life import LIFECYCLE_KINDS
+
+# Unit shown beside a field, from the unit its name ends with (DESIGN: units in names).
+UNIT_SUFFIXES = (
+    ("_counts_cm1_per_mW_s", "counts·cm⁻¹/(mW·s)"), ("_counts_per_mW_s", "counts/(mW·s)"),
+    ("_per_nm2", "nm⁻²"), ("_per_cm2", "cm⁻²"), ("_per_mL", "mL⁻¹"), ("_mol_L", "mol/L"),
+    ("_g_cm3", "g/cm³"), ("_percent_w_v", "% w/v"), ("_percent", "%"), ("_nm", "nm"),
+    ("_um2", "µm²"), ("_um", "µm"), ("_cm2", "cm²"), ("_cm3", "cm³"), ("_cm1", "cm⁻¹"),
+    ("_cm", "cm"), ("_mL", "mL"), ("_uL", "µL"), ("_mM", "mM"), ("_M", "M"), ("_mA", "mA"),
+    ("_mW", "mW"), ("_V", "V"), ("_C", "C"), ("_min", "min"), ("_h", "h"), ("_s", "s"),
+    ("_days", "days"),
+)
+# Fields shown elsewhere on the page (files, lineage) or too bulky for a table.
+HIDDEN_FIELDS = {"id", "code", "version", "notes", "point_values", "ef_inputs", "limits_used",
+                 "failure_reasons", "breaches", "created_by", "updated_by", "created_at",
+                 "updated_at"}
+
+
+VOID_FIELDS = {"voided_at", "voided_by", "void_reason"}
+
+
+def unit_of(field_name: str) -> tuple[str, str]:
+    """(unit, name without its unit suffix); ("", name) when the name carries no unit."""
+    for suffix, unit in UNIT_SUFFIXES:
+        if field_name.endswith(suffix) and len(field_name) > len(suffix):
+            return unit, field_name[: -len(suffix)]
+    return "", field_name
+
+
+def _shown(value):
+    """Floats to six significant figures: stored results carry float noise, not precision."""
+    return format(value, ".6g") if isinstance(value, float) else value
+
+
+@dataclass(frozen=True)
+class FieldRow:
+    label: str
+    value: object
+    unit: str
+    link_code: str = ""  # when the value is another coded record
+
+
+def field_rows(record) -> list[FieldRow]:
+    """The record's own fields as (label, display value, unit), files and JSON left out.
+
+    The void fields appear only on a voided record (the page shows a banner then too).
+    """
+    hidden = HIDDEN_FIELDS | (VOID_FIELDS if getattr(record, "voided_at", None) is None
+                              else set())
+    rows = []
+    for field in record._meta.concrete_fields:
+        if field.name in hidden or isinstance(field, models.FileField):
+            continue
+        if field.is_relation:
+            related = getattr(record, field.name)
+            code = getattr(related, "code", "")
+            rows.append(FieldRow(str(field.verbose_name), related, "", code))
+            continue
+        unit, bare_name = unit_of(field.name)
+        label = str(field.verbose_name)
+        if unit and label == field.name.replace("_", " "):  # not named by hand: drop the unit
+            label = bare_name.replace("_", " ")
+        value = getattr(record, f"get_{field.name}_display")() if field.choices \
+            else _shown(getattr(record, field.name))
+        rows.append(FieldRow(label, value, unit))
+    return rows
+
+
+@dataclass(frozen=True)
+class StoredFile:
+    name: str
+    sha256: str
+    size_bytes: int | None
+
+
+def stored_files(record) -> list[StoredFile]:
+    """Raw files kept with ``record`` and their SHA-256 digests (datasets: every file)."""
+    files = []
+    if hasattr(record, "files") and hasattr(record.files, "all"):
+        files += [StoredFile(f.original_name, f.sha256, f.size_bytes) for f in record.files.all()]
+    for name_field, digest_field in (("chronoamperogram_name", "chronoamperogram_sha256"),
+                                     ("raw_filename", "raw_sha256"),
+                                     ("raw_file_name", "raw_sha256")):
+        name, digest = getattr(record, name_field, ""), getattr(record, digest_field, "")
+        if name and digest:
+            files.append(StoredFile(name, digest, None))
+    if getattr(record, "blank_sha256", ""):
+        files.append(StoredFile(record.blank_file.name, record.blank_sha256, None))
+    return files
+
+
+# --------------------------------------------------------------------------------------
+# History and signatures (the audit selectors)
+# --------------------------------------------------------------------------------------
+
+
+def record_history(record) -> list:
+    """Newest first: every create and change with who, when, what and why."""
+    return list(selectors.record_get_history(record))
+
+
+def record_signatures(record) -> list:
+    """The electronic signatures on ``record``, oldest first."""
+    return list(selectors.record_get_signatures(record))
+
+
+# --------------------------------------------------------------------------------------
+# Expiry and shelf
+# --------------------------------------------------------------------------------------
+
+
+def _lifecycle_models() -> list[type[LifecycleRecord]]:
+    return [apps.get_model("inventory", kind) for kind in LIFECYCLE_KINDS]
+
+
+def expiring_page(days: int, *, offset: int = 0, limit: int = 25,
+                  on_date: date) -> tuple[list[ExpiringItem], int]:
+    """One page of active records expiring within ``days`` (soonest first) and the total.
+
+    The same records as ``selectors.records_expiring_within``, but two queries per record
+    kind however many match: a count, and the first ``offset + limit`` rows of each kind,
+    merged by date.
+    """
+    horizon = on_date + timedelta(days=days)
+    total, heads = 0, []
+    for model in _lifecycle_models():
+        rows = model.objects.filter(status__in=ACTIVE_STATUSES, expires_on__isnull=False,
+                                    expires_on__lte=horizon).select_related("storage")
+        total += rows.count()
+        heads.append(list(rows.order_by("expires_on", "code")[: offset + limit]))
+    merged = heapq.merge(*heads, key=lambda record: (record.expires_on, record.code))
+    page = list(merged)[offset: offset + limit]
+    return [ExpiringItem(r, r.expires_on, (r.expires_on - on_date).days) for r in page], total
+
+
+def _on_shelf(model, on_date: date):
+    """Released and not expired (a record is usable on its expiry day)."""
+    return model.objects.filter(Q(expires_on__isnull=True) | Q(expires_on__gte=on_date),
+                                status=Status.RELEASED)
+
+
+@dataclass(frozen=True)
+class ShelfCount:
+    kind: str  # model name, e.g. "substrate"
+    kind_label: str
+    location: str
+    count: int
+
+
+def shelf_summary(on_date: date) -> list[ShelfCount]:
+    """How many usable records of each kind sit in each location (one query per kind)."""
+    counts = []
+    for model in _lifecycle_models():
+        grouped = (_on_shelf(model, on_date).values("storage__code", "storage__name")
+                   .annotate(n=Count("id")).order_by("storage__name"))
+        for row in grouped:
+            where = f"{row['storage__code']} {row['storage__name']}" if row["storage__code"] \
+                else "no location recorded"
+            counts.append(ShelfCount(model._meta.model_name, str(model._meta.verbose_name),
+                                     where, row["n"]))
+    return counts
+
+
+def shelf_kinds() -> list[tuple[str, str]]:
+    """(model name, label) of every kind that has a shelf life."""
+    return [(m._meta.model_name, str(m._meta.verbose_name)) for m in _lifecycle_models()]
+
+
+def shelf_records(kind: str, on_date: date, *, location_code: str = ""):
+    """Usable records of one kind (a queryset to paginate), soonest expiry first."""
+    models_by_name = {m._meta.model_name: m for m in _lifecycle_models()}
+    if kind not in models_by_name:
+        raise ValueError(f"Unknown kind '{kind}'; choose one of {', '.join(models_by_name)}.")
+    rows = _on_shelf(models_by_name[kind], on_date).select_related("storage")
+    if location_code:
+        rows = rows.filter(storage__code=location_code.strip().upper())
+    return rows.order_by(models.F("expires_on").asc(nulls_last=True), "code")
+
+
+# --------------------------------------------------------------------------------------
+# Quarantine and flags
+# --------------------------------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class KindCount:
+    kind: str
+    kind_label: str
+    count: int
+
+
+def quarantine_counts() -> list[KindCount]:
+    """Records awaiting QC or release, per kind (one query per kind)."""
+    return [KindCount(m._meta.model_name, str(m._meta.verbose_name),
+                      m.objects.filter(status=Status.QUARANTINE).count())
+            for m in _lifecycle_models()]
+
+
+def quarantine_records(kind: str):
+    """Quarantined records of one kind (a queryset to paginate), oldest first."""
+    models_by_name = {m._meta.model_name: m for m in _lifecycle_models()}
+    if kind not in models_by_name:
+        raise ValueError(f"Unknown kind '{kind}'.")
+    return (models_by_name[kind].objects.filter(status=Status.QUARANTINE)
+            .select_related("storage").order_by("created_at", "code"))
+
+
+def open_flags():
+    """Open flags, newest first (a queryset to slice or paginate)."""
+    return Flag.objects.filter(state=Flag.State.OPEN).order_by("-created_at", "-id")

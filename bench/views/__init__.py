@@ -1,0 +1,15 @@
+"""The pages by task (overview, records, trace, review): parse, call one service, render."""
+
+from .overview import home, stock  # noqa: F401
+from .records import label_sheet, readiness_check, record_detail, record_label  # noqa: F401
+from .review import (  # noqa: F401
+    flag_resolve,
+    plot_chronoamperogram,
+    plot_control_chart,
+    plot_heatmap,
+    plot_raman,
+    plot_uvvis,
+    review,
+    review_sign,
+)
+from .trace import trace, trace_graph, trace_prov, trace_report  # noqa: F401

@@ -1,0 +1,57 @@
+"""Dashboard (open flags, quarantine, expiring, trends) and Stock (shelf and expiry)."""
+
+from __future__ import annotations
+
+from django.contrib.auth.decorators import login_required
+from django.shortcuts import render
+from django.utils import timezone
+
+from bench import page_queries
+from inventory.models import Substrate
+
+from ._common import PAGE_SIZE, int_param, paginate
+
+DASHBOARD_DAYS = 14
+DASHBOARD_ROWS = 25  # the rest is one click away on Stock; an uncapped list was too slow
+
+
+@login_required
+def home(request):
+    today = timezone.localdate()
+    expiring, expiring_total = page_queries.expiring_page(DASHBOARD_DAYS, limit=DASHBOARD_ROWS,
+                                                          on_date=today)
+    flags = page_queries.open_flags()
+    context = {
+        "today": today, "days": DASHBOARD_DAYS,
+        "expiring": expiring, "expiring_total": expiring_total,
+        "open_flags": list(flags[:DASHBOARD_ROWS]), "open_flag_total": flags.count(),
+        "quarantine": page_queries.quarantine_counts(),
+        "quarantined_substrates": list(page_queries.quarantine_records("substrate")
+                                       [:DASHBOARD_ROWS]),
+        "chart_kinds": Substrate.Stage.choices,
+    }
+    return render(request, "inventory/home.html", context)
+
+
+@login_required
+def stock(request):
+    today = timezone.localdate()
+    days = int_param(request, "days", DASHBOARD_DAYS, low=0, high=3650)
+    kinds = page_queries.shelf_kinds()
+    kind = request.GET.get("kind", "substrate")
+    if kind not in dict(kinds):
+        kind = "substrate"
+    location = request.GET.get("location", "").strip()
+    expiring_page_number = int_param(request, "epage", 1, low=1, high=100000)
+    expiring, expiring_total = page_queries.expiring_page(
+        days, offset=(expiring_page_number - 1) * PAGE_SIZE, limit=PAGE_SIZE, on_date=today)
+    context = {
+        "today": today, "days": days, "kinds": kinds, "kind": kind, "location": location,
+        "summary": page_queries.shelf_summary(today),
+        "shelf": paginate(request, page_queries.shelf_records(kind, today,
+                                                              location_code=location)),
+        "expiring": expiring, "expiring_total": expiring_total,
+        "epage": expiring_page_number,
+        "epage_count": max(1, -(-expiring_total // PAGE_SIZE)),
+    }
+    return render(request, "inventory/stock.html", context)

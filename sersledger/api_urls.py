@@ -1,0 +1,23 @@
+"""The one API router, mounted at /api/v1/ by sersledger/urls.py (namespace ``api``).
+
+Assembled here, above both apps, so inventory and qc each list only their own routes and
+neither knows the other's.
+"""
+
+from django.urls import include, path
+from rest_framework.routers import DefaultRouter
+
+from inventory.api import reports
+from inventory.api import urls as inventory_api
+from qc.api import urls as qc_api
+
+app_name = "api"
+
+ROUTES = [*inventory_api.ROUTES, *qc_api.ROUTES]
+
+router = DefaultRouter()
+for prefix, viewset in ROUTES:
+    router.register(prefix, viewset, basename=prefix)
+    reports.DETAIL_ROUTES[viewset.queryset.model._meta.model_name] = prefix
+
+urlpatterns = [*inventory_api.urlpatterns, path("", include(router.urls))]

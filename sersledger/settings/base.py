@@ -1,0 +1,183 @@
+"""Settings shared by every environment.
+
+The embedded default database is SQLite in the git-ignored ``data/`` folder; setting
+``DATABASE_URL`` (e.g. ``postgres://user@127.0.0.1:5432/sersledger``) switches any settings
+module to that database through dj-database-url.
+"""
+
+import os
+from pathlib import Path
+
+import dj_database_url
+
+BASE_DIR = Path(__file__).resolve().parent.parent.parent
+DATA_DIR = Path(os.environ.get("SERSLEDGER_DATA_DIR", BASE_DIR / "data"))
+
+INSTALLED_APPS = [
+    # The pages (templates in bench/templates/); first, so its templates win over Django's.
+    "bench",
+    "django.contrib.admin",
+    "django.contrib.auth",
+    "django.contrib.contenttypes",
+    "django.contrib.sessions",
+    "django.contrib.messages",
+    "django.contrib.staticfiles",
+    "rest_framework",
+    "rest_framework.authtoken",
+    "django_filters",
+    "drf_spectacular",
+    "simple_history",
+    "inventory",
+    "qc",
+]
+
+MIDDLEWARE = [
+    "django.middleware.security.SecurityMiddleware",
+    "django.contrib.sessions.middleware.SessionMiddleware",
+    "django.middleware.common.CommonMiddleware",
+    "django.middleware.csrf.CsrfViewMiddleware",
+    "django.contrib.auth.middleware.AuthenticationMiddleware",
+    "django.contrib.messages.middleware.MessageMiddleware",
+    "django.middleware.clickjacking.XFrameOptionsMiddleware",
+    # Puts request.user on every history row written during a request.
+    "simple_history.middleware.HistoryRequestMiddleware",
+]
+
+ROOT_URLCONF = "sersledger.urls"
+WSGI_APPLICATION = "sersledger.wsgi.application"
+
+TEMPLATES = [
+    {
+        "BACKEND": "django.template.backends.django.DjangoTemplates",
+        "DIRS": [],
+        "APP_DIRS": True,
+        "OPTIONS": {
+            "context_processors": [
+                "django.template.context_processors.request",
+                "django.contrib.auth.context_processors.auth",
+                "django.contrib.messages.context_processors.messages",
+                "bench.context_processors.user_roles",
+            ],
+        },
+    },
+]
+
+
+def database_from_environment(default_sqlite_path: Path) -> dict:
+    """DATABASE_URL wins; otherwise SQLite at ``default_sqlite_path``."""
+    url = os.environ.get("DATABASE_URL")
+    if url:
+        database = dj_database_url.parse(url, conn_max_age=60)
+        if database["ENGINE"] == "django.db.backends.postgresql" and os.environ.get(
+                "DATABASE_PREPARED_STATEMENTS", "true").lower() != "false":
+            # Parameters bound on the server, and a statement run 5 times on a connection is
+            # prepared: PostgreSQL then skips planning, which was most of the database time of
+            # an API read (1.7 ms planning against 0.08 ms execution; benchmarks/REPORT.md).
+            # Turn off with DATABASE_PREPARED_STATEMENTS=false behind a transaction-mode pooler.
+            database.setdefault("OPTIONS", {}).update(server_side_binding=True,
+                                                      prepare_threshold=5)
+        return database
+    return {
+        "ENGINE": "django.db.backends.sqlite3",
+        "NAME": default_sqlite_path,
+        # Wait for a concurrent writer instead of failing at once (SQLite serialises writes).
+        "OPTIONS": {"timeout": 20},
+    }
+
+
+DATABASES = {"default": database_from_environment(DATA_DIR / "sersledger.sqlite3")}
+
+DEFAULT_AUTO_FIELD = "django.db.models.BigAutoField"
+
+# Sign-in refuses a username+address pair for a while after repeated wrong passwords
+# (inventory.login_throttle).  The counter is in Django's cache: local memory here (one
+# process); the production settings use a file cache that every worker process shares.
+AUTHENTICATION_BACKENDS = ["inventory.login_throttle.ThrottledModelBackend"]
+SERSLEDGER_LOGIN_MAX_FAILURES = 5
+SERSLEDGER_LOGIN_LOCKOUT_MINUTES = 15
+
+AUTH_PASSWORD_VALIDATORS = [
+    {"NAME": "django.contrib.auth.password_validation.UserAttributeSimilarityValidator"},
+    {"NAME": "django.contrib.auth.password_validation.MinimumLengthValidator",
+     "OPTIONS": {"min_length": 10}},
+    {"NAME": "django.contrib.auth.password_validation.CommonPasswordValidator"},
+    {"NAME": "django.contrib.auth.password_validation.NumericPasswordValidator"},
+]
+
+LANGUAGE_CODE = "en-gb"
+TIME_ZONE = "UTC"
+USE_I18N = True
+USE_TZ = True
+
+STATIC_URL = "static/"
+STATIC_ROOT = DATA_DIR / "static"
+MEDIA_URL = "media/"
+MEDIA_ROOT = DATA_DIR / "media"
+
+LOGIN_URL = "login"
+LOGIN_REDIRECT_URL = "home"
+
+# Uploaded instrument files are kept as uploaded; 50 MB covers a 100 x 100 map of 1,024 shifts.
+DATA_UPLOAD_MAX_MEMORY_SIZE = 5 * 1024 * 1024
+FILE_UPLOAD_MAX_MEMORY_SIZE = 5 * 1024 * 1024
+SERSLEDGER_MAX_UPLOAD_BYTES = 50 * 1024 * 1024
+
+# Extra readiness reasons contributed by other apps, as dotted paths to callables
+# ``provider(substrate, ancestry) -> list[Reason]``.  Inventory never imports them directly.
+SERSLEDGER_READINESS_PROVIDERS = [
+    "qc.readiness.qc_reasons",
+]
+
+# Extra rules a release must pass, as dotted paths to ``check(record) -> note or None``
+# that raise ValidationError to refuse (inventory.services.record_release).
+SERSLEDGER_RELEASE_CHECKS = [
+    "qc.services.raman.substrate_release_check",
+]
+
+# A maker may not release (sign off) a record they made; a one-person lab can allow it.
+SERSLEDGER_ALLOW_SELF_RELEASE = False
+
+# The API (inventory/api, qc/api): token for scripts and instruments, session for the browser.
+REST_FRAMEWORK = {
+    "DEFAULT_AUTHENTICATION_CLASSES": [
+        "rest_framework.authentication.TokenAuthentication",
+        "rest_framework.authentication.SessionAuthentication",
+    ],
+    "DEFAULT_PERMISSION_CLASSES": ["rest_framework.permissions.IsAuthenticated"],
+    "DEFAULT_FILTER_BACKENDS": [
+        "django_filters.rest_framework.DjangoFilterBackend",
+        "rest_framework.filters.SearchFilter",
+        "rest_framework.filters.OrderingFilter",
+    ],
+    # JSON in; multipart only where an endpoint takes files (it says so itself).
+    "DEFAULT_PARSER_CLASSES": ["rest_framework.parsers.JSONParser"],
+    "DEFAULT_PAGINATION_CLASS": "inventory.api.pagination.Keyset",
+    "DEFAULT_SCHEMA_CLASS": "drf_spectacular.openapi.AutoSchema",
+    # One error body everywhere: {"errors": [{"field", "message", "code"}]}.
+    "EXCEPTION_HANDLER": "inventory.api.errors.exception_handler",
+}
+
+SPECTACULAR_SETTINGS = {
+    "TITLE": "sersledger API",
+    "DESCRIPTION": "Records, readiness, lineage and QC results of a SERS substrate laboratory. "
+                   "Every quantity carries its unit in its field name and its description. "
+                   "Authenticate with 'Authorization: Token <token>' (POST /api/v1/token/) "
+                   "or a browser session. Errors: {\"errors\": [{\"field\", \"message\", "
+                   "\"code\"}]}.",
+    "VERSION": "1",
+    "SERVE_INCLUDE_SCHEMA": False,
+    "COMPONENT_SPLIT_REQUEST": True,
+    "ENUM_NAME_OVERRIDES": {
+        "StorageKindEnum": "inventory.models.StorageLocation.Kind",
+        "ReagentKindEnum": "inventory.models.ReagentKind",
+        "RecordKindEnum": "inventory.models.RecordKind",
+        "SubstrateStageEnum": "inventory.models.Substrate.Stage",
+    },
+    "POSTPROCESSING_HOOKS": [
+        "drf_spectacular.hooks.postprocess_schema_enums",
+        "inventory.api.schema.add_error_responses",
+    ],
+    # Swagger UI at /api/v1/docs/ from the drf-spectacular-sidecar package (offline, no CDN).
+    "SWAGGER_UI_DIST": "/api/v1/docs/assets/swagger-ui-dist",
+    "SWAGGER_UI_FAVICON_HREF": "/api/v1/docs/assets/swagger-ui-dist/favicon-32x32.png",
+}
