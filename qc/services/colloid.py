@@ -29,16 +29,14 @@ from inventory.errors import refusal
 from inventory.models import Flag, NanoparticleBatch
 from inventory.roles import ADMINISTRATOR, MAKER, require_role
 from inventory.services import flag_raise, sha256_of
-from inventory.services._common import (
-    User,
-    _check_upload,
-    _files_removed_if_failed,
-    _link,
-    _require_not_future,
-    _save_changed,
-    _save_new,
-    _stamp_history,
-)
+from inventory.services.toolkit import User
+from inventory.services.toolkit import check_upload as _check_upload
+from inventory.services.toolkit import files_removed_if_failed as _files_removed_if_failed
+from inventory.services.toolkit import link as _link
+from inventory.services.toolkit import require_not_future as _require_not_future
+from inventory.services.toolkit import save_changed as _save_changed
+from inventory.services.toolkit import save_new as _save_new
+from inventory.services.toolkit import stamp_history as _stamp_history
 from qc.analysis import gold_haiss, silver_calibration
 from qc.analysis.colloid_stability import (
     ColloidSnapshot,

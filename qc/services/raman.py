@@ -25,18 +25,16 @@ from inventory.lifecycle import check_usable
 from inventory.models import Flag, ReagentKind, ReagentLot, Status, Substrate
 from inventory.roles import ADMINISTRATOR, MAKER, require_role
 from inventory.services import flag_raise, record_release, record_transition, sha256_of
-from inventory.services._common import (
-    User,
-    _check_substrates_usable,
-    _check_upload,
-    _files_removed_if_failed,
-    _link,
-    _require_kind,
-    _require_not_future,
-    _save_new,
-    _stamp_history,
-)
-from inventory.services.lifecycle import _transition, lock
+from inventory.services.toolkit import User, lock
+from inventory.services.toolkit import check_substrates_usable as _check_substrates_usable
+from inventory.services.toolkit import check_upload as _check_upload
+from inventory.services.toolkit import files_removed_if_failed as _files_removed_if_failed
+from inventory.services.toolkit import link as _link
+from inventory.services.toolkit import require_kind as _require_kind
+from inventory.services.toolkit import require_not_future as _require_not_future
+from inventory.services.toolkit import save_new as _save_new
+from inventory.services.toolkit import stamp_history as _stamp_history
+from inventory.services.toolkit import transition as _transition
 from inventory.signatures import SignatureIntent
 from qc.analysis import enhancement, qc_pipeline
 from qc.analysis.errors import AnalysisInputError
