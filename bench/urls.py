@@ -1,4 +1,4 @@
-"""The pages, mounted at the site root by sersledger/urls.py (URL names as the templates use them)."""
+"""The pages, mounted at the site root by sersledger/urls.py; URL names as templates use them."""
 
 from django.urls import include, path
 

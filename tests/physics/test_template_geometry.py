@@ -1,4 +1,4 @@
-"""Tests for inventory.physics.template_geometry against geometric identities and hand arithmetic."""
+"""Tests for inventory.physics.template_geometry: geometric identities and hand arithmetic."""
 
 from __future__ import annotations
 
