@@ -12,11 +12,11 @@ load comes from ``wrk`` (Debian package ``wrk``, written in C, one event-loop th
 client takes as little of the shared cores as possible; its CPU time is measured and reported.
 Each endpoint gets ``--warmup`` untimed seconds, then ``--seconds`` of load from ``--clients``
 keep-alive connections; wrk stops sending at ``--max-requests`` (a safety cap: wrk still waits
-out the duration, so a run that reaches it is marked and its rate is a lower bound).  Requests carry an API token of
-the generated user bench01 and cycle through many records or pages, so no single row is
-measured hot.  Any answer other than HTTP 200 counts as an error, like socket errors and
-timeouts.  /proc/loadavg and the whole machine's CPU use are recorded beside each run because
-the machine is shared.  Results go to ``benchmarks/out/throughput-<db>-<scale>.json``.
+out the duration, so a run that reaches it is marked and its rate is a lower bound). Requests
+carry an API token of the generated user bench01 and cycle through many records or pages, so no
+single row is measured hot.  Any answer other than HTTP 200 counts as an error, like socket
+errors and timeouts.  /proc/loadavg and the whole machine's CPU use are recorded beside each run
+because the machine is shared.  Results go to ``benchmarks/out/throughput-<db>-<scale>.json``.
 """
 
 from __future__ import annotations
@@ -140,7 +140,11 @@ def parse_server(spec: str) -> dict:
     """``sync:4`` (4 sync workers) or ``gthread:3x4`` (3 workers of 4 threads)."""
     kind, _, size = spec.partition(":")
     workers, _, threads = size.partition("x")
-    if kind not in {"sync", "gthread"} or not workers.isdigit() or (threads and not threads.isdigit()):
+    if (
+        kind not in {"sync", "gthread"}
+        or not workers.isdigit()
+        or (threads and not threads.isdigit())
+    ):
         raise argparse.ArgumentTypeError(f"server {spec!r}: use sync:N or gthread:NxT")
     return {"spec": spec, "worker_class": kind, "workers": int(workers),
             "threads": int(threads or 1)}

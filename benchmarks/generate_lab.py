@@ -7,8 +7,9 @@ Run from the repository root::
 
 ``--scale 1`` is about five years of a lab with several instruments: 100,000 substrates from
 25,000 deposition runs, 20,000 colloid batches, 50,000 datasets, 200,000 Raman QC
-measurements (when the qc models exist), ~10,000 reagent lots and ~500,000 lineage edges.  Every name, number and date is invented.  The database is dropped
-and rebuilt each time: SQLite in ``benchmarks/out/lab.sqlite3`` (git-ignored) or the
+measurements (when the qc models exist), ~10,000 reagent lots and ~500,000 lineage edges.
+Every name, number and date is invented.  The database is dropped and rebuilt each time:
+SQLite in ``benchmarks/out/lab.sqlite3`` (git-ignored) or the
 PostgreSQL database ``sersledger_bench`` on 127.0.0.1.  It never touches the lab's own
 database.
 
@@ -272,8 +273,10 @@ class LabGenerator:
         salt_of = _blocks(n_stock, n_salt)
         stock_first = _first_use(stock_of, first - 3, n_stock)
         salt_first = _first_use(salt_of, stock_first, n_salt)
-        salt_lots = [add("metal_salt", f"Invented gold salt {i + 1}", max(0, int(salt_first[i]) - 10))
-                     for i in range(n_salt)]
+        salt_lots = [
+            add("metal_salt", f"Invented gold salt {i + 1}", max(0, int(salt_first[i]) - 10))
+            for i in range(n_salt)
+        ]
         stock_lots = []
         for i in range(n_stock):
             lot = add("metal_salt", f"Invented salt stock {i + 1}", max(0, int(stock_first[i])),
@@ -393,10 +396,16 @@ class LabGenerator:
         methods = ["citrate", "seeded_growth", "hydroxylamine"]
         for i in range(self.n_batches):
             made_on = self.day(self.batch_days[i])
-            batch = NanoparticleBatch(id=i + 1, code=f"NPB-{i + 1:05d}", metal="Au",
-                                      synthesis_method=methods[i % 3], volume_mL=100.0,
-                                      target_diameter_nm=float(self.rng.choice([40.0, 60.0, 80.0])),
-                                      made_on=made_on, storage_id=int(self.rng.choice(self.place_ids)))
+            batch = NanoparticleBatch(
+                id=i + 1,
+                code=f"NPB-{i + 1:05d}",
+                metal="Au",
+                synthesis_method=methods[i % 3],
+                volume_mL=100.0,
+                target_diameter_nm=float(self.rng.choice([40.0, 60.0, 80.0])),
+                made_on=made_on,
+                storage_id=int(self.rng.choice(self.place_ids)),
+            )
             batch.expires_on = self.expiry(batch)
             batch.status = self.status_for(batch.expires_on, (0.20, 0.70, 0.10))
             self.stamp(batch, self.user_ids, i)
@@ -583,10 +592,21 @@ class LabGenerator:
             cursor.execute("ANALYZE")
 
     def run(self) -> None:
-        steps = [self.users_and_places, self.shelf_life_rules, self.plan, self.reagents,
-                 self.spheres_and_templates, self.runs_and_pieces, self.colloids,
-                 self.linkers_and_particles, self.datasets, self.flags, self.qc_measurements, self.lineage,
-                 self.counters_and_sequences]
+        steps = [
+            self.users_and_places,
+            self.shelf_life_rules,
+            self.plan,
+            self.reagents,
+            self.spheres_and_templates,
+            self.runs_and_pieces,
+            self.colloids,
+            self.linkers_and_particles,
+            self.datasets,
+            self.flags,
+            self.qc_measurements,
+            self.lineage,
+            self.counters_and_sequences,
+        ]
         for step in steps:
             start = time.perf_counter()
             step()

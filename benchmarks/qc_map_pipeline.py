@@ -99,7 +99,7 @@ def main() -> None:
         )
         loop_heights, loop_s, loop_cpu = _timed(lambda: loop_reference(x, counts[:subset]))
         rounds.append((vector_s, vector_cpu, loop_s * scale, loop_cpu * scale))
-    vector_s, vector_cpu, loop_s, loop_cpu = (min(column) for column in zip(*rounds))
+    vector_s, vector_cpu, loop_s, loop_cpu = (min(column) for column in zip(*rounds, strict=True))
     ratios = sorted(loop / vector for vector, _, loop, _ in rounds)
 
     tracemalloc.start()

@@ -6,14 +6,14 @@ Run from the repository root after ``benchmarks/generate_lab.py`` for the same `
     .venv/bin/python benchmarks/run_benchmarks.py --db postgres
     .venv/bin/python benchmarks/run_benchmarks.py --report     # markdown from saved results
 
-Each operation is called through the product's own functions (readiness, lineage, expiry
-list, pages through the Django test client, logged in), warmed up, then timed ``--repeat``
-times with ``time.perf_counter``; the median is reported with the number of SQL queries of
-one call (counted by a connection execute wrapper).  A naive lineage walk, one query per node for its edges
-and one per record (written here, not in the product), runs on the same records in the same
-run and is reported as a ratio.  Results go to ``benchmarks/out/results-<db>-<scale>.json``;
-``--report`` prints one markdown table over every saved result, so query counts at two
-scales sit side by side.  The API rows are measured only when ``/api/`` resolves.
+Each operation is called through the product's own functions (readiness, lineage, expiry list,
+pages through the Django test client, logged in), warmed up, then timed ``--repeat`` times with
+``time.perf_counter``; the median is reported with the number of SQL queries of one call
+(counted by a connection execute wrapper).  A naive lineage walk, one query per node for its
+edges and one per record (written here, not in the product), runs on the same records in the
+same run and is reported as a ratio.  Results go to ``benchmarks/out/results-<db>-<scale>.json``;
+``--report`` prints one markdown table over every saved result, so query counts at two scales
+sit side by side.  The API rows are measured only when ``/api/`` resolves.
 """
 
 from __future__ import annotations

@@ -8,6 +8,6 @@ plain HTTP on loopback, where a redirect to https would answer every request wit
 measure nothing.  Never use this module to serve the lab.
 """
 
-from sersledger.settings.production import *
+from sersledger.settings.production import *  # noqa: F403 (an overlay takes every setting)
 
 SECURE_SSL_REDIRECT = False

@@ -218,7 +218,7 @@ def load_inventory_demo(*, today: date | None = None) -> DemoScenario:
     decorate(flat_pieces[:1], 4, s.batches["gold"], 3)
 
     names = ["ready_a", "ready_b", "awaiting_qc", "bare_film"]
-    for name, piece in zip(names, fresh):
+    for name, piece in zip(names, fresh, strict=True):
         s.substrates[name] = piece
     s.substrates["old_linker"], s.substrates["old_linker_2"], s.substrates["older_bare"] = older
     s.substrates["flat_gold"], s.substrates["flat_bare"] = flat_pieces

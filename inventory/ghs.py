@@ -64,7 +64,11 @@ def normalise_codes(text: str) -> str:
             continue
         code = token.upper()
         if not _CODE.match(code):
-            raise refusal("ghs_hazard_codes", f"'{token}' is not a GHS hazard code (e.g. H300, EUH032).", "bad_ghs_code")
+            raise refusal(
+                "ghs_hazard_codes",
+                f"'{token}' is not a GHS hazard code (e.g. H300, EUH032).",
+                "bad_ghs_code",
+            )
         if code not in codes:
             codes.append(code)
     return " ".join(codes)

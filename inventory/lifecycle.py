@@ -34,7 +34,9 @@ def check_transition(record, to_status: str, reason: str) -> None:
         raise refusal("to_status", f"{record.code} is {current}; it cannot become {to_status}. "
                           f"Allowed next: {allowed}.", "illegal_transition")
     if to_status in REASON_REQUIRED and not reason.strip():
-        raise refusal("reason", f"Give a reason for making {record.code} {to_status}.", "reason_required")
+        raise refusal(
+            "reason", f"Give a reason for making {record.code} {to_status}.", "reason_required"
+        )
 
 
 def check_usable(record, *, role: str, on_date: date, field: str) -> None:
@@ -55,7 +57,9 @@ def check_usable(record, *, role: str, on_date: date, field: str) -> None:
                              f"({record.void_reason}).", "input_voided")
     status = getattr(record, "status", None)
     if status in UNUSABLE_STATUSES:
-        raise refusal(field, f"{record.code} cannot be used as {role}: it is {status}.", "input_unusable")
+        raise refusal(
+            field, f"{record.code} cannot be used as {role}: it is {status}.", "input_unusable"
+        )
     if is_expired(record, on_date):
         raise refusal(field, f"{record.code} cannot be used as {role} on {on_date.isoformat()}: "
                     f"it expired on {record.expires_on.isoformat()}.", "input_expired")

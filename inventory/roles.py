@@ -52,7 +52,9 @@ def user_has_role(user, role: str) -> bool:
 
 
 def require_role(user, role: str, *, action: str) -> None:
-    """Refuse ``action`` unless ``user`` holds ``role``: the one check services, pages and API share.
+    """Refuse ``action`` unless ``user`` holds ``role``.
+
+    The one check services, pages and API share.
 
     Raises Django's ``PermissionDenied`` (HTTP 403 in pages and API) naming the action and
     the role it needs.  ``user=None`` stands for the system itself (data migrations, the demo
@@ -61,5 +63,7 @@ def require_role(user, role: str, *, action: str) -> None:
     if user is None:
         return
     if not user_has_role(user, role):
-        raise PermissionDenied(f"{action} needs the {role} role; "
-                               f"{user.get_username()} holds {', '.join(sorted(roles_of(user))) or 'none'}.")
+        raise PermissionDenied(
+            f"{action} needs the {role} role; "
+            f"{user.get_username()} holds {', '.join(sorted(roles_of(user))) or 'none'}."
+        )

@@ -26,7 +26,9 @@ def record_kind_of(record_or_model) -> str:
     return record_or_model._meta.model_name
 
 
-def rules_by_scope(rules: Iterable[ShelfLifeRule] | None = None) -> dict[tuple[str, str], ShelfLifeRule]:
+def rules_by_scope(
+    rules: Iterable[ShelfLifeRule] | None = None,
+) -> dict[tuple[str, str], ShelfLifeRule]:
     """All rules keyed by (record_kind, reagent_kind); one query when not given."""
     rules = ShelfLifeRule.objects.all() if rules is None else rules
     return {(rule.record_kind, rule.reagent_kind): rule for rule in rules}
@@ -60,7 +62,11 @@ def validate_rule_date(record_kind: str, counted_from: str) -> None:
     field_name = DATE_FIELD_FOR.get(counted_from)
     field_names = {field.name for field in model._meta.get_fields()}
     if field_name not in field_names:
-        raise refusal("counted_from", f"A {model._meta.verbose_name} has no '{counted_from}' date.", "no_such_date")
+        raise refusal(
+            "counted_from",
+            f"A {model._meta.verbose_name} has no '{counted_from}' date.",
+            "no_such_date",
+        )
 
 
 def refresh_expiry(record: LifecycleRecord, rules: dict | None = None) -> date | None:

@@ -47,7 +47,10 @@ def _fixture(name: str) -> tuple[str, bytes]:
 def load_raman_demo(scenario: DemoScenario) -> None:
     """Add the Raman QC records to a loaded inventory demo (call once, after it)."""
     admin, maker = scenario.users["admin"], scenario.users["maker"]
-    day = lambda n: scenario.today - timedelta(days=n)
+
+    def day(n):
+        return scenario.today - timedelta(days=n)
+
     lot = scenario.lots["analyte"]
     analyte = ReferenceAnalyte.objects.filter(name=DEMO_ANALYTE).first() or \
         reference_analyte_define(

@@ -18,8 +18,9 @@ def usable(queryset: QuerySet, *, on_date: date | None = None,
            statuses: Sequence[str] = (Status.RELEASED,)) -> QuerySet:
     """Records of ``queryset`` a step may take today: in one of ``statuses`` and not expired.
 
-    Lots default to released only; a voided record (``voided_at`` set) is never offered.  Expiry follows ``inventory.shelf_life.is_expired``: a record is still
-    usable on its expiry day.  The service re-checks the chosen record under a row lock.
+    Lots default to released only; a voided record (``voided_at`` set) is never offered.
+    Expiry follows ``inventory.shelf_life.is_expired``: a record is still usable on its
+    expiry day.  The service re-checks the chosen record under a row lock.
     """
     on_date = on_date or timezone.localdate()
     rows = (queryset.filter(status__in=list(statuses))

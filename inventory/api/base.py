@@ -39,8 +39,13 @@ class RoleMixin:
     """Role per action: reads for viewers, creation for makers, anything else declared."""
 
     permission_classes = (permissions.IsAuthenticated, HasRole)
-    action_roles: ClassVar[dict[str, str]] = {"list": VIEWER, "retrieve": VIEWER, "metadata": VIEWER, "create": MAKER,
-                    "get": VIEWER}
+    action_roles: ClassVar[dict[str, str]] = {
+        "list": VIEWER,
+        "retrieve": VIEWER,
+        "metadata": VIEWER,
+        "create": MAKER,
+        "get": VIEWER,
+    }
     # Set per route by @action(required_role=...); an undeclared action needs the top role.
     required_role: str | None = None
 

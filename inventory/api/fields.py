@@ -47,7 +47,9 @@ class RecordRef(NamedRef):
 class AnyRecordRef(serializers.CharField):
     """Any record of any kind, named by its code (a flag can target any record)."""
 
-    default_error_messages: ClassVar[dict[str, str]] = {"does_not_exist": "No record has the ID '{code}'."}
+    default_error_messages: ClassVar[dict[str, str]] = {
+        "does_not_exist": "No record has the ID '{code}'."
+    }
 
     def to_internal_value(self, data):
         code = super().to_internal_value(data)
@@ -63,7 +65,9 @@ class AnyRecordRef(serializers.CharField):
 class FiniteFloat(serializers.FloatField):
     """A float that is a real number (no NaN or infinity)."""
 
-    default_error_messages: ClassVar[dict[str, str]] = {"not_finite": "A finite number is required."}
+    default_error_messages: ClassVar[dict[str, str]] = {
+        "not_finite": "A finite number is required."
+    }
 
     def to_internal_value(self, data):
         value = super().to_internal_value(data)

@@ -40,16 +40,23 @@ class TemplateAssembly(LifecycleRecord):
         indexes = [models.Index(fields=["status", "expires_on"],
                                 name="template_status_expiry")]
         constraints = [
-            models.CheckConstraint(name="template_area_positive", condition=Q(slide_area_cm2__gt=0)),
-            models.CheckConstraint(name="template_suspension_volume_positive",
-                                   condition=Q(suspension_volume_uL__isnull=True)
-                                   | Q(suspension_volume_uL__gt=0)),
-            models.CheckConstraint(name="template_excess_factor_at_least_one",
-                                   condition=Q(suspension_excess_factor__isnull=True)
-                                   | Q(suspension_excess_factor__gte=1)),
-            models.CheckConstraint(name="template_coverage_range",
-                                   condition=Q(coverage_percent__isnull=True)
-                                   | (Q(coverage_percent__gte=0) & Q(coverage_percent__lte=100))),
+            models.CheckConstraint(
+                name="template_area_positive", condition=Q(slide_area_cm2__gt=0)
+            ),
+            models.CheckConstraint(
+                name="template_suspension_volume_positive",
+                condition=Q(suspension_volume_uL__isnull=True) | Q(suspension_volume_uL__gt=0),
+            ),
+            models.CheckConstraint(
+                name="template_excess_factor_at_least_one",
+                condition=Q(suspension_excess_factor__isnull=True)
+                | Q(suspension_excess_factor__gte=1),
+            ),
+            models.CheckConstraint(
+                name="template_coverage_range",
+                condition=Q(coverage_percent__isnull=True)
+                | (Q(coverage_percent__gte=0) & Q(coverage_percent__lte=100)),
+            ),
         ]
 
 
@@ -180,9 +187,12 @@ class LinkerLayer(CodedRecord):
 
     class Meta:
         constraints = [
-            models.CheckConstraint(name="linker_concentration_positive",
-                                   condition=Q(concentration_mM__gt=0)),
-            models.CheckConstraint(name="linker_immersion_positive", condition=Q(immersion_h__gt=0)),
+            models.CheckConstraint(
+                name="linker_concentration_positive", condition=Q(concentration_mM__gt=0)
+            ),
+            models.CheckConstraint(
+                name="linker_immersion_positive", condition=Q(immersion_h__gt=0)
+            ),
         ]
 
 

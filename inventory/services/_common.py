@@ -95,8 +95,11 @@ def _check_substrates_usable(substrates: Sequence[Substrate], *, role: str, on_d
     for substrate in substrates:
         check_usable(substrate, role=role, on_date=on_date, field=field)
         if on_date < substrate.made_on:
-            raise refusal("made_on", f"{substrate.code} was made on "
-                                              f"{substrate.made_on.isoformat()}, after this step.", "date_order")
+            raise refusal(
+                "made_on",
+                f"{substrate.code} was made on {substrate.made_on.isoformat()}, after this step.",
+                "date_order",
+            )
 
 
 # Instrument exports the readers understand: text tables and JCAMP-DX (IUPAC).

@@ -141,8 +141,12 @@ def deposition_run_record(
     if template is not None:
         check_usable(template, role="the template", on_date=made_on, field="template")
         if template.status != Status.RELEASED:
-            raise refusal("template", f"{template.code} is {template.status}; release "
-                                               "the template before plating through it.", "template_not_released")
+            raise refusal(
+                "template",
+                f"{template.code} is {template.status}; release "
+                "the template before plating through it.",
+                "template_not_released",
+            )
         if made_on < template.made_on:
             raise refusal("made_on", "A run cannot be made before its template.", "date_order")
         inputs.append((template, "template"))
@@ -221,7 +225,9 @@ def linker_layer_apply(
     _check_substrates_usable(substrates, role="a linker substrate", on_date=made_on)
     for substrate in substrates:
         if substrate.stage == Substrate.Stage.PARTICLES:
-            raise refusal("substrates", f"{substrate.code} already carries particles.", "wrong_stage")
+            raise refusal(
+                "substrates", f"{substrate.code} already carries particles.", "wrong_stage"
+            )
     layer = _save_new(LinkerLayer(
         linker_lot=linker_lot, solvent_lot=solvent_lot, concentration_mM=concentration_mM,
         immersion_h=immersion_h, made_on=made_on, notes=notes,
@@ -269,11 +275,16 @@ def particle_attach(*, actor: User | None, substrate: Substrate, batch: Nanopart
     _check_substrates_usable([substrate], role="a substrate for particles", on_date=made_on,
                              field="substrate")
     if substrate.stage != Substrate.Stage.LINKER:
-        raise refusal("substrate", f"{substrate.code} has no linker layer yet "
-                                            f"(stage: {substrate.get_stage_display()}).", "wrong_stage")
+        raise refusal(
+            "substrate",
+            f"{substrate.code} has no linker layer yet (stage: {substrate.get_stage_display()}).",
+            "wrong_stage",
+        )
     check_usable(batch, role="the colloid", on_date=made_on, field="batch")
     if made_on < batch.made_on:
-        raise refusal("made_on", "Particles cannot be bound before the colloid was made.", "date_order")
+        raise refusal(
+            "made_on", "Particles cannot be bound before the colloid was made.", "date_order"
+        )
     attachment = _save_new(ParticleAttachment(
         substrate=substrate, batch=batch, immersion_min=immersion_min, made_on=made_on,
         notes=notes,

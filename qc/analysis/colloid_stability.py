@@ -123,7 +123,9 @@ def colloid_snapshot(
         wavelength_nm, absorbance, dilution_factor=dilution_factor,
         path_length_cm=path_length_cm, **band_options,
     )
-    scaled = to_undiluted_1cm(absorbance, dilution_factor=dilution_factor, path_length_cm=path_length_cm)
+    scaled = to_undiluted_1cm(
+        absorbance, dilution_factor=dilution_factor, path_length_cm=path_length_cm
+    )
     index = aggregation_index(
         wavelength_nm, scaled, band.peak_absorbance_1cm, band_nm=AGGREGATION_BAND_NM[metal]
     )

@@ -38,7 +38,9 @@ CONCENTRATION_RANGE_NM = (5.0, 80.0)
 _CITATION = "Haiss, Thanh, Aveyard & Fernig, Anal. Chem. 79, 4215 (2007)"
 
 
-def diameter_from_ratio(ratio_spr_450: float, *, parameters: str = "experimental") -> CalibratedValue:
+def diameter_from_ratio(
+    ratio_spr_450: float, *, parameters: str = "experimental"
+) -> CalibratedValue:
     """Gold diameter from the ratio of plasmon-peak to 450 nm absorbance.
 
     d = exp(B1·A_spr/A_450 − B2), d in nm.
@@ -109,7 +111,10 @@ def diameter_from_peak(peak_nm: float) -> CalibratedValue:
     Haiss et al., Anal. Chem. 79, 4215–4221 (2007).
     """
     peak = require_positive(peak_nm, field="peak_nm")
-    method = f"{_CITATION}, peak position, λ = {PEAK_LAMBDA0_NM:g} + {PEAK_L1_NM}·exp({PEAK_L2_PER_NM}·d)"
+    method = (
+        f"{_CITATION}, peak position, "
+        f"λ = {PEAK_LAMBDA0_NM:g} + {PEAK_L1_NM}·exp({PEAK_L2_PER_NM}·d)"
+    )
     excess = peak - PEAK_LAMBDA0_NM
     floor = PEAK_L1_NM * np.exp(PEAK_L2_PER_NM * PEAK_MIN_NM)
     if excess <= floor:

@@ -741,7 +741,7 @@ def write_jcamp(
     ]
     if not _is_equally_spaced(x):
         body = ["##XYPOINTS=(XY..XY)"] + [
-            f"{_x_text(a)}, {_x_text(b)}" for a, b in zip(x, y_scaled)
+            f"{_x_text(a)}, {_x_text(b)}" for a, b in zip(x, y_scaled, strict=True)
         ]
     else:
         header.insert(-2, f"##DELTAX={_x_text((x[-1] - x[0]) / (x.size - 1))}")

@@ -35,7 +35,7 @@ _JCAMP_SUFFIXES = (".jdx", ".dx", ".jcamp", ".jcm")
 
 
 def decode_text(data: str | bytes) -> str:
-    """Return file contents as text: UTF-16 if it has that byte-order mark, else UTF-8, else latin-1."""
+    """Return file contents as text: UTF-16 with its byte-order mark, else UTF-8, else latin-1."""
     if isinstance(data, str):
         return data
     if not isinstance(data, (bytes, bytearray, memoryview)):
@@ -136,11 +136,11 @@ def _parse_block(
         block = np.loadtxt(
             rows, delimiter=delimiter, comments=None, ndmin=2, dtype=float
         )
-    except ValueError:
+    except ValueError as error:
         _explain_parse_failure(rows, numbers, delimiter, n_columns)
         raise AnalysisInputError(
             "the data could not be read as numbers", line=numbers[0]
-        )
+        ) from error
     if n_columns is not None and block.shape[1] != n_columns:
         _explain_parse_failure(rows, numbers, delimiter, n_columns)
     bad = ~np.isfinite(block)
@@ -156,7 +156,7 @@ def _parse_block(
 def _explain_parse_failure(rows, numbers, delimiter, n_columns) -> None:
     """Find the first line that breaks the block and raise an error naming it."""
     expected = n_columns
-    for text, number in zip(rows, numbers):
+    for text, number in zip(rows, numbers, strict=True):
         cells = _split(text, delimiter)
         if expected is None:
             expected = len(cells)

@@ -194,7 +194,7 @@ class RamanMap:
         )
 
     def grid_axes(self) -> tuple[np.ndarray, np.ndarray]:
-        """Return the distinct x and y positions (µm), ascending: the image's column and row axes."""
+        """Return the distinct x and y positions (µm), ascending: the image's column, row axes."""
         return np.unique(self.x_um), np.unique(self.y_um)
 
     def image(self, values_per_point) -> np.ndarray:

@@ -229,7 +229,9 @@ def measure_plasmon_band(
     order = np.argsort(axis)
     axis, measured = axis[order], measured[order]
     _check_absorbance_range(axis, measured, linear_limit, negative_tolerance)
-    values = to_undiluted_1cm(measured, dilution_factor=dilution_factor, path_length_cm=path_length_cm)
+    values = to_undiluted_1cm(
+        measured, dilution_factor=dilution_factor, path_length_cm=path_length_cm
+    )
     peak_nm, peak_a = _fit_peak(axis, values, search_window_nm, fit_half_width_nm)
     blue, red = _half_max_crossings(axis, values, peak_nm, peak_a)
     a450 = _absorbance_at(axis, values, 450.0)
@@ -237,7 +239,9 @@ def measure_plasmon_band(
         raise AnalysisInputError("absorbance at 450 nm is not positive", field="absorbance")
     half_blue = None if blue is None else peak_nm - blue
     half_red = None if red is None else red - peak_nm
-    missing = [side for side, x in (("short-wavelength", blue), ("long-wavelength", red)) if x is None]
+    missing = [
+        side for side, x in (("short-wavelength", blue), ("long-wavelength", red)) if x is None
+    ]
     note = (
         f"the {' and '.join(missing)} side does not fall to half maximum inside the data"
         if missing

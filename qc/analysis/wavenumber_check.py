@@ -109,7 +109,7 @@ def compare_band_positions(
     offsets = measured - reference
     bands = tuple(
         BandOffset(float(r), float(m), float(o), float(e), bool(abs(o) <= tolerance))
-        for r, m, o, e in zip(reference, measured, offsets, errors)
+        for r, m, o, e in zip(reference, measured, offsets, errors, strict=True)
     )
     return AxisCheck(
         bands=bands,

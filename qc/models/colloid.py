@@ -41,15 +41,22 @@ class ColloidLimitSet(StampedRecord):
 
     class Meta:
         constraints = [
-            models.CheckConstraint(name="colloid_peak_window_ordered",
-                                   condition=Q(peak_min_nm__gt=0) & Q(peak_min_nm__lt=F("peak_max_nm"))),
-            models.CheckConstraint(name="colloid_limits_positive",
-                                   condition=Q(fwhm_max_nm__gt=0) & Q(peak_shift_max_nm__gt=0)
-                                   & Q(aggregation_index_max__gt=0)
-                                   & Q(size_tolerance_percent__gt=0)),
-            models.CheckConstraint(name="colloid_loss_fraction_range",
-                                   condition=Q(absorbance_loss_max_fraction__gt=0)
-                                   & Q(absorbance_loss_max_fraction__lte=1)),
+            models.CheckConstraint(
+                name="colloid_peak_window_ordered",
+                condition=Q(peak_min_nm__gt=0) & Q(peak_min_nm__lt=F("peak_max_nm")),
+            ),
+            models.CheckConstraint(
+                name="colloid_limits_positive",
+                condition=Q(fwhm_max_nm__gt=0)
+                & Q(peak_shift_max_nm__gt=0)
+                & Q(aggregation_index_max__gt=0)
+                & Q(size_tolerance_percent__gt=0),
+            ),
+            models.CheckConstraint(
+                name="colloid_loss_fraction_range",
+                condition=Q(absorbance_loss_max_fraction__gt=0)
+                & Q(absorbance_loss_max_fraction__lte=1),
+            ),
         ]
 
     def __str__(self) -> str:
@@ -172,9 +179,12 @@ class UvVisRecord(CodedRecord):
     class Meta:
         ordering = ["batch", "measured_on", "id"]
         constraints = [
-            models.UniqueConstraint(fields=["batch", "raw_sha256"], name="uvvis_file_once_per_batch"),
-            models.CheckConstraint(name="uvvis_dilution_at_least_one",
-                                   condition=Q(dilution_factor__gte=1)),
+            models.UniqueConstraint(
+                fields=["batch", "raw_sha256"], name="uvvis_file_once_per_batch"
+            ),
+            models.CheckConstraint(
+                name="uvvis_dilution_at_least_one", condition=Q(dilution_factor__gte=1)
+            ),
             models.CheckConstraint(name="uvvis_path_positive", condition=Q(path_length_cm__gt=0)),
             models.CheckConstraint(name="uvvis_age_non_negative", condition=Q(age_days__gte=0)),
         ]

@@ -181,7 +181,8 @@ class QcMeasurement(_Acquisition, CodedRecord):
     ``product_kind`` is the substrate's stage when measured: QC of a bare film says nothing
     about the same piece after particles are bound.  ``point_values`` keeps, for a map, the
     stage positions (µm) and the normalised band height of every point (counts/(mW·s)),
-    and for a full grid the heat-map image (rows = ascending y) with its axes; ``ef_inputs`` keeps every input of the enhancement factor as used;
+    and for a full grid the heat-map image (rows = ascending y) with its axes; ``ef_inputs``
+    keeps every input of the enhancement factor as used;
     ``limits_used`` the limits as they were when judged; ``failure_reasons`` why it failed.
     """
 

@@ -57,7 +57,10 @@ from ..models.colloid import (
 )
 
 __all__ = [
-    "UvVisImport", "colloid_limit_set_set", "silver_calibration_active", "silver_calibration_record",
+    "UvVisImport",
+    "colloid_limit_set_set",
+    "silver_calibration_active",
+    "silver_calibration_record",
     "uvvis_record_import",
 ]
 
@@ -127,7 +130,7 @@ def silver_calibration_record(
             raise AnalysisInputError("give at least 3 rows of peak_nm, diameter_nm, "
                                      "extinction_M1cm1", field="rows")
         rows = [[float(value) for value in row] for row in rows]
-        silver_calibration.CalibrationTable(*(tuple(column) for column in zip(*rows)),
+        silver_calibration.CalibrationTable(*(tuple(column) for column in zip(*rows, strict=True)),
                                             provenance=provenance)
     except AnalysisInputError as error:
         field = "provenance" if error.field == "provenance" else "rows"
@@ -146,12 +149,14 @@ def silver_calibration_record(
     return table
 
 
-def silver_calibration_active() -> tuple[silver_calibration.CalibrationTable, SilverCalibration | None]:
+def silver_calibration_active() -> tuple[
+    silver_calibration.CalibrationTable, SilverCalibration | None
+]:
     """The table silver imports use: the lab's active one, else the built-in Mie table."""
     stored = SilverCalibration.objects.filter(is_active=True).first()
     if stored is None:
         return silver_calibration.silver_table_from_mie(), None
-    peak, diameter, extinction = (tuple(column) for column in zip(*stored.rows))
+    peak, diameter, extinction = (tuple(column) for column in zip(*stored.rows, strict=True))
     return silver_calibration.CalibrationTable(peak, diameter, extinction,
                                                provenance=stored.provenance), stored
 
@@ -189,7 +194,9 @@ def uvvis_record_import(
                          path_length_cm=path_length_cm, raw_file_name=filename,
                          raw_sha256=digest, notes=notes,
                          age_days=(measured_on - batch.made_on).days)
-    snapshot, absorbance_1cm, wavelength_nm = _measure(record, batch.metal, filename, content, blank)
+    snapshot, absorbance_1cm, wavelength_nm = _measure(
+        record, batch.metal, filename, content, blank
+    )
     _store_band(record, snapshot)
     calibration_diameter = _store_calibration(record, batch.metal, snapshot.band)
     _store_mie(record, batch.metal, wavelength_nm, absorbance_1cm, calibration_diameter)
@@ -242,7 +249,9 @@ def _check_dates(batch: NanoparticleBatch, measured_on: date) -> UvVisRecord | N
     return first
 
 
-def _analysis_refusal(error: AnalysisInputError, *, file_field: str, filename: str) -> ValidationError:
+def _analysis_refusal(
+    error: AnalysisInputError, *, file_field: str, filename: str
+) -> ValidationError:
     """AnalysisInputError → ValidationError keyed by the file (with its line) or the parameter."""
     if error.field in _PARAMETER_FIELDS:
         return refusal(error.field, error.message, "bad_value")
@@ -272,7 +281,9 @@ def _measure(record: UvVisRecord, metal: str, filename: str, content: bytes,
     if blank is not None:
         blank_spectrum = _read(blank[0], blank[1], file_field="blank_file")
         try:
-            absorbance = subtract_blank(wavelength_nm, absorbance, blank_spectrum.x, blank_spectrum.y)
+            absorbance = subtract_blank(
+                wavelength_nm, absorbance, blank_spectrum.x, blank_spectrum.y
+            )
         except AnalysisInputError as error:
             field = "blank_file" if error.field and error.field.startswith("blank") else "raw_file"
             name = blank[0] if field == "blank_file" else filename
@@ -369,7 +380,9 @@ def _store_mie(record: UvVisRecord, metal: str, wavelength_nm, absorbance_1cm,
         fit = fit_lognormal_mie(wavelength_nm, absorbance_1cm, metal, fit_range_nm=MIE_FIT_RANGE_NM,
                                 initial_diameter_nm=calibration_diameter_nm or 30.0)
     except AnalysisInputError as error:
-        raise _analysis_refusal(error, file_field="raw_file", filename=record.raw_file_name) from None
+        raise _analysis_refusal(
+            error, file_field="raw_file", filename=record.raw_file_name
+        ) from None
     record.mie_median_diameter_nm = fit.median_diameter_nm
     record.mie_geometric_sigma = fit.geometric_sigma
     record.mie_number_per_mL = fit.number_per_mL

@@ -29,7 +29,9 @@ CACHES = {"default": {"BACKEND": "django.core.cache.backends.filebased.FileBased
 SECRET_KEY = _required_environment("SECRET_KEY")
 ALLOWED_HOSTS = [h.strip() for h in _required_environment("ALLOWED_HOSTS").split(",") if h.strip()]
 CSRF_TRUSTED_ORIGINS = [
-    origin.strip() for origin in os.environ.get("CSRF_TRUSTED_ORIGINS", "").split(",") if origin.strip()
+    origin.strip()
+    for origin in os.environ.get("CSRF_TRUSTED_ORIGINS", "").split(",")
+    if origin.strip()
 ]
 
 SESSION_COOKIE_SECURE = True

@@ -20,7 +20,9 @@ def lorentzian(centre_nm, fwhm_nm, height):
 def snapshots(batch, metal, days, dilution):
     result = []
     for day in days:
-        wl, a = np.loadtxt(FIXTURES / f"{batch}_day{day:02d}.csv", delimiter=",", skiprows=2, unpack=True)
+        wl, a = np.loadtxt(
+            FIXTURES / f"{batch}_day{day:02d}.csv", delimiter=",", skiprows=2, unpack=True
+        )
         result.append(cs.colloid_snapshot(wl, a, metal=metal, day=day, dilution_factor=dilution))
     return result
 
@@ -69,7 +71,9 @@ def test_gold_fixture_uses_red_half_width_when_fwhm_undefined():
 
 def test_bad_input_raises():
     with pytest.raises(AnalysisInputError):
-        cs.compare_with_first([cs.colloid_snapshot(WL, lorentzian(400, 30, 1.0), metal="Ag", day=0)])
+        cs.compare_with_first(
+            [cs.colloid_snapshot(WL, lorentzian(400, 30, 1.0), metal="Ag", day=0)]
+        )
     with pytest.raises(AnalysisInputError):
         cs.colloid_snapshot(WL, lorentzian(400, 30, 1.0), metal="Cu", day=0)
     with pytest.raises(AnalysisInputError):

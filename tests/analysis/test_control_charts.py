@@ -12,10 +12,10 @@ def test_constants_match_spc_tables_and_theory():
     # Standard SPC tables (Montgomery, Appendix VI; REFERENCES "Control charts"):
     assert cc.D2_SPAN2 == 1.128 and cc.D4_SPAN2 == 3.267 and cc.D3_SPAN2 == 0.0
     # Theory: for n = 2, d2 = E|X1 − X2|/σ = 2/√π = 1.1284 (exact).
-    assert cc.D2_SPAN2 == pytest.approx(2 / np.sqrt(np.pi), abs=5e-4)
+    assert pytest.approx(2 / np.sqrt(np.pi), abs=5e-4) == cc.D2_SPAN2
     # D4 = 1 + 3·d3/d2 with d3 = √(2 − 4/π) for n = 2 (SD of |X1 − X2|/σ, exact).
     d3 = np.sqrt(2 - 4 / np.pi)
-    assert cc.D4_SPAN2 == pytest.approx(1 + 3 * d3 / (2 / np.sqrt(np.pi)), abs=5e-4)
+    assert pytest.approx(1 + 3 * d3 / (2 / np.sqrt(np.pi)), abs=5e-4) == cc.D4_SPAN2
 
 
 def test_tiny_chart_by_hand():

@@ -29,7 +29,9 @@ def test_silver_is_drude_like_in_the_red():
 def test_water_dispersion_at_sodium_d_line():
     # Handbook value for water at 20 °C, 589.3 nm: n = 1.3330 (from memory); the Daimon &
     # Masumura fit is allowed 5e-4 (its own stated fit error is smaller; tolerance is ours).
-    assert optical_constants.water_index([589.3], dispersion=True)[0] == pytest.approx(1.3330, abs=5e-4)
+    assert optical_constants.water_index([589.3], dispersion=True)[0] == pytest.approx(
+        1.3330, abs=5e-4
+    )
     assert optical_constants.water_index([589.3])[0] == 1.333  # Haiss et al. (2007)
 
 

@@ -243,14 +243,14 @@ def test_long_and_wide_layouts_agree():
     intensity = rng.integers(0, 1000, (6, 3)).astype(float)
     rows = [
         f"{px},{py},{s},{intensity[p, j]}"
-        for p, (px, py) in enumerate(zip(x.ravel(), y.ravel()))
+        for p, (px, py) in enumerate(zip(x.ravel(), y.ravel(), strict=True))
         for j, s in enumerate(shift)
     ]
     shuffled = [rows[i] for i in rng.permutation(len(rows))]
     long_map = read_map_long("x,y,shift,intensity\n" + "\n".join(shuffled))
     wide_text = "x,y,100,150,200\n" + "\n".join(
         f"{px},{py}," + ",".join(str(v) for v in intensity[p])
-        for p, (px, py) in enumerate(zip(x.ravel(), y.ravel()))
+        for p, (px, py) in enumerate(zip(x.ravel(), y.ravel(), strict=True))
     )
     wide_map = read_map_wide(wide_text)
     for raman_map in (long_map, wide_map):

@@ -52,10 +52,34 @@ def test_mie_table_is_plausible():
 @pytest.mark.parametrize(
     "kwargs, field",
     [
-        ({"peak_nm": (400, 395, 410), "diameter_nm": (30, 40, 50), "extinction_M1cm1": (1, 2, 3)}, "peak_nm"),
-        ({"peak_nm": (395, 400, 410), "diameter_nm": (30, 30, 50), "extinction_M1cm1": (1, 2, 3)}, "diameter_nm"),
-        ({"peak_nm": (395, 400, 410), "diameter_nm": (30, 40), "extinction_M1cm1": (1, 2, 3)}, "diameter_nm"),
-        ({"peak_nm": (395, 400, 410), "diameter_nm": (30, 40, 50), "extinction_M1cm1": (1, -2, 3)}, "extinction_M1cm1"),
+        (
+            {
+                "peak_nm": (400, 395, 410),
+                "diameter_nm": (30, 40, 50),
+                "extinction_M1cm1": (1, 2, 3),
+            },
+            "peak_nm",
+        ),
+        (
+            {
+                "peak_nm": (395, 400, 410),
+                "diameter_nm": (30, 30, 50),
+                "extinction_M1cm1": (1, 2, 3),
+            },
+            "diameter_nm",
+        ),
+        (
+            {"peak_nm": (395, 400, 410), "diameter_nm": (30, 40), "extinction_M1cm1": (1, 2, 3)},
+            "diameter_nm",
+        ),
+        (
+            {
+                "peak_nm": (395, 400, 410),
+                "diameter_nm": (30, 40, 50),
+                "extinction_M1cm1": (1, -2, 3),
+            },
+            "extinction_M1cm1",
+        ),
     ],
 )
 def test_bad_tables_are_refused(kwargs, field):

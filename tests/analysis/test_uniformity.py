@@ -34,7 +34,7 @@ def test_anova_matches_scipy_f_oneway_and_planted_components():
     substrate_means = 1000 + rng.normal(0, 50, 8)  # planted between σ 50
     groups = [
         m + rng.normal(0, 100, n)
-        for m, n in zip(substrate_means, [100, 90, 100, 80, 100, 100, 95, 100])
+        for m, n in zip(substrate_means, [100, 90, 100, 80, 100, 100, 95, 100], strict=True)
     ]
     result = batch_reproducibility(groups)
     reference = stats.f_oneway(*groups)  # independent one-way ANOVA from scipy

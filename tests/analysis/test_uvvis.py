@@ -51,7 +51,9 @@ def test_blank_interpolated_and_offset_subtracted():
     blank_wl = np.arange(290.0, 811.0, 5.0)
     blank = 0.01 + 1e-5 * blank_wl  # linear blank: linear interpolation is exact
     sample = lorentzian(520, 60, 0.5) + 0.01 + 1e-5 * WL
-    assert uvvis.subtract_blank(WL, sample, blank_wl, blank) == pytest.approx(lorentzian(520, 60, 0.5))
+    assert uvvis.subtract_blank(WL, sample, blank_wl, blank) == pytest.approx(
+        lorentzian(520, 60, 0.5)
+    )
     shifted = uvvis.subtract_offset(WL, np.full(WL.size, 0.03) + 0.0)
     assert shifted == pytest.approx(np.zeros(WL.size))
 

@@ -1,4 +1,6 @@
-"""Release, reject and void through the API call the audit services; history and signatures read back."""
+"""Release, reject and void through the API call the audit services.
+
+History and signatures read back."""
 
 from __future__ import annotations
 

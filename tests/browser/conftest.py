@@ -1,4 +1,4 @@
-"""Real-browser fixtures: Debian's Chromium driven by Playwright against pytest-django's live server.
+"""Real-browser fixtures: Debian's Chromium, driven by Playwright, against the live server.
 
 Never downloads a browser: the Debian package provides /usr/bin/chromium.  In CI (``CI`` set)
 a missing Chromium fails the tests; on a workstation without it they are skipped with the

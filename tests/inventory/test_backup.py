@@ -52,7 +52,9 @@ def test_backup_wipe_restore_round_trip(sqlite_only, tx_chain, tmp_path, setting
 
     call_command("backup", str(tmp_path / "b1"), "--restore")
     assert _state() == before
-    assert hashlib.sha256(stored_path.read_bytes()).hexdigest() == hashlib.sha256(content).hexdigest()
+    assert (
+        hashlib.sha256(stored_path.read_bytes()).hexdigest() == hashlib.sha256(content).hexdigest()
+    )
 
 
 def test_restore_refuses_an_altered_backup(sqlite_only, tx_chain, tmp_path, settings):

@@ -21,7 +21,7 @@ CURRENTS = [-5.0, -4.0, -3.5, -3.25, -3.0]
 
 
 def _table(header: str, separator: str, times=TIMES, currents=CURRENTS) -> str:
-    rows = [f"{t}{separator}{i}" for t, i in zip(times, currents)]
+    rows = [f"{t}{separator}{i}" for t, i in zip(times, currents, strict=True)]
     return "\n".join([header, *rows]) + "\n"
 
 
@@ -77,7 +77,7 @@ def test_keyword_units_allow_a_file_without_header():
 
 def test_columns_found_by_name_among_others():
     text = "Potential (V)\tTime (s)\tCurrent (mA)\n" + "".join(
-        f"-0.7\t{t}\t{i}\n" for t, i in zip(TIMES, CURRENTS)
+        f"-0.7\t{t}\t{i}\n" for t, i in zip(TIMES, CURRENTS, strict=True)
     )
     record = parse_chronoamperogram(text)
     np.testing.assert_allclose(record.time_s, TIMES)
@@ -86,7 +86,7 @@ def test_columns_found_by_name_among_others():
 
 def test_metadata_lines_are_header_and_line_numbers_count_them():
     text = "Run\tdemo\nArea (cm2)\t1.00\nTime (s)\tCurrent (mA)\n" + "".join(
-        f"{t}\t{i}\n" for t, i in zip(TIMES, CURRENTS)
+        f"{t}\t{i}\n" for t, i in zip(TIMES, CURRENTS, strict=True)
     )
     record = parse_chronoamperogram(text)
     assert record.header_lines == ("Run\tdemo", "Area (cm2)\t1.00", "Time (s)\tCurrent (mA)")

@@ -350,7 +350,7 @@ def test_graded_charge_is_conserved_and_heights_follow_template():
     assert np.sum(areas * result.charge_density_C_cm2) == pytest.approx(total, rel=1e-10)
     assert np.all(np.diff(result.height_over_diameter) > 0)  # later withdrawal, thicker film
     # Each zone's height is that of a single run with the zone's charge density on 1 cm².
-    for density, height in zip(result.charge_density_C_cm2, result.film_height_nm):
+    for density, height in zip(result.charge_density_C_cm2, result.film_height_nm, strict=True):
         t, i = _constant_run(density)
         single = analyse_deposition(
             time_s=t, current_A=i, electrode_area_cm2=1.0, sphere_diameter_nm=600.0, **GOLD

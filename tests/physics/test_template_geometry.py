@@ -28,7 +28,7 @@ def test_sphere_count_times_disc_area_is_hexagonal_packing_fraction(diameter_nm)
 
 def test_area_fraction_constant_is_pi_over_two_root_three():
     # Geometric identity, computed here independently.
-    assert CLOSE_PACKED_AREA_FRACTION == pytest.approx(math.pi / math.sqrt(12.0), rel=1e-15)
+    assert pytest.approx(math.pi / math.sqrt(12.0), rel=1e-15) == CLOSE_PACKED_AREA_FRACTION
 
 
 def test_one_sphere_per_hexagonal_unit_cell():
@@ -105,7 +105,10 @@ def test_typical_densities():
 )
 def test_bad_suspension_inputs_name_the_field(field, value):
     kwargs = {
-        "slide_area_cm2": 1.0, "diameter_nm": 600.0, "solids_percent_w_v": 2.5, "sphere_density_g_cm3": 1.05
+        "slide_area_cm2": 1.0,
+        "diameter_nm": 600.0,
+        "solids_percent_w_v": 2.5,
+        "sphere_density_g_cm3": 1.05,
     }
     kwargs[field] = value
     with pytest.raises(AnalysisInputError) as caught:

@@ -42,7 +42,7 @@ def _columns(name: str) -> tuple[np.ndarray, np.ndarray]:
 
 
 def _text(wavelength, absorbance) -> bytes:
-    rows = "\n".join(f"{w:.6f},{a:.5f}" for w, a in zip(wavelength, absorbance))
+    rows = "\n".join(f"{w:.6f},{a:.5f}" for w, a in zip(wavelength, absorbance, strict=True))
     return f"wavelength_nm,absorbance\n{rows}\n".encode()
 
 

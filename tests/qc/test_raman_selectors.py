@@ -30,7 +30,9 @@ def test_latest_qc_is_the_newest_at_the_current_stage(world):
 
 def test_control_chart_of_log10_ef_and_rsd(world):
     substrates = [world.chain.decorated_substrate() for _ in range(4)]
-    for days_ago, (substrate, rsd) in zip((4, 3, 2, 1), zip(substrates, (0.05, 0.1, 0.08, 0.12))):
+    for days_ago, (substrate, rsd) in zip(
+        (4, 3, 2, 1), zip(substrates, (0.05, 0.1, 0.08, 0.12), strict=True), strict=True
+    ):
         world.measure(substrate, map_file(map_heights(3000, rsd, seed=days_ago)),
                       days_ago=days_ago)
     series = qc_control_chart(product_kind="particles", metric="log10_enhancement_factor")

@@ -54,7 +54,7 @@ def synthetic_counts(heights, *, seed=0, centre=BAND_CM1, noise=20.0):
 def spectrum_file(height, *, seed=0, centre=BAND_CM1) -> bytes:
     counts = synthetic_counts([height], seed=seed, centre=centre)[0]
     lines = ["raman_shift_cm1,intensity_counts"]
-    lines += [f"{x:.1f},{y:.3f}" for x, y in zip(SHIFT_CM1, counts)]
+    lines += [f"{x:.1f},{y:.3f}" for x, y in zip(SHIFT_CM1, counts, strict=True)]
     return ("\n".join(lines) + "\n").encode()
 
 

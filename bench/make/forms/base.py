@@ -121,7 +121,7 @@ class MakeForm(forms.Form):
         self.add_choices()
         if self.field_order:
             self.order_fields(self.field_order)
-        for name, field in self.fields.items():
+        for field in self.fields.values():
             if getattr(field, "defaults_to_today", False):
                 field.initial = self.today
                 field.widget.attrs.setdefault("max", self.today.isoformat())

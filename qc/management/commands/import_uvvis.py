@@ -18,7 +18,9 @@ def _date(text: str) -> date:
     try:
         return date.fromisoformat(text)
     except ValueError:
-        raise CommandError(f"--measured-on must be an ISO 8601 date (YYYY-MM-DD), got '{text}'.")
+        raise CommandError(
+            f"--measured-on must be an ISO 8601 date (YYYY-MM-DD), got '{text}'."
+        ) from None
 
 
 def _messages(error: ValidationError) -> str:
@@ -47,7 +49,7 @@ class Command(BaseCommand):
         try:
             record = record_get(batch)
         except RecordNotFound as error:
-            raise CommandError(str(error))
+            raise CommandError(str(error)) from error
         if not isinstance(record, NanoparticleBatch):
             raise CommandError(f"{record.code} is a {record._meta.verbose_name}, not a "
                                "nanoparticle batch.")
@@ -59,7 +61,7 @@ class Command(BaseCommand):
                 measured_on=measured_on or timezone.localdate(), dilution_factor=dilution,
                 path_length_cm=path_cm, blank=blank_file)
         except ValidationError as error:
-            raise CommandError(f"Refused, nothing saved. {_messages(error)}")
+            raise CommandError(f"Refused, nothing saved. {_messages(error)}") from error
         payload = uvvis_import_summary(result)
         if options["json"]:
             self.stdout.write(json.dumps(payload, indent=2))
@@ -70,7 +72,7 @@ class Command(BaseCommand):
         try:
             return Path(path).read_bytes()
         except OSError as error:
-            raise CommandError(f"Cannot read {path}: {error.strerror}.")
+            raise CommandError(f"Cannot read {path}: {error.strerror}.") from error
 
     def _print(self, p: dict) -> None:
         head = "already imported as" if p["duplicate"] else "stored as"
@@ -80,7 +82,11 @@ class Command(BaseCommand):
         self.stdout.write(f"  peak {p['peak_nm']:.1f} nm, A(1 cm, undiluted) "
                           f"{p['peak_absorbance_1cm']:.3f}, FWHM {fwhm}, "
                           f"aggregation index {p['aggregation_index']:.4f}")
-        size = "n/a" if p["diameter_nm"] is None else f"{p['diameter_nm']:.1f} nm ({p['diameter_method']})"
+        size = (
+            "n/a"
+            if p["diameter_nm"] is None
+            else f"{p['diameter_nm']:.1f} nm ({p['diameter_method']})"
+        )
         self.stdout.write(f"  size {size}; Mie {p['mie_median_diameter_nm']:.1f} nm, "
                           f"sigma_g {p['mie_geometric_sigma']:.3f}")
         if p["number_per_mL"] is not None:
