@@ -14,6 +14,8 @@ Layouts understood (common practice for instrument text exports; no single stand
 * maps "wide": a header row ``x, y, shift₁, shift₂, …`` then one row per point;
 * maps "long": rows ``x, y, shift, intensity`` (optionally after a header row), every
   point carrying the same set of shifts, in any row order.
+
+:func:`read_spectrum_or_map` tells a map from a spectrum by its first data row.
 """
 
 from __future__ import annotations
@@ -449,3 +451,23 @@ def read_map(data: str | bytes) -> RamanMap:
         "columns x, y, shift, intensity (long)",
         line=number,
     )
+
+
+def looks_like_map(text: str, filename: str | None = None) -> bool:
+    """Whether text holds a map: x, y and at least two more columns on its first data row.
+
+    JCAMP-DX (by its ``##`` labels or its file name) and two-column text are spectra.
+    """
+    first = next((line.strip() for line in text.splitlines()
+                  if line.strip() and not line.lstrip().startswith("#")), "")
+    if first.startswith("##") or str(filename or "").lower().endswith(_JCAMP_SUFFIXES):
+        return False
+    return len([c for c in re.split(r"[,;\t]|\s+", first) if c]) >= 4
+
+
+def read_spectrum_or_map(data: str | bytes, filename: str | None = None) -> Spectrum | RamanMap:
+    """Read a Raman file that may be one spectrum or a map (:func:`looks_like_map`)."""
+    text = decode_text(data)
+    if looks_like_map(text, filename):
+        return read_map(text)
+    return read_spectrum(text, filename)

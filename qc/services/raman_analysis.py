@@ -1,0 +1,157 @@
+"""From an uploaded Raman file to the figures a measurement stores (no database writes).
+
+Reading is ``qc.analysis.readers``, the numbers ``qc.analysis.qc_pipeline``; this module
+checks the upload, translates a science error into the project's refusal (keyed by our
+parameter, or by ``raw_file`` with the 1-based line) and names the results as the models do.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from inventory.errors import refusal
+from inventory.services.toolkit import check_upload
+from qc.analysis import qc_pipeline
+from qc.analysis.errors import AnalysisInputError
+from qc.analysis.readers import read_spectrum_or_map
+from qc.analysis.spectrum import RamanMap, Spectrum
+
+FILE_FIELD = "raw_file"
+# Parameters a science function may name; anything else it names is inside the file.
+_PARAMETERS = {"laser_nm", "power_mW", "integration_s", "accumulations",
+               "surface_density_per_nm2", "surface_area_factor",
+               "concentration_mol_L", "effective_height_um", "effective_area_um2"}
+# Science-side parameter names that mean one of ours.
+_RENAMED = {"molecule_density_per_nm2": "surface_density_per_nm2",
+            "concentration_M": "concentration_mol_L", "spot_area_um2": "effective_area_um2"}
+_RAMAN_SHIFT_UNITS = ("1/cm", "cm-1", "cm^-1")
+
+
+def as_validation_error(error: AnalysisInputError):
+    """A science error as a refusal: keyed by our parameter, or by the file with its line."""
+    field = _RENAMED.get(error.field or "", error.field)
+    if field in _PARAMETERS and error.line is None:
+        return refusal(field, error.message, "invalid_value")
+    where = f"line {error.line}: " if error.line is not None else ""
+    return refusal(FILE_FIELD, f"{where}{error.message}", "bad_file")
+
+
+def read_upload(content: bytes, filename: str) -> Spectrum | RamanMap:
+    """The spectrum or map in an upload, refused with the line at fault when unreadable."""
+    check_upload(content, field=FILE_FIELD, filename=filename)
+    if not content or not content.strip():
+        raise refusal(FILE_FIELD, "The file is empty.", "empty_file")
+    try:
+        data = read_spectrum_or_map(content, filename)
+    except AnalysisInputError as error:
+        raise as_validation_error(error) from None
+    if isinstance(data, Spectrum) and data.x_unit not in _RAMAN_SHIFT_UNITS:
+        raise refusal(FILE_FIELD, f"The spectrum axis is in '{data.x_unit}'; QC needs Raman "
+                                  "shift in cm⁻¹.", "wrong_axis_unit")
+    return data
+
+
+def relative_u(u: float, value: float) -> float:
+    """Relative standard error of a fitted height (0 when it cannot be estimated)."""
+    return u / value if value > 0 and math.isfinite(u) else 0.0
+
+
+@dataclass(frozen=True)
+class MeasuredBand:
+    """What the pipeline gave, in the names the models use (counts/(mW·s) throughout)."""
+
+    band_position_cm1: float
+    band_fwhm_cm1: float
+    normalised_height_counts_per_mW_s: float
+    normalised_height_u_counts_per_mW_s: float
+    normalised_area_counts_cm1_per_mW_s: float
+    snr: float
+    spikes_removed: int
+    n_points: int = 1
+    median_height_counts_per_mW_s: float | None = None
+    rsd_percent: float | None = None
+    fraction_within_20_percent: float | None = None
+    point_values: dict | None = None
+    map_nx: int | None = None
+    map_ny: int | None = None
+    map_step_um: float | None = None
+
+    @property
+    def height_rel_u(self) -> float:
+        return relative_u(self.normalised_height_u_counts_per_mW_s,
+                          self.normalised_height_counts_per_mW_s)
+
+    def band_fields(self) -> dict:
+        """The band figures every acquisition stores, as model keyword arguments."""
+        height_u = self.normalised_height_u_counts_per_mW_s
+        return dict(
+            band_position_cm1=self.band_position_cm1, band_fwhm_cm1=self.band_fwhm_cm1,
+            normalised_height_counts_per_mW_s=self.normalised_height_counts_per_mW_s,
+            normalised_height_u_counts_per_mW_s=height_u if math.isfinite(height_u) else None,
+            normalised_area_counts_cm1_per_mW_s=self.normalised_area_counts_cm1_per_mW_s,
+            snr=self.snr, spikes_removed=self.spikes_removed)
+
+    def map_fields(self) -> dict:
+        """The spread over a map (empty figures for one spectrum), as model keyword arguments."""
+        return dict(n_points=self.n_points,
+                    median_height_counts_per_mW_s=self.median_height_counts_per_mW_s,
+                    rsd_percent=self.rsd_percent,
+                    fraction_within_20_percent=self.fraction_within_20_percent,
+                    point_values=self.point_values, map_nx=self.map_nx, map_ny=self.map_ny,
+                    map_step_um=self.map_step_um)
+
+
+def analyse(data: Spectrum | RamanMap, *, band_center_cm1: float, band_window_cm1: float,
+            power_mW: float, integration_s: float, accumulations: int) -> MeasuredBand:
+    """Run the QC pipeline on a spectrum or a map; a science error becomes a refusal."""
+    settings = dict(band_center_cm1=band_center_cm1, band_window_cm1=band_window_cm1,
+                    power_mW=power_mW, integration_s=integration_s,
+                    accumulations=accumulations)
+    try:
+        if isinstance(data, RamanMap):
+            result = qc_pipeline.analyse_qc_map(data.shift_cm1, data.intensity, **settings)
+            return _map_band(result, data)
+        result = qc_pipeline.analyse_qc_spectrum(data.x, data.y, **settings)
+        return _band(result.band, spikes_removed=result.spikes_removed)
+    except AnalysisInputError as error:
+        raise as_validation_error(error) from None
+
+
+def _band(band, *, spikes_removed: int, **extra) -> MeasuredBand:
+    return MeasuredBand(
+        band_position_cm1=float(band.position_cm1), band_fwhm_cm1=float(band.fwhm_cm1),
+        normalised_height_counts_per_mW_s=float(band.height),
+        normalised_height_u_counts_per_mW_s=float(band.height_se),
+        normalised_area_counts_cm1_per_mW_s=float(band.area), snr=float(band.snr),
+        spikes_removed=int(spikes_removed), **extra)
+
+
+def _map_step_um(raman_map: RamanMap) -> float | None:
+    """The grid pitch: the median spacing of the distinct stage positions."""
+    xs, ys = raman_map.grid_axes()
+    steps = np.concatenate([np.diff(xs), np.diff(ys)])
+    return float(np.median(steps)) if steps.size else None
+
+
+def _map_band(result, raman_map: RamanMap) -> MeasuredBand:
+    """Map figures: headline band from the mean spectrum, spread from the per-point heights."""
+    heights = np.asarray(result.height_per_point)
+    point_values = {"x_um": raman_map.x_um.tolist(), "y_um": raman_map.y_um.tolist(),
+                    "normalised_height_counts_per_mW_s": heights.tolist()}
+    nx = ny = step = None
+    if raman_map.grid_shape is not None:
+        ny, nx = (int(n) for n in raman_map.grid_shape)
+        xs, ys = raman_map.grid_axes()
+        point_values["image"] = {"x_um": xs.tolist(), "y_um": ys.tolist(),
+                                 "rows": raman_map.image(heights).tolist()}
+        step = _map_step_um(raman_map)
+    return _band(
+        result.mean_band, spikes_removed=result.spikes_removed,
+        n_points=int(result.n_points),
+        median_height_counts_per_mW_s=float(result.median_height_counts_per_mW_s),
+        rsd_percent=float(result.rsd_percent),
+        fraction_within_20_percent=float(result.fraction_within_tolerance),
+        point_values=point_values, map_nx=nx, map_ny=ny, map_step_um=step)
