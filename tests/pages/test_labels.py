@@ -7,7 +7,7 @@ from urllib.parse import urlsplit
 import segno
 from django.urls import resolve, reverse
 
-from inventory import labels
+from bench import labels
 
 
 def test_label_qr_payload_is_the_record_url_and_an_svg_is_drawn(lab, login, monkeypatch):
