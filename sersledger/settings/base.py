@@ -80,8 +80,13 @@ def database_from_environment(default_sqlite_path: Path) -> dict:
     return {
         "ENGINE": "django.db.backends.sqlite3",
         "NAME": default_sqlite_path,
-        # Wait for a concurrent writer instead of failing at once (SQLite serialises writes).
-        "OPTIONS": {"timeout": 20},
+        # Several people saving at once: SQLite has one writer at a time, and a transaction
+        # that reads before it writes cannot wait for the lock ("database is locked").
+        # BEGIN IMMEDIATE takes the write lock first, so writers queue for up to `timeout`
+        # seconds; write-ahead logging lets pages read while someone writes.
+        # (tests/inventory/test_concurrent_writers.py)
+        "OPTIONS": {"timeout": 20, "transaction_mode": "IMMEDIATE",
+                    "init_command": "PRAGMA journal_mode=WAL;"},
     }
 
 
