@@ -23,3 +23,6 @@ class Command(BaseCommand):
         verb = "Restored" if restore else "Wrote"
         self.stdout.write(f"{verb} {summary.folder}: database {summary.database_bytes} bytes, "
                           f"{summary.files} uploaded files (digests verified).")
+        if summary.left_out:
+            self.stdout.write(f"Left out {len(summary.left_out)} backed-up files that no "
+                              f"record refers to: {', '.join(summary.left_out)}.")
