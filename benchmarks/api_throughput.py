@@ -105,12 +105,12 @@ def endpoints(pages_to_cycle: int, records_to_cycle: int,
     requests cycle through."""
     from django.contrib.auth.models import User
     from django.db import connections
-    from rest_framework.authtoken.models import Token
+    from knox.models import AuthToken
 
     from inventory.models import Substrate
 
     user = User.objects.get(username="bench01")
-    token = Token.objects.get_or_create(user=user)[0].key
+    token = AuthToken.objects.create(user=user)[1]
     codes = list(Substrate.objects.order_by("code").values_list("code", flat=True))
     step = max(1, len(codes) // records_to_cycle)
     sample = codes[::step][:records_to_cycle]

@@ -165,7 +165,7 @@ def operations(chosen: dict) -> dict:
     """Every measured operation: name -> (kind, callable or None when the URL is absent)."""
     from django.contrib.auth.models import User
     from django.core.paginator import Paginator
-    from rest_framework.authtoken.models import Token
+    from knox.models import AuthToken
 
     from inventory.lineage import record_get_ancestors, record_get_descendants
     from inventory.models import Status, Substrate
@@ -174,7 +174,7 @@ def operations(chosen: dict) -> dict:
 
     user = User.objects.get(username="bench01")
     pages = _client(user=user)
-    api = _client(token=Token.objects.get_or_create(user=user)[0].key)
+    api = _client(token=AuthToken.objects.create(user=user)[1])
 
     def released_page(number: int):
         def get():

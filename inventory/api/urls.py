@@ -1,14 +1,15 @@
 """The inventory's API routes; sersledger/api_urls.py puts them on the one router at /api/v1/.
 
 ``ROUTES`` are the record viewsets (registered on the router beside the qc app's);
-``urlpatterns`` are the inventory's fixed paths (token, schema, docs, record reports).
+``urlpatterns`` are the inventory's fixed paths (token, own tokens, schema, docs, record
+reports).
 """
 
-from django.urls import path
+from django.urls import path, re_path
 from drf_spectacular.views import SpectacularAPIView, SpectacularSwaggerView
 
 from . import reports, views
-from .auth import TokenView
+from .auth import OwnTokens, TokenView
 from .docs import docs_asset
 
 ROUTES = [
@@ -29,6 +30,9 @@ ROUTES = [
 
 urlpatterns = [
     path("token/", TokenView.as_view(), name="token"),
+    path("tokens/", OwnTokens.as_view({"get": "list"}), name="tokens-list"),
+    re_path(r"^tokens/(?P<id>[0-9a-f]{1,25}|current)/$",
+            OwnTokens.as_view({"delete": "destroy"}), name="tokens-detail"),
     path("schema/", SpectacularAPIView.as_view(), name="schema"),
     path("docs/", SpectacularSwaggerView.as_view(url_name="api:schema"), name="docs"),
     path("docs/assets/<path:path>", docs_asset, name="docs_asset"),

@@ -6,6 +6,7 @@ module to that database through dj-database-url.
 """
 
 import os
+from datetime import timedelta
 from pathlib import Path
 
 import dj_database_url
@@ -23,7 +24,7 @@ INSTALLED_APPS = [
     "django.contrib.messages",
     "django.contrib.staticfiles",
     "rest_framework",
-    "rest_framework.authtoken",
+    "knox",
     "django_filters",
     "drf_spectacular",
     "simple_history",
@@ -145,7 +146,7 @@ SERSLEDGER_ALLOW_SELF_RELEASE = False
 # The API (inventory/api, qc/api): token for scripts and instruments, session for the browser.
 REST_FRAMEWORK = {
     "DEFAULT_AUTHENTICATION_CLASSES": [
-        "rest_framework.authentication.TokenAuthentication",
+        "inventory.api.authentication.HashedTokenAuthentication",
         "rest_framework.authentication.SessionAuthentication",
     ],
     "DEFAULT_PERMISSION_CLASSES": ["rest_framework.permissions.IsAuthenticated"],
@@ -161,6 +162,10 @@ REST_FRAMEWORK = {
     # One error body everywhere: {"errors": [{"field", "message", "code"}]}.
     "EXCEPTION_HANDLER": "inventory.api.errors.exception_handler",
 }
+
+# API tokens are stored as SHA-512 digests (django-rest-knox) and shown once; each lasts
+# 90 days unless revoked (inventory/api/auth.py).
+REST_KNOX = {"TOKEN_TTL": timedelta(days=90), "AUTH_HEADER_PREFIX": "Token"}
 
 SPECTACULAR_SETTINGS = {
     "TITLE": "sersledger API",

@@ -12,7 +12,7 @@ from pathlib import Path
 
 import pytest
 from django.core.files.uploadedfile import SimpleUploadedFile
-from rest_framework.authtoken.models import Token
+from knox.models import AuthToken
 from rest_framework.test import APIClient
 
 from tests.qc_lab import FIXTURES, MAP_SETTINGS, RAMAN, QcLab  # noqa: F401  (used by the API tests)
@@ -30,8 +30,8 @@ def client_for(user) -> APIClient:
     """A client authenticated the way scripts are: with the user's token."""
     client = APIClient()
     if user is not None:
-        token, _ = Token.objects.get_or_create(user=user)
-        client.credentials(HTTP_AUTHORIZATION=f"Token {token.key}")
+        _stored, token = AuthToken.objects.create(user=user)
+        client.credentials(HTTP_AUTHORIZATION=f"Token {token}")
     return client
 
 

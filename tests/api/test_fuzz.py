@@ -40,9 +40,9 @@ def fuzz_lab(transactional_db, chain, administrator):
 
 @pytest.fixture
 def token(administrator):
-    from rest_framework.authtoken.models import Token
+    from knox.models import AuthToken
 
-    return Token.objects.get_or_create(user=administrator)[0].key
+    return AuthToken.objects.create(user=administrator)[1]
 
 
 def _fuzz(operation, *, base_url: str, token: str) -> None:

@@ -42,7 +42,7 @@ def save_concurrently() -> tuple[list[str], list[str]]:
                                                        kind="solvent",
                                                        received_on=date(2026, 1, 1))
                     codes.append(lot.code)
-                except Exception as error:  # counted, like a 500 would be
+                except Exception as error:  # noqa: BLE001  (counted, as a 500 would be)
                     errors.append(f"{type(error).__name__}: {error}")
         finally:
             connections.close_all()
@@ -75,8 +75,8 @@ def test_sqlite_file_database_lets_concurrent_writers_wait(tmp_path):
     env |= {"DJANGO_SETTINGS_MODULE": "config.settings.test", "TMPDIR": str(tmp_path)}
     run = subprocess.run(
         [sys.executable, "-c",
-         "from tests.inventory.test_concurrent_writers import _sqlite_file_run; "
-         "_sqlite_file_run()"],
+         ("from tests.inventory.test_concurrent_writers import _sqlite_file_run; "
+          "_sqlite_file_run()")],
         capture_output=True, text=True, env=env, cwd=ROOT, timeout=300, check=False)
     assert run.returncode == 0, run.stderr[-3000:]
     counts, *messages = run.stdout.splitlines()
