@@ -18,6 +18,7 @@ from django.http import Http404, HttpResponse
 from django.shortcuts import get_object_or_404, redirect, render
 from django.urls import reverse
 from django.utils import timezone
+from django.utils.http import url_has_allowed_host_and_scheme
 from django.views.decorators.http import require_POST
 
 from bench import page_queries, plots
@@ -189,7 +190,16 @@ def flag_resolve(request, code: str):
             messages.success(request, f"{flag.code} resolved.")
     else:
         messages.error(request, f"{flag.code}: say how the deviation was resolved.")
-    return redirect(request.POST.get("next") or reverse("review"))
+    return redirect(_same_site(request, request.POST.get("next")) or reverse("review"))
+
+
+def _same_site(request, url: str | None) -> str | None:
+    """``url`` if it is a page of this site (an open redirect would lend our name to any
+    address), else None."""
+    if url and url_has_allowed_host_and_scheme(url, allowed_hosts={request.get_host()},
+                                               require_https=request.is_secure()):
+        return url
+    return None
 
 
 # ---------------------------------------------------------------------------------------

@@ -95,3 +95,21 @@ def test_resolve_is_post_only(lab, login):
     flag = Flag.objects.filter(state=Flag.State.OPEN).first()
     client = login(lab, "reviewer")
     assert client.get(reverse("flag_resolve", args=[flag.code])).status_code == 405
+
+
+def test_resolve_redirects_only_to_a_page_of_this_site(lab, login):
+    """``next`` is followed only when it is a path on this host (Django's
+    url_has_allowed_host_and_scheme); anything else falls back to the review queue."""
+    client = login(lab, "reviewer")
+    flags = list(Flag.objects.filter(state=Flag.State.OPEN))
+    assert len(flags) >= 1
+    targets = {"https://elsewhere.example/phish": reverse("review"),
+               "//elsewhere.example/phish": reverse("review"),
+               "/\\elsewhere.example": reverse("review"),
+               "javascript:alert(1)": reverse("review"),
+               reverse("record", args=[lab.failed.code]): reverse("record",
+                                                                 args=[lab.failed.code])}
+    for next_url, expected in targets.items():
+        response = client.post(reverse("flag_resolve", args=[flags[0].code]),
+                               {"resolution": "", "next": next_url})
+        assert response.status_code == 302 and response["Location"] == expected, next_url
