@@ -8,7 +8,7 @@ import json
 
 import pytest
 from django.core.exceptions import PermissionDenied, ValidationError
-from django.db import DatabaseError, transaction
+from django.db import DatabaseError, connection, transaction
 
 from inventory.models import Signature, Status
 from inventory.selectors import record_get_signatures
@@ -112,3 +112,24 @@ def test_signatures_cannot_be_changed_or_deleted(chain, reviewer):
     # The database trigger refuses the row update itself (migration 0003).
     with pytest.raises(DatabaseError), transaction.atomic():
         signature.save()
+
+
+@pytest.mark.postgres_only
+def test_the_signature_table_cannot_be_truncated_on_postgresql(transactional_db, maker,
+                                                               reviewer, today):
+    """TRUNCATE skips row triggers, so a statement trigger refuses it (migration 0006).  The
+    test settings let the test runner's own flush through with a session setting; a session
+    without it, like every production one, is refused."""
+    if connection.vendor != "postgresql":
+        pytest.skip("SQLite has no TRUNCATE")
+    from tests.conftest import ChainBuilder
+
+    lot = ChainBuilder(maker, reviewer, today).lot(release=False)
+    record_release(actor=reviewer, record=lot, signature=_signed("reviewer"))
+    for statement in ("TRUNCATE inventory_signature",
+                      "TRUNCATE inventory_signature RESTART IDENTITY CASCADE"):
+        with pytest.raises(DatabaseError, match="immutable"), transaction.atomic(), \
+                connection.cursor() as cursor:
+            cursor.execute("SET LOCAL sersledger.allow_signature_truncate = ''")
+            cursor.execute(statement)
+    assert Signature.objects.filter(record_code=lot.code).count() == 1
