@@ -29,6 +29,8 @@ from rest_framework.parsers import JSONParser
 from rest_framework.response import Response
 from rest_framework.views import APIView
 
+from inventory.signin import lockout_response
+
 from .authentication import HashedTokenAuthentication
 
 
@@ -61,7 +63,12 @@ class TokenView(APIView):
                    operation_id="token_create")
     def post(self, request, *args, **kwargs):
         credentials = AuthTokenSerializer(data=request.data, context={"request": request})
-        credentials.is_valid(raise_exception=True)
+        if not credentials.is_valid():
+            # django-axes marks the request of a locked-out name and address (the DRF
+            # request here, which its middleware does not see): say so, not "wrong password".
+            if getattr(request, "axes_locked_out", False):
+                return lockout_response(request._request)
+            raise exceptions.ValidationError(credentials.errors)
         user = credentials.validated_data["user"]
         AuthToken.objects.filter(user=user, expiry__lt=timezone.now()).delete()
         stored, token = AuthToken.objects.create(user=user)

@@ -9,6 +9,11 @@ ERROR_STATUSES = {
     "403": "The user's role does not allow this action.",
     "404": "No such record, or a query value that names nothing.",
 }
+# Errors only some operations return, by operationId.
+ERROR_STATUSES_OF = {
+    "token_create": {"429": "Locked out: too many wrong passwords for this user name from "
+                            "this address; the message says for how long."},
+}
 ERROR_SCHEMA = {
     "type": "object",
     "required": ["errors"],
@@ -31,7 +36,8 @@ def add_error_responses(result, generator, request, public):
         for operation in path.values():
             if not isinstance(operation, dict) or "responses" not in operation:
                 continue
-            for status, text in ERROR_STATUSES.items():
+            statuses = ERROR_STATUSES | ERROR_STATUSES_OF.get(operation.get("operationId"), {})
+            for status, text in statuses.items():
                 operation["responses"].setdefault(status, {
                     "description": text, "content": {"application/json": {"schema": ERROR_REF}}})
     return result

@@ -21,7 +21,7 @@ from django.db import models, transaction
 from django.utils import timezone
 from django.utils.module_loading import import_string
 
-from .. import login_throttle
+from .. import signature_throttle
 from ..errors import refusal
 from ..lifecycle import check_transition
 from ..models import CodedRecord, LifecycleRecord, LineageEdge, Signature, Status
@@ -35,8 +35,6 @@ from .lifecycle import _transition, check_not_self_release, check_not_voided, lo
 AMENDABLE_RELATIONS = frozenset({"storage"})
 # Inputs of stored computations: changing one would leave the figures beside it stale, so
 # the correction is a new record (and the old one voided) instead.
-# Wrong signature passwords are counted per signer, like sign-in (inventory.login_throttle).
-SIGNING = "signature"
 FEEDS_A_COMPUTATION = frozenset({"slide_area_cm2", "suspension_excess_factor",
                                  "sphere_density_g_cm3"})
 
@@ -66,13 +64,13 @@ def _verify_signer(actor: User | None, signature: SignatureIntent, *,
         raise refusal("meaning", f"Choose what the signature means: {', '.join(meanings)}.",
                       "signature_meaning")
     username = actor.get_username()
-    if login_throttle.is_locked(SIGNING, username, ""):
-        raise refusal("password", login_throttle.lockout_message(), "signature_locked")
+    if signature_throttle.is_locked(username):
+        raise refusal("password", signature_throttle.lockout_message(), "signature_locked")
     if not signature.password or not actor.check_password(signature.password):
-        login_throttle.record_failure(SIGNING, username, "")
+        signature_throttle.record_failure(username)
         raise refusal("password", "The password does not match; the signature was not made.",
                       "signature_invalid")
-    login_throttle.reset(SIGNING, username, "")
+    signature_throttle.reset(username)
 
 
 def _signer_name(actor: User) -> str:

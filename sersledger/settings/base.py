@@ -28,6 +28,7 @@ INSTALLED_APPS = [
     "django_filters",
     "drf_spectacular",
     "simple_history",
+    "axes",
     "inventory",
     "qc",
 ]
@@ -42,6 +43,8 @@ MIDDLEWARE = [
     "django.middleware.clickjacking.XFrameOptionsMiddleware",
     # Puts request.user on every history row written during a request.
     "simple_history.middleware.HistoryRequestMiddleware",
+    # Answers a locked-out sign-in with the lockout page (django-axes); keep it last.
+    "axes.middleware.AxesMiddleware",
 ]
 
 ROOT_URLCONF = "sersledger.urls"
@@ -95,12 +98,22 @@ DATABASES = {"default": database_from_environment(DATA_DIR / "sersledger.sqlite3
 
 DEFAULT_AUTO_FIELD = "django.db.models.BigAutoField"
 
-# Sign-in refuses a username+address pair for a while after repeated wrong passwords
-# (inventory.login_throttle).  The counter is in Django's cache: local memory here (one
-# process); the production settings use a file cache that every worker process shares.
-AUTHENTICATION_BACKENDS = ["inventory.login_throttle.ThrottledModelBackend"]
-SERSLEDGER_LOGIN_MAX_FAILURES = 5
-SERSLEDGER_LOGIN_LOCKOUT_MINUTES = 15
+# Sign-in lockouts (django-axes): AXES_FAILURE_LIMIT wrong passwords for one user name from
+# one address lock that pair for AXES_COOLOFF_TIME, even with the right password; guessing
+# from elsewhere never locks a person out at their own desk.  Counted in the database, so
+# every server process and host shares the count.  The signature step uses the same numbers
+# (inventory.signature_throttle).  The person is told, on the page and by the token endpoint
+# (inventory.signin.lockout_response).
+AUTHENTICATION_BACKENDS = ["axes.backends.AxesStandaloneBackend",
+                           "django.contrib.auth.backends.ModelBackend"]
+AXES_FAILURE_LIMIT = 5
+AXES_COOLOFF_TIME = timedelta(minutes=15)
+AXES_LOCKOUT_PARAMETERS = [["username", "ip_address"]]
+AXES_RESET_ON_SUCCESS = True
+AXES_CLIENT_IP_CALLABLE = "inventory.signin.client_address"
+AXES_LOCKOUT_CALLABLE = "inventory.signin.lockout_response"
+AXES_VERBOSE = False
+SERSLEDGER_BEHIND_PROXY = os.environ.get("SERSLEDGER_BEHIND_PROXY", "").lower() == "true"
 
 AUTH_PASSWORD_VALIDATORS = [
     {"NAME": "django.contrib.auth.password_validation.UserAttributeSimilarityValidator"},

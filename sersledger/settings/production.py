@@ -21,7 +21,7 @@ def _required_environment(name: str) -> str:
 
 DEBUG = False
 
-# The sign-in and signature lockout counters (inventory.login_throttle) must be one count for
+# The signature lockout counter (inventory.signature_throttle) must be one count for
 # every gunicorn worker: a file cache on this host's disk is shared by its processes and needs
 # no extra service.  A lab serving from several hosts sets a network cache (memcached, Redis).
 CACHES = {"default": {"BACKEND": "django.core.cache.backends.filebased.FileBasedCache",

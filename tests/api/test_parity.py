@@ -11,14 +11,13 @@ from django.utils.html import escape
 
 from inventory.models import Substrate
 from inventory.selectors import record_get_ancestors, record_get_descendants
-from tests.conftest import PASSWORDS
 
 pytestmark = pytest.mark.django_db
 
 
 @pytest.fixture
 def page(client, viewer):
-    assert client.login(username="viewer", password=PASSWORDS["viewer"])
+    client.force_login(viewer)
     return client
 
 

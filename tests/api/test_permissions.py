@@ -148,10 +148,9 @@ def test_token_for_username_and_password(db, maker):
 def test_browser_session_works_too(db, viewer):
     from rest_framework.test import APIClient
 
-    from tests.conftest import PASSWORDS
 
     client = APIClient()
-    assert client.login(username="viewer", password=PASSWORDS["viewer"])
+    client.force_login(viewer)
     assert client.get("/api/v1/substrates/").status_code == 200
 
 

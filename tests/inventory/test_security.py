@@ -1,4 +1,4 @@
-"""Sign-in throttling, password rules and upload limits in settings (DESIGN §7).
+"""Sign-in lockouts (django-axes), password rules and upload limits in settings (DESIGN §7).
 
 The lockout follows common practice for online guessing (e.g. NIST SP 800-63B §5.2.2 asks
 verifiers to limit consecutive failed attempts on one account)."""
@@ -8,16 +8,19 @@ from __future__ import annotations
 import os
 import subprocess
 import sys
+from datetime import timedelta
 from pathlib import Path
 
 import pytest
+from django.conf import settings
 from django.contrib.auth import authenticate
 from django.contrib.auth.password_validation import validate_password
 from django.core.cache import cache, caches
 from django.core.exceptions import ValidationError
 from django.test import RequestFactory
+from django.utils import timezone
 
-from inventory import login_throttle
+from inventory import signature_throttle
 from inventory.services import record_release
 from inventory.signatures import SignatureIntent
 from tests.conftest import PASSWORDS
@@ -31,41 +34,78 @@ def fresh_counters():
 
 
 def _request(address="10.0.0.7"):
-    return RequestFactory().post("/login/", REMOTE_ADDR=address)
+    return RequestFactory().post("/accounts/login/", REMOTE_ADDR=address)
+
+
+def _fail(times, username="maker", address="10.0.0.7"):
+    for _ in range(times):
+        assert authenticate(_request(address), username=username, password="wrong-guess") is None
 
 
 def test_sign_in_is_refused_after_repeated_failures_even_with_the_right_password(maker,
-                                                                                 settings):
-    settings.SERSLEDGER_LOGIN_MAX_FAILURES = 3
-    for _ in range(3):
-        assert authenticate(_request(), username="maker", password="wrong-guess") is None
+                                                                                 viewer):
+    _fail(settings.AXES_FAILURE_LIMIT)
     assert authenticate(_request(), username="maker", password=PASSWORDS["maker"]) is None
     # Another address is not locked, and neither is another user from this address.
     assert authenticate(_request("10.0.0.8"), username="maker",
                         password=PASSWORDS["maker"]) == maker
+    assert authenticate(_request(), username="viewer", password=PASSWORDS["viewer"]) == viewer
 
 
-def test_a_success_before_the_limit_resets_the_count(maker, settings):
-    settings.SERSLEDGER_LOGIN_MAX_FAILURES = 3
+def test_no_one_locks_a_reviewer_out_by_name_alone(reviewer):
+    """Failures for a name spread over many addresses lock none of them out, and the person
+    still signs in from their own desk."""
+    for n in range(3 * settings.AXES_FAILURE_LIMIT):
+        _fail(1, "reviewer", f"192.0.2.{n}")
+    assert authenticate(_request("10.0.0.7"), username="reviewer",
+                        password=PASSWORDS["reviewer"]) == reviewer
+
+
+def test_a_success_before_the_limit_resets_the_count(client, maker):
     for _ in range(2):
-        authenticate(_request(), username="maker", password="wrong-guess")
-    assert authenticate(_request(), username="maker", password=PASSWORDS["maker"]) == maker
-    for _ in range(2):
-        authenticate(_request(), username="maker", password="wrong-guess")
-    assert authenticate(_request(), username="maker", password=PASSWORDS["maker"]) == maker
+        for _ in range(settings.AXES_FAILURE_LIMIT - 1):
+            client.post("/accounts/login/", {"username": "maker", "password": "wrong-guess"})
+        signed_in = client.post("/accounts/login/", {"username": "maker",
+                                                     "password": PASSWORDS["maker"]})
+        assert signed_in.status_code == 302
+        client.post("/accounts/logout/")
 
 
-def test_the_lock_expires(maker, settings):
-    settings.SERSLEDGER_LOGIN_MAX_FAILURES = 2
-    for _ in range(2):
-        authenticate(_request(), username="maker", password="wrong-guess")
+def test_the_lock_expires_and_lives_in_the_database_not_in_one_process(maker):
+    from axes.models import AccessAttempt
+
+    _fail(settings.AXES_FAILURE_LIMIT)
+    cache.clear()  # a process's memory and cache forget; the count is shared in the database
     assert authenticate(_request(), username="maker", password=PASSWORDS["maker"]) is None
-    cache.clear()  # what the cache does when the lockout minutes have passed
+    AccessAttempt.objects.update(
+        attempt_time=timezone.now() - settings.AXES_COOLOFF_TIME - timedelta(seconds=1))
     assert authenticate(_request(), username="maker", password=PASSWORDS["maker"]) == maker
+
+
+def test_the_sign_in_page_says_the_person_is_locked_out(client, maker):
+    for _ in range(settings.AXES_FAILURE_LIMIT):
+        client.post("/accounts/login/", {"username": "maker", "password": "wrong-guess"})
+    page = client.post("/accounts/login/", {"username": "maker",
+                                            "password": PASSWORDS["maker"]})
+    assert page.status_code == 429
+    text = page.content.decode()
+    assert "locked" in text and "15 minutes" in text and "administrator" in text
+
+
+def test_the_token_endpoint_says_the_person_is_locked_out(client, maker):
+    for _ in range(settings.AXES_FAILURE_LIMIT):
+        client.post("/api/v1/token/", {"username": "maker", "password": "wrong-guess"},
+                    content_type="application/json")
+    answer = client.post("/api/v1/token/", {"username": "maker",
+                                            "password": PASSWORDS["maker"]},
+                         content_type="application/json")
+    assert answer.status_code == 429
+    (error,) = answer.json()["errors"]
+    assert error["code"] == "locked_out" and "15 minutes" in error["message"]
 
 
 def test_signature_passwords_are_throttled_too(chain, reviewer, settings):
-    settings.SERSLEDGER_LOGIN_MAX_FAILURES = 2
+    settings.AXES_FAILURE_LIMIT = 2
     lot = chain.lot(release=False)
     wrong = SignatureIntent(password="guess", meaning="approved")
     for _ in range(2):
@@ -99,22 +139,22 @@ def test_the_admin_only_reads(client, django_user_model, chain):
     assert page.status_code == 200 and b'name="_save"' not in page.content
 
 
-def test_production_lockouts_are_seen_by_every_server_process(tmp_path, settings):
-    """Failures counted in this process lock the pair in a separate process started with the
-    production settings (what another gunicorn worker is), through their file cache."""
-    settings.SERSLEDGER_LOGIN_MAX_FAILURES = 3
+def test_production_signature_lockouts_are_seen_by_every_server_process(tmp_path, settings):
+    """Wrong signature passwords counted in this process lock the signer in a separate
+    process started with the production settings (what another gunicorn worker is), through
+    their file cache."""
+    settings.AXES_FAILURE_LIMIT = 3
     settings.CACHES = {"default": {"BACKEND": "django.core.cache.backends.filebased."
                                               "FileBasedCache",
                                    "LOCATION": str(tmp_path / "cache")}}
     # (Django's test signals rebuild the cache handler when CACHES changes.)
     assert type(caches["default"]).__name__ == "FileBasedCache"
     for _ in range(3):
-        login_throttle.record_failure("login", "maker", "10.0.0.7")
+        signature_throttle.record_failure("maker")
     script = ("import django; django.setup(); from django.conf import settings; "
-              "settings.SERSLEDGER_LOGIN_MAX_FAILURES = 3; "
-              "from inventory.login_throttle import is_locked; "
-              "print(is_locked('login', 'maker', '10.0.0.7'), "
-              "is_locked('login', 'maker', '10.0.0.8'))")
+              "settings.AXES_FAILURE_LIMIT = 3; "
+              "from inventory.signature_throttle import is_locked; "
+              "print(is_locked('maker'), is_locked('viewer'))")
     env = {k: v for k, v in os.environ.items() if k != "DATABASE_URL"}
     env |= {"DJANGO_SETTINGS_MODULE": "sersledger.settings.production", "SECRET_KEY": "x" * 60,
             "ALLOWED_HOSTS": "lab.example", "SERSLEDGER_DATA_DIR": str(tmp_path)}

@@ -12,8 +12,6 @@ from pathlib import Path
 import pytest
 from django.conf import settings
 
-from tests.conftest import PASSWORDS
-
 FIXTURES = Path(settings.BASE_DIR) / "fixtures"
 MAP_SETTINGS = {"laser_nm": 785.0, "power_mW": 2.0, "integration_s": 1.0, "accumulations": 1}
 ROLES = ("viewer", "maker", "reviewer", "administrator")
@@ -127,6 +125,6 @@ def lab(chain, viewer, maker, reviewer, administrator):
 def login(client):
     """Sign ``client`` in as one of the lab's users by role name."""
     def sign_in(lab: Lab, role: str):
-        assert client.login(username=lab.users[role].username, password=PASSWORDS[role])
+        client.force_login(lab.users[role])
         return client
     return sign_in

@@ -14,7 +14,6 @@ from django.test.utils import CaptureQueriesContext
 from django.urls import reverse
 
 from inventory.models import Status, Substrate
-from tests.conftest import PASSWORDS
 
 # Ceilings measured when the pages were written (SQLite and PostgreSQL give the same counts).
 MAX_QUERIES = {"home": 23, "stock": 22, "review": 16, "trace": 10, "trace_graph": 9}
@@ -63,7 +62,7 @@ def world(chain, reviewer):
 
 def test_list_pages_keep_a_fixed_query_count_with_thousands_of_records(
         world, chain, client, reviewer, django_assert_max_num_queries, capsys):
-    assert client.login(username=reviewer.username, password=PASSWORDS["reviewer"])
+    client.force_login(reviewer)
     pages = _pages(world.code)
     small, _ = _measure(client, pages)
     _grow(chain, world, pieces=200, released=150, flagged=120, runs=10)
