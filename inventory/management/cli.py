@@ -1,7 +1,10 @@
 """What the import commands share: finding the acting user and phrasing refusals."""
 
+from collections.abc import Iterator
+from contextlib import contextmanager
+
 from django.contrib.auth import get_user_model
-from django.core.exceptions import ValidationError
+from django.core.exceptions import PermissionDenied, ValidationError
 from django.core.management.base import CommandError
 
 
@@ -21,3 +24,15 @@ def refusal_sentences(error: ValidationError) -> str:
         return "; ".join(f"{field}: {' '.join(messages)}"
                          for field, messages in error.message_dict.items())
     return " ".join(error.messages)
+
+
+@contextmanager
+def refusals_in_words(prefix: str = "") -> Iterator[None]:
+    """A service's refusal (bad input, or a role the --user lacks) as a CommandError: one
+    line and exit status 1 instead of a traceback; the service saved nothing."""
+    try:
+        yield
+    except ValidationError as error:
+        raise CommandError(f"{prefix}{refusal_sentences(error)}") from None
+    except PermissionDenied as error:
+        raise CommandError(f"{prefix}{error}") from None

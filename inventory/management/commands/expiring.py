@@ -5,6 +5,10 @@ from django.core.management.base import BaseCommand, CommandError
 from inventory.selectors import records_expiring_within
 
 
+# A century ahead covers any shelf life; past year 9999 the calendar itself ends.
+MAX_DAYS = 36_500
+
+
 class Command(BaseCommand):
     help = "List quarantined or released records that expire within N days."
 
@@ -14,8 +18,8 @@ class Command(BaseCommand):
                             help="show at most this many, soonest first")
 
     def handle(self, *args, days, limit=None, **options):
-        if days < 0:
-            raise CommandError("--days must be zero or positive")
+        if not 0 <= days <= MAX_DAYS:
+            raise CommandError(f"--days must be between 0 and {MAX_DAYS} (100 years); got {days}.")
         if limit is not None and limit < 1:
             raise CommandError("--limit must be at least 1")
         items = records_expiring_within(days, limit=limit)

@@ -5,11 +5,10 @@ from __future__ import annotations
 import json
 from pathlib import Path
 
-from django.core.exceptions import ValidationError
 from django.core.management.base import BaseCommand, CommandError
 
 from inventory.api.results import chronoamperogram_summary
-from inventory.management.cli import refusal_sentences, user_for_command
+from inventory.management.cli import refusals_in_words, user_for_command
 from inventory.models import DepositionRun
 from inventory.services.deposition import (
     deposition_run_attach_chronoamperogram,
@@ -41,14 +40,12 @@ class Command(BaseCommand):
         path = Path(options["file"])
         if not path.is_file():
             raise CommandError(f"No such file: {path}")
-        try:
+        with refusals_in_words():
             result = deposition_run_attach_chronoamperogram(
                 actor=user_for_command(options["user"]), run=run, filename=path.name,
                 content=path.read_bytes(), time_unit=options["time_unit"],
                 current_unit=options["current_unit"], cathodic_sign=options["cathodic_sign"],
                 start_s=options["start_s"], end_s=options["end_s"])
-        except ValidationError as error:
-            raise CommandError(refusal_sentences(error)) from None
         summary = chronoamperogram_summary(result)
         if options["json"]:
             self.stdout.write(json.dumps(summary, indent=2))

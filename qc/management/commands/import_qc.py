@@ -6,11 +6,10 @@ import json
 from datetime import date
 from pathlib import Path
 
-from django.core.exceptions import ValidationError
 from django.core.management.base import BaseCommand, CommandError
 from django.utils import timezone
 
-from inventory.management.cli import refusal_sentences, user_for_command
+from inventory.management.cli import refusals_in_words, user_for_command
 from inventory.models import ReagentLot, Substrate
 from qc.api.results import qc_measurement_summary
 from qc.models import ReferenceMeasurement
@@ -47,7 +46,7 @@ class Command(BaseCommand):
         path = Path(options["file"])
         if not path.is_file():
             raise CommandError(f"No such file: {path}")
-        try:
+        with refusals_in_words():
             measurement = qc_measurement_import(
                 actor=user_for_command(options["user"]), substrate=substrate, analyte_lot=lot,
                 filename=path.name, content=path.read_bytes(),
@@ -55,8 +54,6 @@ class Command(BaseCommand):
                 laser_nm=options["laser_nm"], power_mW=options["power_mw"],
                 integration_s=options["integration_s"], accumulations=options["accumulations"],
                 objective=options["objective"], reference=reference)
-        except ValidationError as error:
-            raise CommandError(refusal_sentences(error)) from None
         summary = qc_measurement_summary(measurement)
         if options["json"]:
             self.stdout.write(json.dumps(summary, indent=2))

@@ -4,12 +4,13 @@ import json
 from datetime import date
 from pathlib import Path
 
-from django.core.exceptions import ValidationError
 from django.core.management.base import BaseCommand, CommandError
 from django.utils import timezone
 
 from inventory.codes import RecordNotFound, record_get
+from inventory.management.cli import refusals_in_words
 from inventory.models import NanoparticleBatch
+from qc.analysis.errors import AnalysisInputError
 from qc.api.results import uvvis_import_summary
 from qc.services import uvvis_record_import
 
@@ -21,13 +22,6 @@ def _date(text: str) -> date:
         raise CommandError(
             f"--measured-on must be an ISO 8601 date (YYYY-MM-DD), got '{text}'."
         ) from None
-
-
-def _messages(error: ValidationError) -> str:
-    if hasattr(error, "error_dict"):
-        return "; ".join(f"{field}: {' '.join(m.message % (m.params or {}) for m in errors)}"
-                         for field, errors in error.error_dict.items())
-    return "; ".join(error.messages)
 
 
 class Command(BaseCommand):
@@ -55,13 +49,16 @@ class Command(BaseCommand):
                                "nanoparticle batch.")
         content = self._read(file)
         blank_file = (Path(blank).name, self._read(blank)) if blank else None
-        try:
-            result = uvvis_record_import(
-                actor=None, batch=record, filename=Path(file).name, content=content,
-                measured_on=measured_on or timezone.localdate(), dilution_factor=dilution,
-                path_length_cm=path_cm, blank=blank_file)
-        except ValidationError as error:
-            raise CommandError(f"Refused, nothing saved. {_messages(error)}") from error
+        with refusals_in_words("Refused, nothing saved. "):
+            try:
+                result = uvvis_record_import(
+                    actor=None, batch=record, filename=Path(file).name, content=content,
+                    measured_on=measured_on or timezone.localdate(), dilution_factor=dilution,
+                    path_length_cm=path_cm, blank=blank_file)
+            except AnalysisInputError as error:
+                # A computed figure the analysis refuses (e.g. an absorbance made infinite by
+                # a huge dilution); the transaction rolled back.
+                raise CommandError(f"Refused, nothing saved. {error}") from None
         payload = uvvis_import_summary(result)
         if options["json"]:
             self.stdout.write(json.dumps(payload, indent=2))
