@@ -34,6 +34,8 @@ INSTALLED_APPS = [
 ]
 
 MIDDLEWARE = [
+    # An id for each request, on every log line and in the X-Request-ID response header.
+    "log_request_id.middleware.RequestIDMiddleware",
     "django.middleware.security.SecurityMiddleware",
     "django.contrib.sessions.middleware.SessionMiddleware",
     "django.middleware.common.CommonMiddleware",
@@ -97,6 +99,9 @@ def database_from_environment(default_sqlite_path: Path) -> dict:
 DATABASES = {"default": database_from_environment(DATA_DIR / "sersledger.sqlite3")}
 
 DEFAULT_AUTO_FIELD = "django.db.models.BigAutoField"
+
+GENERATE_REQUEST_ID_IF_NOT_IN_HEADER = True
+REQUEST_ID_RESPONSE_HEADER = "X-Request-ID"
 
 # Sign-in lockouts (django-axes): AXES_FAILURE_LIMIT wrong passwords for one user name from
 # one address lock that pair for AXES_COOLOFF_TIME, even with the right password; guessing

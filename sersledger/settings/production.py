@@ -5,6 +5,7 @@ PostgreSQL.  Starting without the secrets is refused rather than falling back to
 """
 
 import os
+from email.utils import getaddresses
 
 from django.core.exceptions import ImproperlyConfigured
 
@@ -43,3 +44,45 @@ SECURE_HSTS_PRELOAD = True
 SECURE_CONTENT_TYPE_NOSNIFF = True
 SECURE_PROXY_SSL_HEADER = ("HTTP_X_FORWARDED_PROTO", "https")
 X_FRAME_OPTIONS = "DENY"
+
+# Server errors: every ERROR (a 500 with its traceback included) goes to stderr (gunicorn's
+# error log, or the journal under systemd) and to data/logs/sersledger.log, rotated at 10 MB
+# with 10 old files kept; concurrent-log-handler locks the file so several gunicorn workers
+# share it.  Each line carries the request's id (django-log-request-id), also sent back in
+# the X-Request-ID header, so a person reporting a failed page can quote it.
+# ADMINS="Name <person@lab.example>, other@lab.example" mails each server error to them
+# through EMAIL_HOST (EMAIL_PORT, EMAIL_HOST_USER, EMAIL_HOST_PASSWORD, EMAIL_USE_TLS).
+LOG_DIR = DATA_DIR / "logs"
+LOG_DIR.mkdir(parents=True, exist_ok=True)
+ADMINS = [(name, address) for name, address in getaddresses([os.environ.get("ADMINS", "")])
+          if address]
+SERVER_EMAIL = os.environ.get("SERVER_EMAIL", "sersledger@localhost")
+EMAIL_BACKEND = os.environ.get("EMAIL_BACKEND", "django.core.mail.backends.smtp.EmailBackend")
+EMAIL_HOST = os.environ.get("EMAIL_HOST", "localhost")
+EMAIL_PORT = int(os.environ.get("EMAIL_PORT", "25"))
+EMAIL_HOST_USER = os.environ.get("EMAIL_HOST_USER", "")
+EMAIL_HOST_PASSWORD = os.environ.get("EMAIL_HOST_PASSWORD", "")
+EMAIL_USE_TLS = os.environ.get("EMAIL_USE_TLS", "").lower() == "true"
+LOGGING = {
+    "version": 1,
+    "disable_existing_loggers": False,
+    "filters": {"request_id": {"()": "log_request_id.filters.RequestIDFilter"}},
+    "formatters": {"line": {"format": "%(asctime)s %(levelname)s [%(request_id)s] "
+                                      "%(name)s: %(message)s"}},
+    "handlers": {
+        "stderr": {"class": "logging.StreamHandler", "filters": ["request_id"],
+                   "formatter": "line"},
+        "file": {"class": "concurrent_log_handler.ConcurrentRotatingFileHandler",
+                 "filename": str(LOG_DIR / "sersledger.log"), "maxBytes": 10 * 1024 * 1024,
+                 "backupCount": 10, "encoding": "utf-8", "filters": ["request_id"],
+                 "formatter": "line"},
+        "mail_admins": {"class": "django.utils.log.AdminEmailHandler", "level": "ERROR"},
+    },
+    "root": {"handlers": ["stderr", "file"], "level": "WARNING"},
+    "loggers": {
+        "django.request": {"handlers": ["stderr", "file", "mail_admins"], "level": "ERROR",
+                           "propagate": False},
+        "django.security": {"handlers": ["stderr", "file", "mail_admins"], "level": "ERROR",
+                            "propagate": False},
+    },
+}
