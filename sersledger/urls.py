@@ -9,3 +9,9 @@ urlpatterns = [
     path("api/v1/", include("sersledger.api_urls")),
     path("", include("bench.urls")),
 ]
+
+# Under /api/ these answer the API's JSON error shape; elsewhere Django's pages.
+handler400 = "inventory.api.errors.bad_request"
+handler403 = "inventory.api.errors.permission_denied"
+handler404 = "inventory.api.errors.page_not_found"
+handler500 = "inventory.api.errors.server_error"

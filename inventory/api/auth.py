@@ -25,13 +25,13 @@ from rest_framework import (
     viewsets,
 )
 from rest_framework.authtoken.serializers import AuthTokenSerializer
-from rest_framework.parsers import JSONParser
 from rest_framework.response import Response
 from rest_framework.views import APIView
 
 from inventory.signin import lockout_response
 
 from .authentication import HashedTokenAuthentication
+from .parsers import JsonParser
 
 
 class HashedTokenScheme(OpenApiAuthenticationExtension):
@@ -56,7 +56,7 @@ class TokenView(APIView):
 
     authentication_classes = ()
     permission_classes = ()
-    parser_classes = (JSONParser,)
+    parser_classes = (JsonParser,)
     serializer_class = AuthTokenSerializer
 
     @extend_schema(request=AuthTokenSerializer, responses={200: TokenOut}, auth=[],

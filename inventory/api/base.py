@@ -16,14 +16,14 @@ from django.core.exceptions import ValidationError
 from django.db.models import DateTimeField
 from django_filters.fields import IsoDateTimeField
 from drf_spectacular.utils import extend_schema
-from rest_framework import mixins, permissions, status, viewsets
+from rest_framework import exceptions, mixins, permissions, status, viewsets
 from rest_framework.decorators import action
-from rest_framework.parsers import JSONParser
 from rest_framework.response import Response
 
 from inventory.roles import ADMINISTRATOR, MAKER, REVIEWER, VIEWER, require_role
 
 from .pagination import Keyset
+from .parsers import JsonParser
 from .serializers import Amend, RejectSign, ReleaseSign, Void, read_plan
 
 
@@ -31,6 +31,9 @@ class HasRole(permissions.BasePermission):
     """The role a view's action needs, checked with the same function the services use."""
 
     def has_permission(self, request, view) -> bool:
+        # A method the path does not take is a 405 for everyone, not a role refusal.
+        if request.method not in view.allowed_methods:
+            raise exceptions.MethodNotAllowed(request.method)
         require_role(request.user, view.role_needed(), action=view.action_label())
         return True
 
@@ -222,14 +225,14 @@ class CorrectionsMixin:
     deleted) and ``POST {code}/amend/`` (typed fields, against the version seen)."""
 
     @extend_schema(request=Amend)
-    @action(detail=True, methods=["post"], required_role=MAKER, parser_classes=(JSONParser,))
+    @action(detail=True, methods=["post"], required_role=MAKER, parser_classes=(JsonParser,))
     def amend(self, request, code=None):
         """Change typed fields; refused with code 'version_conflict' if someone changed the
         record since ``expected_version``.  Every amendment is kept in the history."""
         return self.run_service(Amend, record=self.get_object())
 
     @extend_schema(request=Void)
-    @action(detail=True, methods=["post"], required_role=REVIEWER, parser_classes=(JSONParser,))
+    @action(detail=True, methods=["post"], required_role=REVIEWER, parser_classes=(JsonParser,))
     def void(self, request, code=None):
         """Void the record (kept in lineage and history, no longer usable or ready)."""
         return self.run_service(Void, record=self.get_object())
@@ -239,14 +242,14 @@ class SignedLifecycleMixin(CorrectionsMixin):
     """``POST {code}/release/`` and ``{code}/reject/`` under an electronic signature."""
 
     @extend_schema(request=ReleaseSign)
-    @action(detail=True, methods=["post"], required_role=REVIEWER, parser_classes=(JSONParser,))
+    @action(detail=True, methods=["post"], required_role=REVIEWER, parser_classes=(JsonParser,))
     def release(self, request, code=None):
         """Release from quarantine: re-enter your password and choose the meaning.  The
         maker cannot release their own record; a substrate also needs a passed QC."""
         return self.run_service(ReleaseSign, record=self.get_object())
 
     @extend_schema(request=RejectSign)
-    @action(detail=True, methods=["post"], required_role=REVIEWER, parser_classes=(JSONParser,))
+    @action(detail=True, methods=["post"], required_role=REVIEWER, parser_classes=(JsonParser,))
     def reject(self, request, code=None):
         """Reject, with a reason, under an electronic signature."""
         return self.run_service(RejectSign, record=self.get_object())

@@ -10,15 +10,32 @@ path (``files.0``).
 
 from __future__ import annotations
 
-from django.core.exceptions import NON_FIELD_ERRORS, PermissionDenied
+from django.conf import settings
+from django.core.exceptions import (
+    NON_FIELD_ERRORS,
+    PermissionDenied,
+    RequestDataTooBig,
+    SuspiciousOperation,
+)
 from django.core.exceptions import ValidationError as DjangoValidationError
-from django.http import Http404
+from django.http import Http404, JsonResponse
+from django.views import defaults
 from rest_framework import exceptions, serializers
 from rest_framework.views import exception_handler as drf_exception_handler
 
 from inventory.codes import RecordNotFound
 
 _WHOLE_REQUEST = {None, NON_FIELD_ERRORS, "non_field_errors"}
+
+
+class RequestTooLarge(exceptions.APIException):
+    status_code = 413
+    default_code = "too_large"
+
+    def __init__(self):
+        limit_mb = settings.DATA_UPLOAD_MAX_MEMORY_SIZE / (1024 * 1024)
+        super().__init__(f"The request body is larger than the {limit_mb:g} MB limit; send "
+                         "large instrument files as a multipart upload.")
 
 
 def _from_django(error: DjangoValidationError) -> exceptions.ValidationError:
@@ -43,6 +60,10 @@ def _translate(exc: Exception) -> Exception:
         return exceptions.NotFound(str(exc))
     if isinstance(exc, Http404):
         return exceptions.NotFound(str(exc) or None)
+    if isinstance(exc, RequestDataTooBig):
+        return RequestTooLarge()
+    if isinstance(exc, SuspiciousOperation):  # too many fields or files, a malformed body
+        return exceptions.ParseError(str(exc) or None)
     return exc
 
 
@@ -74,3 +95,44 @@ def exception_handler(exc, context):
     if isinstance(exc, exceptions.APIException):
         response.data = {"errors": flatten(exc.detail)}
     return response
+
+
+# Errors Django answers before or outside a DRF view (no route matched, a server error):
+# under /api/ they use the same JSON shape, elsewhere Django's own pages.
+# config/urls.py names these as handler400/403/404/500.
+
+def _is_api(request) -> bool:
+    return request.path.startswith("/api/")
+
+
+def _json_error(status: int, message: str, code: str) -> JsonResponse:
+    return JsonResponse({"errors": [{"field": None, "message": message, "code": code}]},
+                        status=status)
+
+
+def bad_request(request, exception):
+    if _is_api(request):
+        return _json_error(400, "The request could not be read.", "parse_error")
+    return defaults.bad_request(request, exception)
+
+
+def permission_denied(request, exception):
+    if _is_api(request):
+        return _json_error(403, str(exception) or "You may not do this.", "permission_denied")
+    return defaults.permission_denied(request, exception)
+
+
+def page_not_found(request, exception):
+    if _is_api(request):
+        return _json_error(404, f"Nothing is at {request.path}; see /api/v1/docs/ for the "
+                                "paths.", "not_found")
+    return defaults.page_not_found(request, exception)
+
+
+def server_error(request):
+    if _is_api(request):
+        request_id = getattr(request, "id", None)
+        note = f" (request {request_id})" if request_id else ""
+        return _json_error(500, f"Server error{note}; it was logged for the administrator.",
+                           "server_error")
+    return defaults.server_error(request)

@@ -11,7 +11,7 @@ from drf_spectacular.utils import OpenApiParameter, extend_schema
 from rest_framework import serializers as drf_serializers
 from rest_framework import status
 from rest_framework.decorators import action
-from rest_framework.parsers import JSONParser, MultiPartParser
+from rest_framework.parsers import MultiPartParser
 from rest_framework.response import Response
 
 from inventory.models import (
@@ -40,6 +40,7 @@ from .base import (
     SignedLifecycleMixin,
     filterset,
 )
+from .parsers import JsonParser
 from .reports import ReadinessOut, readiness_data
 from .results import ChronoamperogramResult, chronoamperogram_summary
 
@@ -202,7 +203,7 @@ class DatasetViewSet(CorrectionsMixin, RecordViewSet):
     queryset = Dataset.objects.all()
     serializer_class = DatasetOut
     create_serializer = s.DatasetRegister
-    parser_classes = (JSONParser, MultiPartParser)
+    parser_classes = (JsonParser, MultiPartParser)
     filterset_class = filterset(Dataset, exact=("instrument", "operator"),
                                 ranges=("acquired_on",), codes=("substrates",))
     search_fields = ("code", "title", "instrument", "operator", "notes")

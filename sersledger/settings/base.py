@@ -174,7 +174,10 @@ REST_FRAMEWORK = {
         "rest_framework.filters.OrderingFilter",
     ],
     # JSON in; multipart only where an endpoint takes files (it says so itself).
-    "DEFAULT_PARSER_CLASSES": ["rest_framework.parsers.JSONParser"],
+    # (inventory.api.parsers: DRF's JSON parser refusing deep nesting and NUL characters)
+    "DEFAULT_PARSER_CLASSES": ["inventory.api.parsers.JsonParser"],
+    # JSON out, errors included; people read the API through the Swagger UI at /api/v1/docs/.
+    "DEFAULT_RENDERER_CLASSES": ["rest_framework.renderers.JSONRenderer"],
     "DEFAULT_PAGINATION_CLASS": "inventory.api.pagination.Keyset",
     "DEFAULT_SCHEMA_CLASS": "drf_spectacular.openapi.AutoSchema",
     # One error body everywhere: {"errors": [{"field", "message", "code"}]}.
