@@ -162,3 +162,18 @@ def test_production_signature_lockouts_are_seen_by_every_server_process(tmp_path
                            env=env, cwd=Path(__file__).resolve().parents[2], check=False)
     assert other.returncode == 0, other.stderr
     assert other.stdout.split() == ["True", "False"]
+
+
+def test_behind_a_proxy_the_address_is_the_one_the_proxy_appended(settings):
+    """X-Forwarded-For entries before the proxy's own are whatever the client sent, so only
+    the last one counts, and only when the lab says a proxy is in front."""
+    from inventory.signin import client_address
+
+    forged = RequestFactory().post("/accounts/login/", REMOTE_ADDR="127.0.0.1",
+                                   HTTP_X_FORWARDED_FOR="203.0.113.9, 10.0.0.7")
+    settings.SERSLEDGER_BEHIND_PROXY = False
+    assert client_address(forged) == "127.0.0.1"
+    settings.SERSLEDGER_BEHIND_PROXY = True
+    assert client_address(forged) == "10.0.0.7"
+    direct = RequestFactory().post("/accounts/login/", REMOTE_ADDR="10.0.0.8")
+    assert client_address(direct) == "10.0.0.8"
