@@ -218,7 +218,7 @@ def test_restore_of_a_broken_folder_exits_non_zero_without_a_traceback(tmp_path)
     run = subprocess.run([sys.executable, "manage.py", "backup", str(tmp_path / "b7"),
                           "--restore"], capture_output=True, text=True, check=False,
                          cwd=Path(__file__).resolve().parents[2],
-                         env=env | {"DJANGO_SETTINGS_MODULE": "config.settings.test"})
+                         env=env | {"DJANGO_SETTINGS_MODULE": "sersledger.settings.test"})
     assert run.returncode == 1
     assert "Traceback" not in run.stderr and "manifest" in run.stderr
 

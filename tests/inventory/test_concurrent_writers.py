@@ -72,7 +72,7 @@ def _sqlite_file_run() -> None:
 
 def test_sqlite_file_database_lets_concurrent_writers_wait(tmp_path):
     env = {k: v for k, v in os.environ.items() if k != "DATABASE_URL"}
-    env |= {"DJANGO_SETTINGS_MODULE": "config.settings.test", "TMPDIR": str(tmp_path)}
+    env |= {"DJANGO_SETTINGS_MODULE": "sersledger.settings.test", "TMPDIR": str(tmp_path)}
     run = subprocess.run(
         [sys.executable, "-c",
          ("from tests.inventory.test_concurrent_writers import _sqlite_file_run; "

@@ -33,7 +33,7 @@ if outbox:
 
 def _run_production(tmp_path, **env):
     base = {k: v for k, v in os.environ.items() if k not in {"DATABASE_URL", "ADMINS"}}
-    env = base | {"DJANGO_SETTINGS_MODULE": "config.settings.production",
+    env = base | {"DJANGO_SETTINGS_MODULE": "sersledger.settings.production",
                   "SECRET_KEY": "x" * 60, "ALLOWED_HOSTS": "testserver",
                   "SECURE_SSL_REDIRECT": "false", "SERSLEDGER_DATA_DIR": str(tmp_path),
                   "EMAIL_BACKEND": "django.core.mail.backends.locmem.EmailBackend"} | env

@@ -4,7 +4,6 @@ from django.core.management.base import BaseCommand, CommandError
 
 from inventory.selectors import records_expiring_within
 
-
 # A century ahead covers any shelf life; past year 9999 the calendar itself ends.
 MAX_DAYS = 36_500
 
