@@ -16,6 +16,7 @@ urlpatterns = [
     path("labels/", views.label_sheet, name="label_sheet"),
     path("r/<str:code>/", views.record_detail, name="record"),
     path("r/<str:code>/label/", views.record_label, name="record_label"),
+    path("account/api-tokens/", views.api_tokens, name="api_tokens"),
     path("review/", views.review, name="review"),
     path("review/<str:code>/", views.review_sign, name="review_sign"),
     path("flags/<str:code>/resolve/", views.flag_resolve, name="flag_resolve"),

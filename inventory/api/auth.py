@@ -30,7 +30,7 @@ from rest_framework.views import APIView
 
 from inventory.signin import lockout_response
 
-from .authentication import HashedTokenAuthentication
+from .authentication import HashedTokenAuthentication, tokens_of
 from .parsers import JsonParser
 
 
@@ -103,7 +103,7 @@ class OwnTokens(mixins.ListModelMixin, mixins.DestroyModelMixin, viewsets.Generi
     ordering = ("-created", "digest")
 
     def get_queryset(self):
-        return AuthToken.objects.filter(user=self.request.user).order_by("-created", "digest")
+        return tokens_of(self.request.user)
 
     def get_object(self):
         if self.kwargs["id"] == "current":

@@ -43,3 +43,14 @@ def revoke_tokens_on_credential_change(sender, instance, update_fields=None, **k
     if stored and (stored["password"] != instance.password
                    or (stored["is_active"] and not instance.is_active)):
         AuthToken.objects.filter(user_id=instance.pk).delete()
+
+
+def tokens_of(user):
+    """A person's own tokens, newest first (digests and first characters only)."""
+    return AuthToken.objects.filter(user=user).order_by("-created", "digest")
+
+
+def token_revoke(*, user, token_id: str) -> bool:
+    """Revoke ``user``'s token whose first characters are ``token_id``; False if none."""
+    deleted, _ = tokens_of(user).filter(token_key=token_id).delete()
+    return deleted > 0
