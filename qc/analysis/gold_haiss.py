@@ -15,7 +15,7 @@ from __future__ import annotations
 import numpy as np
 from scipy import constants
 
-from ._validation import require_positive
+from ._validation import require_non_negative, require_positive
 from .errors import AnalysisInputError
 from .uvvis import CalibratedValue
 
@@ -23,6 +23,13 @@ from .uvvis import CalibratedValue
 RATIO_B1_EXPERIMENTAL, RATIO_B2_EXPERIMENTAL = 3.00, 2.20
 #: Ratio method, parameters fitted to the paper's Mie calculations (18 %).
 RATIO_B1_THEORETICAL, RATIO_B2_THEORETICAL = 3.55, 3.11
+#: The paper's average deviation of the sizes from its reference sizes, as a fraction.
+#: Used here as the method's relative standard uncertainty (a project choice: an average
+#: absolute deviation is about 0.8 σ for a normal spread, so this slightly understates σ).
+METHOD_DEVIATION = {"experimental": 0.11, "theoretical": 0.18}
+#: The peak-position parameters are a fit to the paper's calculated spectra, so the
+#: deviation of the theoretical parameter set (18 %) is applied to it (project's choice).
+PEAK_METHOD_DEVIATION = METHOD_DEVIATION["theoretical"]
 RATIO_RANGE_NM = (5.0, 80.0)
 RATIO_ESTIMATE_BELOW_NM = 10.0
 #: Peak-position method λ_spr = λ0 + L1·exp(L2·d).
@@ -39,16 +46,20 @@ _CITATION = "Haiss, Thanh, Aveyard & Fernig, Anal. Chem. 79, 4215 (2007)"
 
 
 def diameter_from_ratio(
-    ratio_spr_450: float, *, parameters: str = "experimental"
+    ratio_spr_450: float, *, parameters: str = "experimental", ratio_u: float = 0.0
 ) -> CalibratedValue:
     """Gold diameter from the ratio of plasmon-peak to 450 nm absorbance.
 
-    d = exp(B1·A_spr/A_450 − B2), d in nm.
+    d = exp(B1·A_spr/A_450 − B2), d in nm, with standard uncertainty
+    u(d) = d·√(δ² + (B1·u_R)²): δ the method's published average deviation (11 % or 18 %)
+    and u_R the ratio's own standard uncertainty (∂d/∂R = B1·d).
 
     Parameters
     ----------
     ratio_spr_450 : float
         A_spr / A_450 (dimensionless).
+    ratio_u : float, default 0
+        Standard uncertainty of the ratio (e.g. from the peak-absorbance fit).
     parameters : {"experimental", "theoretical"}
         B1 = 3.00, B2 = 2.20 (fitted to experiment, average deviation 11 %) or
         B1 = 3.55, B2 = 3.11 (fitted to the paper's Mie results, 18 %).
@@ -74,6 +85,8 @@ def diameter_from_ratio(
         )
     method = f"{_CITATION}, ratio method, d = exp({b1}·A_spr/A_450 − {b2})"
     diameter = float(np.exp(b1 * ratio - b2))
+    u_ratio = require_non_negative(ratio_u, field="ratio_u")
+    uncertainty = diameter * float(np.hypot(METHOD_DEVIATION[parameters], b1 * u_ratio))
     low, high = RATIO_RANGE_NM
     if not low <= diameter <= high:
         return CalibratedValue(
@@ -82,18 +95,23 @@ def diameter_from_ratio(
         )
     estimate = diameter < RATIO_ESTIMATE_BELOW_NM
     note = "below 10 nm the paper calls the result an estimate" if estimate else ""
-    return CalibratedValue(diameter, "nm", method, True, estimate, note)
+    return CalibratedValue(diameter, "nm", method, True, estimate, note, uncertainty)
 
 
-def diameter_from_peak(peak_nm: float) -> CalibratedValue:
+def diameter_from_peak(peak_nm: float, *, peak_u_nm: float = 0.0) -> CalibratedValue:
     """Gold diameter from the plasmon peak position, λ_spr = λ0 + L1·exp(L2·d).
 
     Inverted: d = ln((λ_spr − λ0)/L1)/L2 with λ0 = 512 nm, L1 = 6.53 nm, L2 = 0.0216 nm⁻¹.
+    Standard uncertainty u(d) = √((δ·d)² + (u_λ / (L2·(λ_spr − λ0)))²), with δ = 18 %
+    (see :data:`PEAK_METHOD_DEVIATION`) and u_λ the peak position's uncertainty
+    (∂d/∂λ = 1/(L2·(λ − λ0)): about 3 nm of diameter per nm of peak near 40 nm).
 
     Parameters
     ----------
     peak_nm : float
         Plasmon peak wavelength in nm (from a local fit, not the highest sample).
+    peak_u_nm : float, default 0
+        Standard uncertainty of the peak wavelength, nm.
 
     Returns
     -------
@@ -124,6 +142,9 @@ def diameter_from_peak(peak_nm: float) -> CalibratedValue:
             "the peak-position fit does not hold; use the ratio method",
         )
     diameter = float(np.log(excess / PEAK_L1_NM) / PEAK_L2_PER_NM)
+    u_peak = require_non_negative(peak_u_nm, field="peak_u_nm")
+    uncertainty = float(np.hypot(PEAK_METHOD_DEVIATION * diameter,
+                                 u_peak / (PEAK_L2_PER_NM * excess)))
     if diameter > PEAK_MAX_NM:
         return CalibratedValue(
             None, "nm", method, False, False,
@@ -134,7 +155,7 @@ def diameter_from_peak(peak_nm: float) -> CalibratedValue:
         if diameter < PEAK_ADVISED_MIN_NM
         else ""
     )
-    return CalibratedValue(diameter, "nm", method, True, False, note)
+    return CalibratedValue(diameter, "nm", method, True, False, note, uncertainty)
 
 
 def number_concentration_per_mL(absorbance_450_1cm: float, diameter_nm: float) -> CalibratedValue:

@@ -41,6 +41,9 @@ class CalibratedValue:
         True where the source itself calls results in this region estimates.
     note : str
         Why there is no number, or caveats on the number.
+    standard_uncertainty : float or None
+        Standard uncertainty of ``value`` in ``unit`` (None where the source gives no basis
+        for one, or there is no value).
     """
 
     value: float | None
@@ -49,6 +52,7 @@ class CalibratedValue:
     within_range: bool
     is_estimate: bool
     note: str
+    standard_uncertainty: float | None = None
 
 
 @dataclass(frozen=True)
@@ -71,6 +75,12 @@ class PlasmonBand:
         A at 450 nm (linear interpolation), undiluted, 1 cm.
     ratio_spr_450 : float
         peak_absorbance_1cm / absorbance_450_1cm (the Haiss ratio).
+    peak_u_nm : float
+        Standard uncertainty of ``peak_nm``: the parabola's statistical error (from the fit
+        covariance) combined with how far the vertex moves when the fit window is widened
+        by half (the band's asymmetry biases a parabola; this bounds that bias).
+    peak_absorbance_u_1cm : float
+        Standard uncertainty of ``peak_absorbance_1cm``, estimated the same way.
     """
 
     peak_nm: float
@@ -81,6 +91,17 @@ class PlasmonBand:
     fwhm_note: str
     absorbance_450_1cm: float
     ratio_spr_450: float
+    peak_u_nm: float = 0.0
+    peak_absorbance_u_1cm: float = 0.0
+
+
+class NoPlasmonPeakError(AnalysisInputError):
+    """The spectrum has no single well-defined plasmon maximum inside the search window.
+
+    Typical of large particles (above about 100 nm for gold: a broad dipole band with a
+    quadrupole shoulder) and of aggregated colloids.  The spectrum is still a measurement;
+    callers record it and say that peak-based size methods do not apply.
+    """
 
 
 def check_wavelength_axis_nm(wavelength_nm, *, min_points: int = _MIN_POINTS) -> np.ndarray:
@@ -219,10 +240,11 @@ def measure_plasmon_band(
 
     Raises
     ------
+    NoPlasmonPeakError
+        No local maximum inside the window, or no well-defined one (see the class).
     AnalysisInputError
         Too few points, wrong wavelength unit, absorbance above the linear range,
-        negative absorbance beyond the tolerance, no local maximum in the window, or no
-        data at 450 nm.
+        negative absorbance beyond the tolerance, or no data at 450 nm.
     """
     axis = check_wavelength_axis_nm(wavelength_nm)
     measured = _same_length(absorbance, axis, "absorbance")
@@ -232,7 +254,8 @@ def measure_plasmon_band(
     values = to_undiluted_1cm(
         measured, dilution_factor=dilution_factor, path_length_cm=path_length_cm
     )
-    peak_nm, peak_a = _fit_peak(axis, values, search_window_nm, fit_half_width_nm)
+    peak_nm, peak_a, peak_u, peak_a_u = _fit_peak(axis, values, search_window_nm,
+                                                  fit_half_width_nm)
     blue, red = _half_max_crossings(axis, values, peak_nm, peak_a)
     a450 = _absorbance_at(axis, values, 450.0)
     if a450 <= 0:
@@ -248,7 +271,8 @@ def measure_plasmon_band(
         else ""
     )
     fwhm = None if missing else red - blue
-    return PlasmonBand(peak_nm, peak_a, fwhm, half_blue, half_red, note, a450, peak_a / a450)
+    return PlasmonBand(peak_nm, peak_a, fwhm, half_blue, half_red, note, a450, peak_a / a450,
+                       peak_u, peak_a_u)
 
 
 def _same_length(values, axis: np.ndarray, field: str) -> np.ndarray:
@@ -282,6 +306,7 @@ def _check_absorbance_range(axis, measured, linear_limit, negative_tolerance) ->
 
 
 def _fit_peak(axis, values, window, half_width_nm):
+    """Vertex of a local parabola: (peak_nm, height, u_peak_nm, u_height)."""
     inside = np.flatnonzero((axis >= window[0]) & (axis <= window[1]))
     if inside.size < 5:
         raise AnalysisInputError(
@@ -290,26 +315,51 @@ def _fit_peak(axis, values, window, half_width_nm):
         )
     top = inside[np.argmax(values[inside])]
     if top in (inside[0], inside[-1]):
-        raise AnalysisInputError(
+        raise NoPlasmonPeakError(
             f"no peak inside {window[0]:g}–{window[1]:g} nm: the absorbance is highest at the "
             f"window edge ({axis[top]:g} nm)",
             field="search_window_nm",
         )
     half = require_positive(half_width_nm, field="fit_half_width_nm")
-    near = np.abs(axis - axis[top]) <= half
-    if near.sum() < 3:
-        raise AnalysisInputError("fewer than 3 points for the peak fit", field="fit_half_width_nm")
-    # Centre the axis so the parabola fit is well conditioned.
-    x = axis[near] - axis[top]
-    curvature, slope, height = np.polyfit(x, values[near], 2)
-    vertex = -slope / (2 * curvature) if curvature < 0 else np.inf
-    if not abs(vertex) <= half:
-        raise AnalysisInputError(
+    peak, height, u_peak, u_height = _parabola_vertex(axis, values, axis[top], half)
+    if peak is None:
+        raise NoPlasmonPeakError(
             f"no well-defined peak near {axis[top]:g} nm (the fitted parabola has no maximum "
             "inside the fit range)",
             field="absorbance",
         )
-    return float(axis[top] + vertex), float(height - slope**2 / (4 * curvature))
+    wide_peak, wide_height, _, _ = _parabola_vertex(axis, values, axis[top], 1.5 * half)
+    if wide_peak is not None:
+        u_peak = float(np.hypot(u_peak, wide_peak - peak))
+        u_height = float(np.hypot(u_height, wide_height - height))
+    return peak, height, u_peak, u_height
+
+
+def _parabola_vertex(axis, values, centre_nm, half_width_nm):
+    """Least-squares parabola through the points within half_width_nm of centre_nm.
+
+    Returns (vertex_nm, height, u_vertex_nm, u_height) with the uncertainties propagated to
+    first order from numpy's scaled fit covariance (GUM, JCGM 100:2008, §5.1.2), or Nones
+    when the parabola has no maximum inside the range.
+    """
+    near = np.abs(axis - centre_nm) <= half_width_nm
+    if near.sum() < 3:
+        raise AnalysisInputError("fewer than 3 points for the peak fit", field="fit_half_width_nm")
+    # Centre the axis so the parabola fit is well conditioned.
+    x = axis[near] - centre_nm
+    if near.sum() > 3:
+        (a, b, c), cov = np.polyfit(x, values[near], 2, cov=True)
+    else:
+        (a, b, c), cov = np.polyfit(x, values[near], 2), np.zeros((3, 3))
+    vertex = -b / (2 * a) if a < 0 else np.inf
+    if not abs(vertex) <= half_width_nm:
+        return None, None, None, None
+    # Gradients of x0 = −b/(2a) and y0 = c − b²/(4a) with respect to (a, b, c).
+    grad_x = np.array([b / (2 * a**2), -1 / (2 * a), 0.0])
+    grad_y = np.array([b**2 / (4 * a**2), -b / (2 * a), 1.0])
+    u_x = float(np.sqrt(max(grad_x @ cov @ grad_x, 0.0)))
+    u_y = float(np.sqrt(max(grad_y @ cov @ grad_y, 0.0)))
+    return float(centre_nm + vertex), float(c - b**2 / (4 * a)), u_x, u_y
 
 
 def _half_max_crossings(axis, values, peak_nm, peak_a):

@@ -88,3 +88,41 @@ def test_molar_concentration_uses_avogadro():
 def test_bad_input_raises(call):
     with pytest.raises(AnalysisInputError):
         call()
+
+
+def test_sizes_carry_the_published_average_deviation():
+    # Haiss et al. (2007) report an average deviation of 11 % (experimental B1, B2) and 18 %
+    # (theoretical); with an exact ratio that is the whole uncertainty.
+    exp = gold_haiss.diameter_from_ratio(1.7)
+    theo = gold_haiss.diameter_from_ratio(1.8, parameters="theoretical")
+    assert exp.standard_uncertainty == pytest.approx(0.11 * math.exp(3.00 * 1.7 - 2.20))
+    assert theo.standard_uncertainty == pytest.approx(0.18 * math.exp(3.55 * 1.8 - 3.11))
+
+
+def test_ratio_uncertainty_adds_the_propagated_ratio_error():
+    # Finite difference of the published equation d = exp(3.00·R − 2.20) at R = 1.7.
+    u_ratio = 0.02
+    slope = (math.exp(3.00 * 1.701 - 2.20) - math.exp(3.00 * 1.699 - 2.20)) / 0.002
+    d = math.exp(3.00 * 1.7 - 2.20)
+    result = gold_haiss.diameter_from_ratio(1.7, ratio_u=u_ratio)
+    assert result.standard_uncertainty == pytest.approx(math.hypot(0.11 * d, slope * u_ratio),
+                                                        rel=1e-4)
+
+
+@pytest.mark.parametrize("diameter", [40.0, 55.0, 70.0, 90.0])
+def test_peak_uncertainty_propagates_the_peak_error(diameter):
+    # Forward published equation λ = 512 + 6.53·exp(0.0216·d) (Haiss et al. 2007): the size
+    # change for a ±0.5 nm peak change, computed here by bisection on the forward equation.
+    def size_for(peak):
+        low, high = 1.0, 200.0
+        for _ in range(200):
+            mid = (low + high) / 2
+            low, high = (mid, high) if 512 + 6.53 * math.exp(0.0216 * mid) < peak else (low, mid)
+        return (low + high) / 2
+
+    peak = 512.0 + 6.53 * math.exp(0.0216 * diameter)
+    per_nm = (size_for(peak + 0.5) - size_for(peak - 0.5)) / 1.0
+    result = gold_haiss.diameter_from_peak(peak, peak_u_nm=1.0)
+    # 18 %: the deviation of the paper's theoretical parameters (applied to the peak fit).
+    assert result.standard_uncertainty == pytest.approx(math.hypot(0.18 * diameter, per_nm),
+                                                        rel=1e-3)

@@ -90,3 +90,23 @@ def test_linear_limit_and_tolerance_are_parameters():
         uvvis.to_undiluted_1cm([1.0], dilution_factor=0.5)
     with pytest.raises(AnalysisInputError):
         uvvis.subtract_blank(WL, WL * 0, np.arange(400.0, 700.0), np.zeros(300))
+
+
+def test_peak_uncertainty_covers_the_true_position_of_an_asymmetric_band():
+    # An asymmetric band (two Lorentzians, the weaker to the red) on a 1 nm grid: its true
+    # maximum is found here by dense sampling, independently of the parabola fit.
+    def band(x):
+        return 1.0 / (1 + ((x - 528.0) / 30.0) ** 2) + 0.35 / (1 + ((x - 560.0) / 45.0) ** 2)
+
+    fine = np.arange(480.0, 600.0, 1e-4)
+    true_peak = fine[np.argmax(band(fine))]
+    result = uvvis.measure_plasmon_band(WL, band(WL))
+    assert result.peak_u_nm > 0
+    assert abs(result.peak_nm - true_peak) <= 2 * result.peak_u_nm
+    assert result.peak_u_nm < 2.0
+
+
+def test_large_colloid_without_a_maximum_is_a_named_error():
+    # Rising to the window edge: no plasmon maximum to read (as for a broad large-particle band).
+    with pytest.raises(uvvis.NoPlasmonPeakError):
+        uvvis.measure_plasmon_band(WL, 0.2 + 0.001 * (WL - 300), search_window_nm=(380, 650))
