@@ -44,12 +44,16 @@ class CalibrationTable:
         Molar (per mole of particles) decadic extinction coefficient at the peak, M⁻¹cm⁻¹.
     provenance : str
         Where the numbers come from (paper, lab TEM series, model and its settings).
+    independent_of_mie : bool, default True
+        False for a table computed with this project's Mie model: comparing a Mie fit with
+        it is not an independent check.  A lab's own table (e.g. TEM sizing) is independent.
     """
 
     peak_nm: tuple[float, ...]
     diameter_nm: tuple[float, ...]
     extinction_M1cm1: tuple[float, ...]
     provenance: str
+    independent_of_mie: bool = True
 
     def __post_init__(self):
         peak = as_finite_1d(self.peak_nm, field="peak_nm", min_points=3)
@@ -158,4 +162,5 @@ def silver_table_from_mie(
             "sersledger Mie model: Johnson & Christy (1972) Ag, Kreibig damping A = 1, "
             f"water n = 1.333, log-normal σ_g = {geometric_sigma:g}"
         ),
+        independent_of_mie=False,
     )
