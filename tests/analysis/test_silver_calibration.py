@@ -93,7 +93,5 @@ def test_bad_tables_are_refused(kwargs, field):
 def test_built_in_mie_table_is_marked_as_not_independent():
     # A table computed with the project's own Mie model cannot check a Mie fit; a lab table
     # (its own electron-microscopy sizing) can.
-    assert silver_calibration.silver_table_from_mie().independent_of_mie is False
-    lab = silver_calibration.CalibrationTable((400.0, 410.0, 420.0), (20.0, 40.0, 60.0),
-                                              (1e9, 2e9, 3e9), provenance="lab TEM series")
-    assert lab.independent_of_mie is True
+    assert sc.silver_table_from_mie().independent_of_mie is False
+    assert LAB_TABLE.independent_of_mie is True
