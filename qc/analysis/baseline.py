@@ -34,6 +34,43 @@ _CUBIC_PIECES = (
 _PAIRS = tuple((a, b) for a in range(4) for b in range(a, 4))
 
 
+#: Baseline stiffness on the wavenumber scale, (cm⁻¹)⁴: λ = 10⁶ at 2 cm⁻¹ spacing, the
+#: spacing of a typical dispersive Raman spectrometer (common practice).
+DEFAULT_STIFFNESS_CM4 = 1.6e7
+
+
+def lam_for_spacing(shift_cm1, stiffness_cm4: float = DEFAULT_STIFFNESS_CM4,
+                    *, diff_order: int = 2) -> float:
+    """Point-scale smoothness λ that gives the same baseline whatever the sampling.
+
+    The Whittaker penalty λ·Σ(Δ^d z_i)² acts on point index.  For a smooth curve sampled at
+    spacing Δx, Δ^d z ≈ Δx^d·z⁽ᵈ⁾ and each sum over points is (1/Δx)·∫ dx, so the objective
+    Σw(y − z)² + λΣ(Δ^d z)² ≈ (1/Δx)·[∫w(y − z)² dx + λ·Δx^(2d)·∫(z⁽ᵈ⁾)² dx]: the physical
+    stiffness is λ·Δx^(2d).  Holding it fixed, λ = stiffness / Δx^(2d) (Δx the mean
+    absolute spacing), which makes the baseline a property of the spectrum, not of the
+    instrument's step.  This is a scaling argument (the Whittaker smoother of Eilers,
+    Anal. Chem. 75, 3631 (2003) read as a discretised continuous penalty), checked in the
+    tests by one spectrum sampled at two spacings.
+
+    Parameters
+    ----------
+    shift_cm1 : array_like
+        Raman shift axis, cm⁻¹ (strictly monotonic).
+    stiffness_cm4 : float, default :data:`DEFAULT_STIFFNESS_CM4`
+        λ·Δx^(2d) in (cm⁻¹)^(2d) (for d = 2, cm⁻¹ to the fourth).
+    diff_order : int, default 2
+
+    Returns
+    -------
+    float
+        λ for :func:`asls_baseline` or :func:`asls_baseline_map` on this axis.
+    """
+    axis = as_strictly_monotonic_axis(shift_cm1, field="shift_cm1", min_points=2)
+    stiffness = require_positive(stiffness_cm4, field="baseline_stiffness_cm4")
+    spacing = abs(axis[-1] - axis[0]) / (axis.size - 1)
+    return stiffness / spacing ** (2 * diff_order)
+
+
 def _check_spectrum(shift_cm1, intensity) -> tuple[np.ndarray, np.ndarray]:
     axis = as_strictly_monotonic_axis(shift_cm1, field="shift_cm1", min_points=5)
     values = as_finite_1d(intensity, field="intensity")

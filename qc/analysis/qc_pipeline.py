@@ -13,7 +13,7 @@ import numpy as np
 
 from ._validation import all_finite, as_finite_1d, as_strictly_monotonic_axis
 from .bands import BandFit, band_metrics_map, check_band_window, fit_band, normalised_intensity
-from .baseline import asls_baseline, asls_baseline_map
+from .baseline import DEFAULT_STIFFNESS_CM4, asls_baseline, asls_baseline_map, lam_for_spacing
 from .errors import AnalysisInputError
 from .spikes import remove_spikes
 from .uniformity import MapUniformity, map_uniformity
@@ -114,7 +114,7 @@ def analyse_qc_spectrum(
     accumulations: int = 1,
     accumulations_summed: bool = True,
     profile: str = "lorentzian",
-    baseline_lam: float = 1e6,
+    baseline_stiffness_cm4: float = DEFAULT_STIFFNESS_CM4,
     baseline_p: float = 1e-2,
     spike_threshold: float = 6.0,
 ) -> SpectrumQcResult:
@@ -139,8 +139,10 @@ def analyse_qc_spectrum(
     accumulations_summed : bool, default True
         Whether the counts are the sum (True) or the mean of the accumulations.
     profile : {"lorentzian", "pseudo_voigt"}
-    baseline_lam, baseline_p : float
-        ASLS smoothness λ and asymmetry p.
+    baseline_stiffness_cm4, baseline_p : float
+        ASLS smoothness on the wavenumber scale ((cm⁻¹)⁴, converted to λ for this axis by
+        :func:`~qc.analysis.baseline.lam_for_spacing`, so the baseline does not depend on
+        the sampling) and asymmetry p.
     spike_threshold : float, default 6
         Modified z-score threshold of the spike test.
 
@@ -162,7 +164,9 @@ def analyse_qc_spectrum(
         accumulations_summed=accumulations_summed,
     )
     despiked = remove_spikes(values, threshold=spike_threshold)
-    baseline, _ = asls_baseline(axis, despiked.cleaned, lam=baseline_lam, p=baseline_p)
+    baseline, _ = asls_baseline(
+        axis, despiked.cleaned, lam=lam_for_spacing(axis, baseline_stiffness_cm4), p=baseline_p
+    )
     processed = (despiked.cleaned - baseline) * scale
     band = fit_band(
         axis,
@@ -198,7 +202,7 @@ def analyse_qc_map(
     grid_shape: tuple[int, int] | None = None,
     tolerance_fraction: float = 0.2,
     profile: str = "lorentzian",
-    baseline_lam: float = 1e6,
+    baseline_stiffness_cm4: float = DEFAULT_STIFFNESS_CM4,
     baseline_p: float = 1e-2,
     spike_threshold: float = 6.0,
 ) -> MapQcResult:
@@ -252,7 +256,9 @@ def analyse_qc_map(
     )
     despiked = remove_spikes(spectra, threshold=spike_threshold)
     processed = despiked.cleaned
-    baseline, diagnostics = asls_baseline_map(axis, processed, lam=baseline_lam, p=baseline_p)
+    baseline, diagnostics = asls_baseline_map(
+        axis, processed, lam=lam_for_spacing(axis, baseline_stiffness_cm4), p=baseline_p
+    )
     processed -= baseline  # in place: the cleaned copy is ours
     processed *= scale
     del baseline

@@ -6,6 +6,8 @@ from pybaselines import Baseline
 from scipy.interpolate import BSpline
 
 from qc.analysis import baseline as bl
+from qc.analysis.bands import fit_band
+from qc.analysis.qc_pipeline import analyse_qc_spectrum
 from qc.analysis.errors import AnalysisInputError
 
 
@@ -162,3 +164,32 @@ def test_compiled_map_path_agrees_with_pybaselines_per_spectrum_on_threaded_bloc
     monkeypatch.setattr(bl, "_MAX_THREADS", 1)
     single, _ = bl.asls_baseline_map(x, counts, lam=1e6, p=0.01)
     np.testing.assert_array_equal(single, threaded)
+
+
+def _sampled(step_cm1):
+    """One physical spectrum: strong narrow fluorescence (90 cm⁻¹ Gaussian, 10× the band)
+    under a 10 cm⁻¹ Lorentzian band at 1073 cm⁻¹, sampled every ``step_cm1``."""
+    x = np.arange(600.0, 1500.0 + 1e-9, step_cm1)
+    background = 2000 + 30000 * np.exp(-(((x - 1000) / 90) ** 2))
+    return x, background + 3000 / (1 + ((x - 1073.0) / 5.0) ** 2)
+
+
+def test_baseline_stiffness_in_wavenumber_terms_does_not_depend_on_sampling():
+    settings = dict(band_center_cm1=1073.0, band_window_cm1=60.0, power_mW=1.0,
+                    integration_s=1.0)
+    fine, coarse = (analyse_qc_spectrum(*_sampled(step), **settings).height_counts_per_mW_s
+                    for step in (1.0, 2.5))
+    assert coarse == pytest.approx(fine, rel=0.01)
+    # The same λ per point on both axes (the old behaviour) differs by more: the check bites.
+    heights = []
+    for step in (1.0, 2.5):
+        x, y = _sampled(step)
+        corrected = y - bl.asls_baseline(x, y, lam=1e6, p=0.01)[0]
+        heights.append(fit_band(x, corrected, band_center_cm1=1073.0, band_window_cm1=60.0).height)
+    assert abs(heights[1] / heights[0] - 1) > 0.02
+
+
+def test_lam_for_spacing_scales_with_the_fourth_power_of_the_step():
+    # Second differences: λ·Δx⁴ fixed, so halving the step multiplies λ by 16.
+    assert bl.lam_for_spacing(np.arange(0.0, 100.0, 0.5), 1.0) == pytest.approx(
+        16 * bl.lam_for_spacing(np.arange(0.0, 100.0, 1.0), 1.0))
