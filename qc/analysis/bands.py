@@ -56,6 +56,24 @@ class BandFit:
     window_shift_cm1: np.ndarray
     window_intensity: np.ndarray
     fitted_curve: np.ndarray
+    at_bound: tuple[str, ...] = ()
+
+    @property
+    def limit_note(self) -> str:
+        """Which fitted parameter ended at its bound, in words (empty when none).
+
+        A parameter at its bound is not a measurement: the band lies (partly) outside the
+        window, is wider than the window allows, narrower than the sampling, or absent.
+        """
+        return "; ".join(_BOUND_NOTES[name] for name in self.at_bound)
+
+
+_BOUND_NOTES = {
+    "position": "the band position reached the edge of the fitting window",
+    "fwhm_upper": "the band width reached its upper bound (twice the window)",
+    "fwhm_lower": "the band width reached its lower bound (one sampling step)",
+    "height": "the fitted band height is zero (no band)",
+}
 
 
 @dataclass(frozen=True, eq=False)
@@ -232,6 +250,7 @@ def fit_band(
         float(np.sqrt(max(gradient @ cov @ gradient, 0.0))) if np.all(np.isfinite(cov)) else np.nan
     )
     return BandFit(
+        at_bound=_bounds_reached(params, lower, upper),
         profile=profile,
         position_cm1=position,
         height=height,
@@ -249,6 +268,62 @@ def fit_band(
         window_intensity=y,
         fitted_curve=fitted,
     )
+
+
+def _bounds_reached(params, lower, upper, *, relative=1e-6) -> tuple[str, ...]:
+    """Names of the shape parameters (position, height, FWHM) that ended at a bound."""
+    reached = []
+    span = upper[0] - lower[0]
+    if min(params[0] - lower[0], upper[0] - params[0]) <= relative * span:
+        reached.append("position")
+    if params[1] <= 0.0:
+        reached.append("height")
+    if params[2] >= upper[2] * (1 - relative):
+        reached.append("fwhm_upper")
+    elif params[2] <= lower[2] * (1 + relative):
+        reached.append("fwhm_lower")
+    return tuple(reached)
+
+
+def band_heights_map(shift_cm1, intensity, *, band: BandFit) -> tuple[np.ndarray, np.ndarray]:
+    """Fitted band height and area of every spectrum, with the band shape of ``band``.
+
+    For a fixed position x0, width Γ (and η) the model of :func:`fit_band`,
+    ``y = h·P(x; x0, 1, Γ, η) + a + b·(x − x_c)``, is linear in (h, a, b), so every spectrum
+    is fitted at once by one least-squares solve (pseudo-inverse of the window's design
+    matrix applied to all rows).  The shape comes from the fit of the map's mean spectrum.
+
+    Parameters
+    ----------
+    shift_cm1 : array_like, shape (n_shift,)
+    intensity : array_like, shape (n_points, n_shift)
+        Baseline-corrected spectra.
+    band : BandFit
+        Fit of the mean spectrum (its window, position, width and η are used).
+
+    Returns
+    -------
+    height, area : numpy.ndarray, shape (n_points,)
+        Fitted heights and areas (area = h·Γ·½[η·π + (1 − η)·√(π/ln2)]).
+
+    Notes
+    -----
+    Unlike the direct metric of :func:`band_metrics_map` (maximum above the line through
+    the window edges), this does not lose the band's wings to the local line nor the top to
+    the sampling, so map heights agree with single-spectrum heights.  It assumes the band
+    keeps its position and width over the map; a point whose band moves by a sizeable
+    fraction of Γ reads low (its position from :func:`band_metrics_map` shows that).
+    """
+    axis = np.asarray(shift_cm1, dtype=float)
+    spectra = np.asarray(intensity, dtype=float)
+    x = band.window_shift_cm1
+    inside = np.isin(axis, x)
+    centre = float(np.mean([x.min(), x.max()]))
+    shape = pseudo_voigt(x, band.position_cm1, 1.0, band.fwhm_cm1, band.eta)
+    design = np.column_stack([shape, np.ones_like(x), x - centre])
+    coefficients = np.linalg.pinv(design) @ spectra[:, inside].T
+    height = coefficients[0]
+    return height, height * band.fwhm_cm1 * _area_factor(band.eta)
 
 
 def band_metrics_map(

@@ -12,7 +12,14 @@ from dataclasses import dataclass
 import numpy as np
 
 from ._validation import all_finite, as_finite_1d, as_strictly_monotonic_axis
-from .bands import BandFit, band_metrics_map, check_band_window, fit_band, normalised_intensity
+from .bands import (
+    BandFit,
+    band_heights_map,
+    band_metrics_map,
+    check_band_window,
+    fit_band,
+    normalised_intensity,
+)
 from .baseline import DEFAULT_STIFFNESS_CM4, asls_baseline, asls_baseline_map, lam_for_spacing
 from .errors import AnalysisInputError
 from .spikes import remove_spikes
@@ -56,9 +63,12 @@ class MapQcResult:
     Attributes
     ----------
     n_points : int
-    height_per_point, area_per_point, position_per_point_cm1 : numpy.ndarray
-        Band height above the local line, integrated area, and position of the maximum, for
-        every point (vectorised direct metrics, :func:`qc.analysis.bands.band_metrics_map`).
+    height_per_point, area_per_point : numpy.ndarray
+        Fitted band height and area of every point, with the band shape (position, width)
+        of the mean-spectrum fit (:func:`qc.analysis.bands.band_heights_map`, one linear
+        solve for the whole map), so they agree with single-spectrum fits.
+    position_per_point_cm1 : numpy.ndarray
+        Raman shift of each point's maximum (:func:`qc.analysis.bands.band_metrics_map`).
     uniformity, area_uniformity : MapUniformity
         Spread of the height (the headline uniformity) and of the area over the map.
     median_height_counts_per_mW_s, rsd_percent, fraction_within_tolerance : float
@@ -212,8 +222,7 @@ def analyse_qc_map(
     Hayes 2018), batched P-spline ASLS baselines (:func:`~qc.analysis.baseline.
     asls_baseline_map`), normalisation to counts/(mW·s), direct band height/area per point
     (:func:`~qc.analysis.bands.band_metrics_map`), RSD and share within ±tolerance of the
-    median (:func:`~qc.analysis.uniformity.map_uniformity`), and a band fit of the mean
-    processed spectrum.
+    median (:func:`~qc.analysis.uniformity.map_uniformity`).
 
     Parameters
     ----------
@@ -262,15 +271,6 @@ def analyse_qc_map(
     processed -= baseline  # in place: the cleaned copy is ours
     processed *= scale
     del baseline
-    metrics = band_metrics_map(
-        axis, processed, band_center_cm1=band_center_cm1, band_window_cm1=band_window_cm1
-    )
-    uniformity = map_uniformity(
-        metrics.height, grid_shape=grid_shape, tolerance_fraction=tolerance_fraction
-    )
-    area_uniformity = map_uniformity(
-        metrics.area, grid_shape=grid_shape, tolerance_fraction=tolerance_fraction
-    )
     mean_spectrum = processed.mean(axis=0)
     mean_band = fit_band(
         axis,
@@ -279,11 +279,19 @@ def analyse_qc_map(
         band_window_cm1=band_window_cm1,
         profile=profile,
     )
+    heights, areas = band_heights_map(axis, processed, band=mean_band)
+    positions = band_metrics_map(
+        axis, processed, band_center_cm1=band_center_cm1, band_window_cm1=band_window_cm1
+    ).position_cm1
+    uniformity = map_uniformity(heights, grid_shape=grid_shape, tolerance_fraction=tolerance_fraction)
+    area_uniformity = map_uniformity(
+        areas, grid_shape=grid_shape, tolerance_fraction=tolerance_fraction
+    )
     return MapQcResult(
         n_points=int(spectra.shape[0]),
-        height_per_point=metrics.height,
-        area_per_point=metrics.area,
-        position_per_point_cm1=metrics.position_cm1,
+        height_per_point=heights,
+        area_per_point=areas,
+        position_per_point_cm1=positions,
         uniformity=uniformity,
         area_uniformity=area_uniformity,
         median_height_counts_per_mW_s=uniformity.median,

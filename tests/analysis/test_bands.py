@@ -113,3 +113,15 @@ def test_band_outside_range_is_refused():
     with pytest.raises(AnalysisInputError) as err:
         bands.band_metrics_map(x, np.ones((2, 200)), band_center_cm1=1075, band_window_cm1=40)
     assert err.value.field == "band_center_cm1"
+
+
+def test_band_outside_its_window_is_reported_at_the_bound():
+    # A band centred 40 cm⁻¹ from the expected position, outside a 40 cm⁻¹ window: the fit
+    # can only put the position at the window edge, which is no measurement.
+    x = np.linspace(900, 1200, 600)
+    y = 1000 / (1 + ((x - 1113.0) / 6.0) ** 2)
+    fit = bands.fit_band(x, y, band_center_cm1=1073, band_window_cm1=40)
+    assert "position" in fit.at_bound
+    assert "edge of the fitting window" in fit.limit_note
+    inside = bands.fit_band(x, y, band_center_cm1=1110, band_window_cm1=40)
+    assert inside.at_bound == () and inside.limit_note == ""
