@@ -32,9 +32,10 @@ POLYSTYRENE_ASTM_E1840_CM1 = (
     3054.3,
 )
 #: ASTM E1840 cyclohexane band positions, cm⁻¹ — second-hand values, allow ±0.2 cm⁻¹.
+#: Each value's status is in :data:`CYCLOHEXANE_ASTM_E1840_STATUS`.
 CYCLOHEXANE_ASTM_E1840_CM1 = (
     384.1,
-    426.4,
+    426.3,
     801.3,
     1028.3,
     1157.6,
@@ -44,6 +45,14 @@ CYCLOHEXANE_ASTM_E1840_CM1 = (
     2923.8,
     2938.3,
 )
+#: Status of each cyclohexane value (ASTM E1840, Standard Guide for Raman Shift Standards
+#: for Spectrometer Calibration): none was checked against the standard itself.
+CYCLOHEXANE_ASTM_E1840_STATUS = {
+    **{value: "second-hand" for value in CYCLOHEXANE_ASTM_E1840_CM1},
+    426.3: "second-hand; sources differ by 0.1 cm⁻¹ (another gives 426.4)",
+    2664.4: "from memory; listed by some second-hand sources and not by others, so it is "
+            "left out of CYCLOHEXANE_ASTM_E1840_CM1",
+}
 #: Uncertainty allowed for the second-hand ASTM E1840 values, cm⁻¹.
 ASTM_E1840_SECOND_HAND_U_CM1 = 0.2
 

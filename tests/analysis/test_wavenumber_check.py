@@ -62,3 +62,14 @@ def test_reference_outside_range_names_the_field():
     with pytest.raises(AnalysisInputError) as err:
         wc.check_wavenumber_axis(x, y, reference_cm1=(1001.4,))
     assert err.value.field == "reference_cm1"
+
+
+def test_every_cyclohexane_value_carries_its_status():
+    # ASTM E1840 cyclohexane bands (second-hand; 426.3, one source 426.4); 2664.4 is recalled
+    # from memory and kept out of the list used for checks.
+    statuses = wc.CYCLOHEXANE_ASTM_E1840_STATUS
+    assert all(value in statuses for value in wc.CYCLOHEXANE_ASTM_E1840_CM1)
+    assert 426.3 in wc.CYCLOHEXANE_ASTM_E1840_CM1
+    assert "426.4" in statuses[426.3]
+    assert statuses[2664.4].startswith("from memory")
+    assert 2664.4 not in wc.CYCLOHEXANE_ASTM_E1840_CM1
