@@ -51,7 +51,7 @@ class QcLab:
         return {"substrate": substrate.code, "analyte_lot": self.lot.code,
                 "reference": self.reference.code, "measured_on": self.chain.day(1).isoformat(),
                 "raw_file": SimpleUploadedFile(name, (RAMAN / name).read_bytes()),
-                **MAP_SETTINGS}
+                "surface_area_assumed_one": "true", **MAP_SETTINGS}
 
     def measure(self, substrate, name: str):
         """Import fixture map ``name`` on ``substrate`` through the service."""
@@ -60,4 +60,4 @@ class QcLab:
         return qc_measurement_import(
             actor=self.chain.maker, substrate=substrate, analyte_lot=self.lot,
             filename=name, content=(RAMAN / name).read_bytes(), measured_on=self.chain.day(1),
-            reference=self.reference, **MAP_SETTINGS)
+            reference=self.reference, surface_area_assumed_one=True, **MAP_SETTINGS)

@@ -12,16 +12,21 @@ from rest_framework import serializers
 from inventory.api.results import FlagItem, flag_items
 from inventory.api.units import DocumentedFields
 from inventory.models import Flag
+from inventory.uncertainty_format import format_with_uncertainty
 from qc.models import QcMeasurement
 from qc.services.colloid import UvVisImport
 from qc.services.raman import FLAG_CATEGORY
 
 # UvVisRecord fields an import reports, in the order a person reads them.
 UVVIS_SHOWN = (
-    "peak_nm", "peak_absorbance_1cm", "fwhm_nm", "absorbance_450_1cm", "ratio_spr_450",
+    "peak_nm", "peak_u_nm", "peak_absorbance_1cm", "fwhm_nm", "absorbance_450_1cm", "ratio_spr_450",
     "aggregation_index", "diameter_nm", "diameter_method", "calibration_source",
-    "haiss_ratio_diameter_nm", "haiss_peak_diameter_nm", "silver_table_diameter_nm",
-    "number_per_mL", "molar_concentration_M", "mie_median_diameter_nm", "mie_geometric_sigma",
+    "diameter_u_nm", "size_methods_note",
+    "haiss_ratio_diameter_nm", "haiss_ratio_diameter_u_nm", "haiss_peak_diameter_nm",
+    "haiss_peak_diameter_u_nm", "silver_table_diameter_nm", "calibration_independent",
+    "number_per_mL", "molar_concentration_M", "mie_median_diameter_nm",
+    "mie_median_diameter_u_nm", "mie_diameter_ci_low_nm", "mie_diameter_ci_high_nm",
+    "mie_diameter_bound_nm", "mie_fit_note", "mie_geometric_sigma",
     "mie_number_per_mL", "mie_relative_residual", "size_difference_percent", "sizes_agree",
     "size_agreement_message", "age_days", "peak_shift_nm", "absorbance_loss_fraction",
     "broadening_nm", "aggregation_index_change", "limits_note",
@@ -44,6 +49,14 @@ def qc_measurement_summary(m: QcMeasurement) -> dict:
         "enhancement_factor": m.enhancement_factor,
         "enhancement_factor_u": m.enhancement_factor_u,
         "log10_enhancement_factor": m.log10_enhancement_factor,
+        "enhancement_factor_text": format_with_uncertainty(m.enhancement_factor,
+                                                           m.enhancement_factor_u),
+        "intensity_measure": m.intensity_measure,
+        "surface_area_factor": m.surface_area_factor,
+        "surface_area_factor_u": m.surface_area_factor_u,
+        "surface_area_factor_text": format_with_uncertainty(m.surface_area_factor,
+                                                            m.surface_area_factor_u),
+        "surface_area_origin": m.surface_area_origin,
         "passed": m.passed, "failure_reasons": list(m.failure_reasons),
         "limits": m.limits_used, "flags": flag_items(flags),
     }
@@ -55,6 +68,10 @@ def uvvis_import_summary(result: UvVisImport) -> dict:
         "record": uv.code, "batch": uv.batch.code, "metal": uv.batch.metal,
         "measured_on": uv.measured_on.isoformat(), "duplicate": result.duplicate,
         "sha256": uv.raw_sha256, **{name: getattr(uv, name) for name in UVVIS_SHOWN},
+        "diameter_text": format_with_uncertainty(uv.diameter_nm, uv.diameter_u_nm, "nm"),
+        "mie_median_diameter_text": format_with_uncertainty(
+            uv.mie_median_diameter_nm, uv.mie_median_diameter_u_nm, "nm"),
+        "peak_text": format_with_uncertainty(uv.peak_nm, uv.peak_u_nm, "nm"),
         "breaches": list(result.breaches),
         "flags_raised": [flag.code for flag in result.flags_raised],
     }
@@ -85,6 +102,16 @@ class QcResult(DocumentedFields, serializers.Serializer):
                                 "2007).")
     enhancement_factor_u = _float("Its standard uncertainty.")
     log10_enhancement_factor = _float()
+    enhancement_factor_text = serializers.CharField(help_text="EF ± standard uncertainty, "
+                                                    "rounded to the uncertainty's two digits.")
+    intensity_measure = serializers.CharField(help_text="Band figure the EF and uniformity "
+                                              "use: 'height' or 'area'.")
+    surface_area_factor = _float("Metal area per projected area used in the EF.")
+    surface_area_factor_u = _float("Its standard uncertainty.")
+    surface_area_factor_text = serializers.CharField()
+    surface_area_origin = serializers.CharField(
+        allow_blank=True, help_text="Where the surface-area factor came from: 'derived: …', "
+                                    "'entered: <source>' or 'assumed 1 …'.")
     passed = serializers.BooleanField(help_text="True when every limit was met.")
     failure_reasons = serializers.ListField(child=serializers.CharField())
     limits = serializers.JSONField(help_text="The limit set as it was when judged.")
@@ -99,24 +126,44 @@ class UvVisResult(DocumentedFields, serializers.Serializer):
     duplicate = serializers.BooleanField(help_text="True when this file was already imported: "
                                                    "the existing record is returned.")
     sha256 = serializers.CharField(help_text="SHA-256 digest of the file (hex).")
-    peak_nm = _float("Plasmon peak wavelength.", null=False)
-    peak_absorbance_1cm = _float(null=False)
+    peak_nm = _float("Plasmon peak wavelength, from a local parabola (empty when the "
+                     "spectrum has no plasmon maximum: see size_methods_note).")
+    peak_u_nm = _float("Standard uncertainty of the peak wavelength.")
+    peak_text = serializers.CharField(help_text="Peak ± uncertainty, as shown on pages.")
+    peak_absorbance_1cm = _float()
     fwhm_nm = _float("Full width at half maximum of the plasmon band.")
-    absorbance_450_1cm = _float(null=False)
-    ratio_spr_450 = _float(null=False)
-    aggregation_index = _float(null=False)
+    absorbance_450_1cm = _float()
+    ratio_spr_450 = _float()
+    aggregation_index = _float()
+    size_methods_note = serializers.CharField(allow_blank=True, help_text="Why the size "
+                                              "methods do not apply, when they do not.")
     diameter_nm = _float("Mean diameter from the calibration (Haiss et al. 2007 for gold, "
                          "the silver table for silver).")
+    diameter_u_nm = _float("Its standard uncertainty: the method's published average "
+                           "deviation combined with the propagated peak uncertainty.")
+    diameter_text = serializers.CharField(help_text="Diameter ± uncertainty.")
     diameter_method = serializers.CharField()
     calibration_source = serializers.CharField()
     haiss_ratio_diameter_nm = _float("Gold: Haiss et al., Anal. Chem. 2007, ratio method.")
+    haiss_ratio_diameter_u_nm = _float()
     haiss_peak_diameter_nm = _float("Gold: Haiss et al., Anal. Chem. 2007, peak position.")
+    haiss_peak_diameter_u_nm = _float()
     silver_table_diameter_nm = _float("Silver: from the calibration table.")
+    calibration_independent = serializers.BooleanField(
+        allow_null=True, help_text="False when the table was computed with the same Mie model "
+                                   "as the fit (no independent check).")
     number_per_mL = _float("Particle number concentration.")
     molar_concentration_M = _float("Molar particle concentration.")
-    mie_median_diameter_nm = _float("Median diameter of the log-normal Mie fit.", null=False)
-    mie_geometric_sigma = _float(null=False)
-    mie_number_per_mL = _float("Particle concentration of the Mie fit.", null=False)
+    mie_median_diameter_nm = _float("Median diameter of the log-normal Mie fit; empty when "
+                                    "the fit ended at a bound of its search range.")
+    mie_median_diameter_u_nm = _float("Its standard uncertainty, from the fit covariance.")
+    mie_median_diameter_text = serializers.CharField()
+    mie_diameter_ci_low_nm = _float("Approximate 95 % interval, lower end.")
+    mie_diameter_ci_high_nm = _float("Approximate 95 % interval, upper end.")
+    mie_diameter_bound_nm = _float("The search bound reached (then there is no size).")
+    mie_fit_note = serializers.CharField(allow_blank=True)
+    mie_geometric_sigma = _float()
+    mie_number_per_mL = _float("Particle concentration of the Mie fit.")
     mie_relative_residual = _float(null=False)
     size_difference_percent = _float("Mie versus calibration size.")
     sizes_agree = serializers.BooleanField(allow_null=True)

@@ -14,7 +14,7 @@ from inventory.api.fields import FiniteFloat, LabDate, NamedRef, RecordRef, Uplo
 from inventory.api.serializers import ServiceSerializer
 from inventory.models import NanoparticleBatch, ReagentLot, Substrate
 from qc import services
-from qc.models import ColloidMetal, ReferenceAnalyte, ReferenceMeasurement
+from qc.models import ColloidMetal, IntensityMeasure, ReferenceAnalyte, ReferenceMeasurement
 
 
 def _analyte(**kwargs):
@@ -71,8 +71,19 @@ class QcImport(_Acquisition):
                                           help_text="Analyte molecules per nm² (default: the "
                                                     "analyte's monolayer density).")
     surface_density_rel_u = FiniteFloat(default=0.0)
-    surface_area_factor = FiniteFloat(default=1.0, help_text="Real / projected metal area.")
-    surface_area_rel_u = FiniteFloat(default=0.0)
+    surface_area_factor = FiniteFloat(
+        required=False, allow_null=True,
+        help_text="Metal area / projected area, when entered (give surface_area_source). "
+                  "Left out: derived from the substrate's deposition (sphere diameter and "
+                  "film height).")
+    surface_area_rel_u = FiniteFloat(default=0.0, help_text="Relative standard uncertainty "
+                                     "of an entered surface-area factor.")
+    surface_area_source = serializers.CharField(required=False, allow_blank=True, default="",
+                                                help_text="Where an entered factor comes "
+                                                          "from.")
+    surface_area_assumed_one = serializers.BooleanField(
+        default=False, help_text="Assume a factor of 1 (the metal area is not known); "
+                                 "recorded as 'assumed 1' with the EF.")
 
 
 class ReferenceImport(_Acquisition):
@@ -101,6 +112,9 @@ class QcLimitSetDefine(ServiceSerializer):
     min_snr = FiniteFloat(required=False, allow_null=True)
     is_example = serializers.BooleanField(default=False)
     rationale = serializers.CharField(required=False, allow_blank=True)
+    intensity_measure = serializers.ChoiceField(
+        choices=IntensityMeasure.choices, default=IntensityMeasure.HEIGHT,
+        help_text="Band figure for enhancement factors and map uniformity.")
 
 
 class ColloidLimitSetSet(ServiceSerializer):

@@ -114,23 +114,29 @@ class UvVisRecord(CodedRecord):
     wavelength_min_nm = models.FloatField()
     wavelength_max_nm = models.FloatField()
 
-    # Plasmon band (qc.analysis.uvvis.measure_plasmon_band).
-    peak_nm = models.FloatField()
-    peak_absorbance_1cm = models.FloatField()
+    # Plasmon band (qc.analysis.uvvis.measure_plasmon_band); empty when the spectrum has no
+    # plasmon maximum (size_methods_note says why), which is kept and flagged for review.
+    peak_nm = models.FloatField(null=True, blank=True)
+    peak_u_nm = models.FloatField(null=True, blank=True,
+                                  help_text="Standard uncertainty of the fitted peak position.")
+    peak_absorbance_1cm = models.FloatField(null=True, blank=True)
     fwhm_nm = models.FloatField(null=True, blank=True)
     half_width_blue_nm = models.FloatField(null=True, blank=True)
     half_width_red_nm = models.FloatField(null=True, blank=True)
     fwhm_note = models.CharField(max_length=200, blank=True)
-    absorbance_450_1cm = models.FloatField()
-    ratio_spr_450 = models.FloatField()
-    aggregation_index = models.FloatField()
+    absorbance_450_1cm = models.FloatField(null=True, blank=True)
+    ratio_spr_450 = models.FloatField(null=True, blank=True)
+    aggregation_index = models.FloatField(null=True, blank=True)
+    size_methods_note = models.TextField(blank=True)
 
     # Gold: Haiss et al. (2007), ratio and peak-position methods.
     haiss_ratio_diameter_nm = models.FloatField(null=True, blank=True)
+    haiss_ratio_diameter_u_nm = models.FloatField(null=True, blank=True)
     haiss_ratio_in_range = models.BooleanField(null=True, blank=True)
     haiss_ratio_is_estimate = models.BooleanField(null=True, blank=True)
     haiss_ratio_note = models.CharField(max_length=300, blank=True)
     haiss_peak_diameter_nm = models.FloatField(null=True, blank=True)
+    haiss_peak_diameter_u_nm = models.FloatField(null=True, blank=True)
     haiss_peak_in_range = models.BooleanField(null=True, blank=True)
     haiss_peak_note = models.CharField(max_length=300, blank=True)
 
@@ -141,18 +147,29 @@ class UvVisRecord(CodedRecord):
     silver_calibration = models.ForeignKey(SilverCalibration, null=True, blank=True,
                                            on_delete=models.PROTECT, related_name="records")
     calibration_source = models.TextField(blank=True)
+    calibration_independent = models.BooleanField(
+        null=True, blank=True,
+        help_text="False when the calibration was computed with the same Mie model as the fit.")
 
     # The calibration size used for concentration and the Mie comparison.
     diameter_nm = models.FloatField(null=True, blank=True)
+    diameter_u_nm = models.FloatField(null=True, blank=True)
     diameter_method = models.CharField(max_length=200, blank=True)
     number_per_mL = models.FloatField(null=True, blank=True)
     molar_concentration_M = models.FloatField(null=True, blank=True)
     concentration_note = models.CharField(max_length=300, blank=True)
 
-    # Log-normal Mie fit (qc.analysis.mie_model.fit_lognormal_mie).
-    mie_median_diameter_nm = models.FloatField()
-    mie_geometric_sigma = models.FloatField()
-    mie_number_per_mL = models.FloatField()
+    # Log-normal Mie fit (qc.analysis.mie_model.fit_lognormal_mie).  At a bound of the
+    # diameter search there is no size: the bound is kept in mie_diameter_bound_nm.
+    mie_median_diameter_nm = models.FloatField(null=True, blank=True)
+    mie_median_diameter_u_nm = models.FloatField(null=True, blank=True)
+    mie_diameter_ci_low_nm = models.FloatField(null=True, blank=True)
+    mie_diameter_ci_high_nm = models.FloatField(null=True, blank=True)
+    mie_diameter_bound_nm = models.FloatField(null=True, blank=True)
+    mie_geometric_sigma = models.FloatField(null=True, blank=True)
+    mie_sigma_bound = models.CharField(max_length=8, blank=True)
+    mie_fit_note = models.CharField(max_length=300, blank=True)
+    mie_number_per_mL = models.FloatField(null=True, blank=True)
     mie_rms_residual = models.FloatField()
     mie_relative_residual = models.FloatField()
     mie_fit_min_nm = models.FloatField()
@@ -187,4 +204,9 @@ class UvVisRecord(CodedRecord):
             ),
             models.CheckConstraint(name="uvvis_path_positive", condition=Q(path_length_cm__gt=0)),
             models.CheckConstraint(name="uvvis_age_non_negative", condition=Q(age_days__gte=0)),
+            models.CheckConstraint(name="uvvis_sized_or_said_why",
+                                   condition=Q(peak_nm__isnull=False) | ~Q(size_methods_note="")),
+            models.CheckConstraint(name="uvvis_mie_size_or_bound",
+                                   condition=Q(mie_median_diameter_nm__isnull=False)
+                                   | Q(mie_diameter_bound_nm__isnull=False)),
         ]

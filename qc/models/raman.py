@@ -12,7 +12,7 @@ from django.db.models import Q
 
 from inventory.models import CodedRecord, StampedRecord, Substrate
 
-__all__ = ["QcLimitSet", "QcMeasurement", "ReferenceAnalyte", "ReferenceMeasurement"]
+__all__ = ["IntensityMeasure", "QcLimitSet", "QcMeasurement", "ReferenceAnalyte", "ReferenceMeasurement"]
 
 
 class ReferenceAnalyte(StampedRecord):
@@ -79,6 +79,8 @@ class _Acquisition(models.Model):
     normalised_height_u_counts_per_mW_s = models.FloatField(null=True, blank=True,
                                                             editable=False)
     normalised_area_counts_cm1_per_mW_s = models.FloatField(editable=False)
+    normalised_area_u_counts_cm1_per_mW_s = models.FloatField(null=True, blank=True,
+                                                              editable=False)
     snr = models.FloatField(editable=False)
     spikes_removed = models.PositiveIntegerField(default=0, editable=False)
 
@@ -124,6 +126,13 @@ class ReferenceMeasurement(_Acquisition, CodedRecord):
         ]
 
 
+class IntensityMeasure(models.TextChoices):
+    """Which band figure enhancement factors and uniformity use (labs report either)."""
+
+    HEIGHT = "height", "Band height"
+    AREA = "area", "Integrated band area"
+
+
 class QcLimitSet(StampedRecord):
     """The lab's limits for one product kind (substrate stage) tested with one analyte.
 
@@ -143,9 +152,13 @@ class QcLimitSet(StampedRecord):
     valid_days = models.PositiveIntegerField()
     is_example = models.BooleanField(default=False)
     rationale = models.TextField(blank=True)
+    intensity_measure = models.CharField(max_length=8, choices=IntensityMeasure.choices,
+                                         default=IntensityMeasure.HEIGHT)
 
     class Meta:
         constraints = [
+            models.CheckConstraint(name="limit_intensity_measure_known",
+                                   condition=Q(intensity_measure__in=IntensityMeasure.values)),
             models.UniqueConstraint(fields=["product_kind", "analyte"],
                                     name="one_limit_set_per_kind_and_analyte"),
             models.CheckConstraint(name="limit_ef_positive",
@@ -172,6 +185,7 @@ class QcLimitSet(StampedRecord):
             "max_rsd_percent": self.max_rsd_percent, "min_snr": self.min_snr,
             "band_position_tolerance_cm1": self.band_position_tolerance_cm1,
             "valid_days": self.valid_days, "is_example": self.is_example,
+            "intensity_measure": self.intensity_measure,
         }
 
 
@@ -208,6 +222,13 @@ class QcMeasurement(_Acquisition, CodedRecord):
     enhancement_factor_u = models.FloatField(null=True, blank=True, editable=False)
     log10_enhancement_factor = models.FloatField(null=True, blank=True, editable=False)
     log10_enhancement_factor_u = models.FloatField(null=True, blank=True, editable=False)
+    # Which band figure the EF and uniformity use, and the EF's surface-area factor with its
+    # standard uncertainty and origin ("derived: …", "entered: <source>", "assumed 1 …").
+    intensity_measure = models.CharField(max_length=8, choices=IntensityMeasure.choices,
+                                         default=IntensityMeasure.HEIGHT, editable=False)
+    surface_area_factor = models.FloatField(null=True, blank=True, editable=False)
+    surface_area_factor_u = models.FloatField(null=True, blank=True, editable=False)
+    surface_area_origin = models.CharField(max_length=400, blank=True, editable=False)
     ef_inputs = models.JSONField(null=True, blank=True, editable=False)
     limits_used = models.JSONField(default=dict, editable=False)
     passed = models.BooleanField(editable=False)
@@ -222,6 +243,16 @@ class QcMeasurement(_Acquisition, CodedRecord):
                                    condition=(Q(map_nx__isnull=True) | Q(map_nx__gt=0))
                                    & (Q(map_ny__isnull=True) | Q(map_ny__gt=0))
                                    & (Q(map_step_um__isnull=True) | Q(map_step_um__gt=0))),
+            models.CheckConstraint(name="qc_surface_area_factor_range",
+                                   condition=Q(surface_area_factor__isnull=True)
+                                   | (Q(surface_area_factor__gte=1)
+                                      & Q(surface_area_factor__lte=1000))),
+            models.CheckConstraint(name="qc_ef_has_surface_area_origin",
+                                   condition=Q(enhancement_factor__isnull=True)
+                                   | (Q(surface_area_factor__isnull=False)
+                                      & ~Q(surface_area_origin=""))),
+            models.CheckConstraint(name="qc_measurement_measure_known",
+                                   condition=Q(intensity_measure__in=IntensityMeasure.values)),
             models.CheckConstraint(name="qc_fraction_range",
                                    condition=Q(fraction_within_20_percent__isnull=True)
                                    | (Q(fraction_within_20_percent__gte=0)

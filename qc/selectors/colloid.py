@@ -27,12 +27,12 @@ class UvVisPoint:
     code: str
     measured_on: date
     age_days: int
-    peak_nm: float
-    peak_absorbance_1cm: float
+    peak_nm: float | None
+    peak_absorbance_1cm: float | None
     fwhm_nm: float | None
-    aggregation_index: float
+    aggregation_index: float | None
     diameter_nm: float | None
-    mie_median_diameter_nm: float
+    mie_median_diameter_nm: float | None
     number_per_mL: float | None
     peak_shift_nm: float | None
     absorbance_loss_fraction: float | None
@@ -52,8 +52,8 @@ class ColloidSize:
     calibration_source: str
     number_per_mL: float | None
     molar_concentration_M: float | None
-    mie_median_diameter_nm: float
-    mie_geometric_sigma: float
+    mie_median_diameter_nm: float | None
+    mie_geometric_sigma: float | None
     sizes_agree: bool | None
     size_agreement_message: str
 
@@ -115,6 +115,8 @@ def uvvis_record_get_curves(record: UvVisRecord) -> UvVisCurves:
         absorbance = subtract_blank(spectrum.x, absorbance, blank.x, blank.y)
     absorbance_1cm = to_undiluted_1cm(absorbance, dilution_factor=record.dilution_factor,
                                       path_length_cm=record.path_length_cm)
+    if record.mie_median_diameter_nm is None:  # the fit ended at a bound: no model to draw
+        return UvVisCurves(spectrum.x, absorbance_1cm, spectrum.x[:0], spectrum.x[:0])
     inside = (spectrum.x >= record.mie_fit_min_nm) & (spectrum.x <= record.mie_fit_max_nm)
     model_wavelength = spectrum.x[inside]
     model = synthesize_absorbance(

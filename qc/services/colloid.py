@@ -47,7 +47,13 @@ from qc.analysis.errors import AnalysisInputError
 from qc.analysis.mie_model import compare_sizes, fit_lognormal_mie
 from qc.analysis.readers import read_spectrum
 from qc.analysis.spectrum import Spectrum
-from qc.analysis.uvvis import PlasmonBand, subtract_blank, to_undiluted_1cm
+from qc.analysis.uvvis import (
+    NoPlasmonPeakError,
+    PlasmonBand,
+    check_wavelength_axis_nm,
+    subtract_blank,
+    to_undiluted_1cm,
+)
 
 from ..models.colloid import (
     ColloidLimitSet,
@@ -197,19 +203,21 @@ def uvvis_record_import(
     snapshot, absorbance_1cm, wavelength_nm = _measure(
         record, batch.metal, filename, content, blank
     )
-    _store_band(record, snapshot)
-    calibration_diameter = _store_calibration(record, batch.metal, snapshot.band)
+    calibration_diameter = None
+    if snapshot is not None:
+        _store_band(record, snapshot)
+        calibration_diameter = _store_calibration(record, batch.metal, snapshot.band)
     _store_mie(record, batch.metal, wavelength_nm, absorbance_1cm, calibration_diameter)
     limits = ColloidLimitSet.objects.filter(metal=batch.metal).first()
     _store_size_agreement(record, limits)
-    if first is not None:
+    if first is not None and snapshot is not None and first.peak_nm is not None:
         _store_stability(record, first, snapshot)
 
     record.raw_file = ContentFile(content, name=filename)
     if blank is not None:
         record.blank_file = ContentFile(blank[1], name=blank[0])
         record.blank_sha256 = sha256_of(blank[1])
-    breaches = _evaluate(record, limits)
+    breaches = _review_breaches(record) + _evaluate(record, limits)
     with _files_removed_if_failed(record):
         record = _save_new(record, actor=actor)
         _link([(batch, "colloid measured")], record, used_on=measured_on, actor=actor)
@@ -289,11 +297,16 @@ def _measure(record: UvVisRecord, metal: str, filename: str, content: bytes,
             name = blank[0] if field == "blank_file" else filename
             raise _analysis_refusal(error, file_field=field, filename=name) from None
     try:
-        snapshot = colloid_snapshot(wavelength_nm, absorbance, metal=metal, day=record.age_days,
-                                    dilution_factor=record.dilution_factor,
-                                    path_length_cm=record.path_length_cm)
         absorbance_1cm = to_undiluted_1cm(absorbance, dilution_factor=record.dilution_factor,
                                           path_length_cm=record.path_length_cm)
+        try:
+            snapshot = colloid_snapshot(wavelength_nm, absorbance, metal=metal,
+                                        day=record.age_days,
+                                        dilution_factor=record.dilution_factor,
+                                        path_length_cm=record.path_length_cm)
+        except NoPlasmonPeakError as error:
+            snapshot = None
+            _store_unsized(record, wavelength_nm, absorbance_1cm, error.message)
     except AnalysisInputError as error:
         raise _analysis_refusal(error, file_field="raw_file", filename=filename) from None
     record.point_count = int(wavelength_nm.size)
@@ -302,9 +315,23 @@ def _measure(record: UvVisRecord, metal: str, filename: str, content: bytes,
     return snapshot, absorbance_1cm, wavelength_nm
 
 
+def _store_unsized(record: UvVisRecord, wavelength_nm, absorbance_1cm, reason: str) -> None:
+    """A spectrum without a plasmon maximum: keep what applies and say why sizes do not."""
+    axis = check_wavelength_axis_nm(wavelength_nm)
+    order = np.argsort(axis)
+    if axis[order][0] <= 450.0 <= axis[order][-1]:
+        record.absorbance_450_1cm = float(np.interp(450.0, axis[order], absorbance_1cm[order]))
+    record.size_methods_note = (
+        f"No size from the peak-based methods: {reason}. The Haiss et al. (2007) ratio and "
+        "peak-position methods and the calibration table need a single plasmon maximum, as "
+        "do the peak and width limits; large particles (a broad dipole band with a "
+        "quadrupole shoulder) or aggregates give none. The spectrum is kept for review.")
+
+
 def _store_band(record: UvVisRecord, snapshot: ColloidSnapshot) -> None:
     band = snapshot.band
     record.peak_nm = band.peak_nm
+    record.peak_u_nm = band.peak_u_nm
     record.peak_absorbance_1cm = band.peak_absorbance_1cm
     record.fwhm_nm = band.fwhm_nm
     record.half_width_blue_nm = band.half_width_blue_nm
@@ -323,8 +350,12 @@ def _store_calibration(record: UvVisRecord, metal: str, band: PlasmonBand) -> fl
 
 
 def _store_gold(record: UvVisRecord, band: PlasmonBand) -> float | None:
-    ratio = gold_haiss.diameter_from_ratio(band.ratio_spr_450)
-    peak = gold_haiss.diameter_from_peak(band.peak_nm)
+    # u(R)/R = u(A_spr)/A_spr: the 450 nm reading is interpolated, not fitted.
+    ratio_u = band.ratio_spr_450 * band.peak_absorbance_u_1cm / band.peak_absorbance_1cm
+    ratio = gold_haiss.diameter_from_ratio(band.ratio_spr_450, ratio_u=ratio_u)
+    peak = gold_haiss.diameter_from_peak(band.peak_nm, peak_u_nm=band.peak_u_nm)
+    record.haiss_ratio_diameter_u_nm = ratio.standard_uncertainty
+    record.haiss_peak_diameter_u_nm = peak.standard_uncertainty
     record.haiss_ratio_diameter_nm = ratio.value
     record.haiss_ratio_in_range = ratio.within_range
     record.haiss_ratio_is_estimate = ratio.is_estimate
@@ -344,6 +375,7 @@ def _store_gold(record: UvVisRecord, band: PlasmonBand) -> float | None:
         record.concentration_note = "no calibration size in range, so no concentration"
         return None
     record.diameter_nm, record.diameter_method = chosen.value, method
+    record.diameter_u_nm = chosen.standard_uncertainty
     number = gold_haiss.number_concentration_per_mL(band.absorbance_450_1cm, chosen.value)
     record.concentration_note = number.note
     if number.value is not None:
@@ -356,7 +388,9 @@ def _store_silver(record: UvVisRecord, band: PlasmonBand) -> float | None:
     table, stored = silver_calibration_active()
     record.silver_calibration = stored
     record.calibration_source = (f"lab table '{stored.name}': {stored.provenance}" if stored
-                                 else f"built-in table ({table.provenance})")
+                                 else f"built-in table ({table.provenance}); not independent "
+                                      "of the Mie fit")
+    record.calibration_independent = table.independent_of_mie
     size = silver_calibration.diameter_from_peak(table, band.peak_nm)
     record.silver_table_diameter_nm = size.value
     record.silver_table_in_range = size.within_range
@@ -380,12 +414,20 @@ def _store_mie(record: UvVisRecord, metal: str, wavelength_nm, absorbance_1cm,
         fit = fit_lognormal_mie(wavelength_nm, absorbance_1cm, metal, fit_range_nm=MIE_FIT_RANGE_NM,
                                 initial_diameter_nm=calibration_diameter_nm or 30.0)
     except AnalysisInputError as error:
-        raise _analysis_refusal(
-            error, file_field="raw_file", filename=record.raw_file_name
-        ) from None
-    record.mie_median_diameter_nm = fit.median_diameter_nm
-    record.mie_geometric_sigma = fit.geometric_sigma
-    record.mie_number_per_mL = fit.number_per_mL
+        raise _analysis_refusal(error, file_field="raw_file",
+                                filename=record.raw_file_name) from None
+    record.mie_fit_note = fit.limit_note
+    record.mie_sigma_bound = fit.sigma_bound
+    if fit.has_size:
+        record.mie_median_diameter_nm = fit.median_diameter_nm
+        record.mie_median_diameter_u_nm = fit.median_diameter_u_nm
+        if fit.median_diameter_ci95_nm is not None:
+            record.mie_diameter_ci_low_nm, record.mie_diameter_ci_high_nm = \
+                fit.median_diameter_ci95_nm
+        record.mie_geometric_sigma = fit.geometric_sigma
+        record.mie_number_per_mL = fit.number_per_mL
+    else:
+        record.mie_diameter_bound_nm = fit.diameter_bound_nm
     record.mie_rms_residual = fit.rms_residual
     record.mie_relative_residual = fit.relative_rms_residual
     record.mie_fit_min_nm, record.mie_fit_max_nm = MIE_FIT_RANGE_NM
@@ -395,9 +437,14 @@ def _store_size_agreement(record: UvVisRecord, limits: ColloidLimitSet | None) -
     if record.diameter_nm is None:
         record.size_agreement_message = "no calibration size to compare with the Mie fit"
         return
+    if record.mie_median_diameter_nm is None:
+        record.size_agreement_message = "the Mie fit gave no size to compare"
+        return
     tolerance = limits.size_tolerance_percent if limits else 15.0
     agreement = compare_sizes(record.mie_median_diameter_nm, record.diameter_nm,
-                              tolerance_percent=tolerance)
+                              tolerance_percent=tolerance,
+                              calibration_independent=record.calibration_independent
+                              is not False)
     record.size_difference_percent = agreement.difference_percent
     record.sizes_agree = agreement.agrees
     record.size_agreement_message = agreement.message + ("" if limits else " (default tolerance: "
@@ -408,7 +455,7 @@ def _snapshot_of(record: UvVisRecord) -> ColloidSnapshot:
     """Rebuild the stored numbers of a record as the analysis' snapshot (no re-reading)."""
     band = PlasmonBand(record.peak_nm, record.peak_absorbance_1cm, record.fwhm_nm,
                        record.half_width_blue_nm, record.half_width_red_nm, record.fwhm_note,
-                       record.absorbance_450_1cm, record.ratio_spr_450)
+                       record.absorbance_450_1cm, record.ratio_spr_450, record.peak_u_nm or 0.0)
     return ColloidSnapshot(float(record.age_days), band, record.aggregation_index)
 
 
@@ -432,6 +479,21 @@ def _breach(limit: str, value: float, limit_value: float, sentence: str) -> dict
             "message": sentence, "flag_code": "", "flag_raised": False}
 
 
+def _review_breaches(record: UvVisRecord) -> list[dict]:
+    """Results that need a person whatever the limits: no size, a fit at its bounds."""
+    found = []
+    if record.peak_nm is None:
+        found.append(_breach("size_methods", 0.0, 0.0, "no plasmon maximum, so no size: "
+                             "review the spectrum (large particles or aggregates)"))
+    if record.mie_diameter_bound_nm is not None:
+        found.append(_breach("mie_fit_range", record.mie_diameter_bound_nm,
+                             record.mie_diameter_bound_nm, f"Mie fit {record.mie_fit_note}"))
+    if record.mie_sigma_bound == "upper" and record.mie_geometric_sigma is not None:
+        found.append(_breach("mie_width_bound", record.mie_geometric_sigma,
+                             record.mie_geometric_sigma, f"Mie fit: {record.mie_fit_note}"))
+    return found
+
+
 def _evaluate(record: UvVisRecord, limits: ColloidLimitSet | None) -> list[dict]:
     """The lab's colloid rules: one breach per limit exceeded (stored on the record)."""
     if limits is None:
@@ -439,6 +501,9 @@ def _evaluate(record: UvVisRecord, limits: ColloidLimitSet | None) -> list[dict]
         return []
     record.limit_set = limits
     notes, breaches = [], []
+    if record.peak_nm is None:
+        record.limits_note = "no plasmon maximum: peak, width and aggregation limits not evaluated"
+        return []
     if not limits.peak_min_nm <= record.peak_nm <= limits.peak_max_nm:
         breaches.append(_breach("peak_window_nm", record.peak_nm, limits.peak_min_nm
                                 if record.peak_nm < limits.peak_min_nm else limits.peak_max_nm,

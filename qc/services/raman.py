@@ -34,7 +34,13 @@ from inventory.signatures import SignatureIntent
 from qc.analysis.spectrum import RamanMap
 
 from ..models.raman import QcMeasurement, ReferenceAnalyte, ReferenceMeasurement
-from .enhancement import SurfaceCoverage, enhancement_fields, substrate_enhancement
+from .enhancement import (
+    FILM_HEIGHT_REL_U_DEFAULT,
+    SurfaceCoverage,
+    enhancement_fields,
+    substrate_enhancement,
+    surface_area_for,
+)
 from .raman_analysis import FILE_FIELD, analyse, read_upload
 
 # The definitions live in raman_limits; named here too, so the Raman QC services stay one API.
@@ -90,17 +96,26 @@ class QcImportRequest(_Acquisition):
     reference: ReferenceMeasurement | None = None
     surface_density_per_nm2: float | None = None
     surface_density_rel_u: float = 0.0
-    surface_area_factor: float = 1.0
+    # The surface-area factor: derived from the substrate's deposition unless entered (with
+    # its source) or assumed to be 1 by explicit choice (enhancement.surface_area_for).
+    surface_area_factor: float | None = None
     surface_area_rel_u: float = 0.0
+    surface_area_source: str = ""
+    surface_area_assumed_one: bool = False
+    film_height_rel_u: float = FILM_HEIGHT_REL_U_DEFAULT
 
-    def coverage(self, analyte: ReferenceAnalyte) -> SurfaceCoverage:
-        """Surface coverage for the EF: the analyte's monolayer density unless given."""
+    def coverage(self, analyte: ReferenceAnalyte, substrate: Substrate) -> SurfaceCoverage:
+        """Surface coverage for the EF: the analyte's monolayer density unless given, and
+        the substrate's metal area per projected area."""
         density = (analyte.surface_density_per_nm2 if self.surface_density_per_nm2 is None
                    else self.surface_density_per_nm2)
-        return SurfaceCoverage(surface_density_per_nm2=density,
-                               surface_density_rel_u=self.surface_density_rel_u,
-                               surface_area_factor=self.surface_area_factor,
-                               surface_area_rel_u=self.surface_area_rel_u)
+        area = surface_area_for(substrate, entered=self.surface_area_factor,
+                                entered_rel_u=self.surface_area_rel_u,
+                                source=self.surface_area_source,
+                                assumed_one=self.surface_area_assumed_one,
+                                film_height_rel_u=self.film_height_rel_u)
+        return SurfaceCoverage(surface_density_per_nm2=density, surface_area=area,
+                               surface_density_rel_u=self.surface_density_rel_u)
 
 
 def _acquisition_fields(request: _Acquisition) -> dict:
@@ -248,6 +263,12 @@ def qc_measurement_import(*, actor: User | None, request: QcImportRequest | None
     scattering volume.  The figures are judged against the limit set for the substrate's
     stage and analyte.  A failure raises an open ``qc`` flag on the substrate and puts a
     released substrate back in quarantine.
+
+    The EF's surface-area factor is derived from the substrate's deposition unless
+    ``surface_area_factor`` is entered (with ``surface_area_source``) or
+    ``surface_area_assumed_one`` is chosen (``enhancement.surface_area_for``); the limit
+    set's ``intensity_measure`` says whether band heights or areas are used, and both the
+    origin and the measure are stored with the EF.
     """
     request = request or QcImportRequest(**parameters)
     require_role(actor, MAKER, action="Importing a QC measurement")
@@ -261,21 +282,26 @@ def qc_measurement_import(*, actor: User | None, request: QcImportRequest | None
     _refuse_reimport(QcMeasurement.objects.filter(substrate=substrate), request.content)
     band = analyse(data, band_center_cm1=analyte.qc_band_cm1,
                    band_window_cm1=analyte.qc_band_window_cm1, power_mW=request.power_mW,
-                   integration_s=request.integration_s, accumulations=request.accumulations)
-    factor, ef_inputs = (None, None)
+                   integration_s=request.integration_s, accumulations=request.accumulations,
+                   measure=limits.intensity_measure)
+    factor, ef_inputs, coverage = (None, None, None)
     if request.reference is not None:
-        factor, ef_inputs = substrate_enhancement(band, request.reference,
-                                                  request.coverage(analyte))
+        coverage = request.coverage(analyte, substrate)
+        factor, ef_inputs = substrate_enhancement(band, request.reference, coverage,
+                                                  measure=limits.intensity_measure)
     reasons = qc_judge(limits=limits, band_center_cm1=analyte.qc_band_cm1,
                        band_position_cm1=band.band_position_cm1, snr=band.snr,
                        rsd_percent=band.rsd_percent,
                        enhancement_factor=factor.value if factor else None)
+    if band.band_limit_note:
+        reasons.append(f"The band fit is not a measurement: {band.band_limit_note}.")
     measurement = QcMeasurement(
         substrate=substrate, analyte=analyte, reference=request.reference, limit_set=limits,
         product_kind=substrate.stage, **_acquisition_fields(request),
         band_center_cm1=analyte.qc_band_cm1, band_window_cm1=analyte.qc_band_window_cm1,
         is_map=isinstance(data, RamanMap), **band.band_fields(), **band.map_fields(),
-        **enhancement_fields(factor, ef_inputs), limits_used=limits.as_snapshot(),
+        **enhancement_fields(factor, ef_inputs, coverage.surface_area if coverage else None),
+        intensity_measure=limits.intensity_measure, limits_used=limits.as_snapshot(),
         passed=not reasons, failure_reasons=reasons)
     parents = [(substrate, "measured"), (request.analyte_lot, "reference analyte")]
     if request.reference is not None:

@@ -22,7 +22,7 @@ from qc.analysis.spectrum import RamanMap, Spectrum
 FILE_FIELD = "raw_file"
 # Parameters a science function may name; anything else it names is inside the file.
 _PARAMETERS = {"laser_nm", "power_mW", "integration_s", "accumulations",
-               "surface_density_per_nm2", "surface_area_factor",
+               "surface_density_per_nm2", "surface_area_factor", "surface_area_rel_u",
                "concentration_mol_L", "effective_height_um", "effective_area_um2"}
 # Science-side parameter names that mean one of ours.
 _RENAMED = {"molecule_density_per_nm2": "surface_density_per_nm2",
@@ -68,6 +68,7 @@ class MeasuredBand:
     normalised_height_counts_per_mW_s: float
     normalised_height_u_counts_per_mW_s: float
     normalised_area_counts_cm1_per_mW_s: float
+    normalised_area_u_counts_cm1_per_mW_s: float
     snr: float
     spikes_removed: int
     n_points: int = 1
@@ -78,20 +79,28 @@ class MeasuredBand:
     map_nx: int | None = None
     map_ny: int | None = None
     map_step_um: float | None = None
+    band_limit_note: str = ""
 
-    @property
-    def height_rel_u(self) -> float:
-        return relative_u(self.normalised_height_u_counts_per_mW_s,
-                          self.normalised_height_counts_per_mW_s)
+    def intensity(self, measure: str) -> tuple[float, float]:
+        """The band figure an EF uses ("height" or "area") and its relative uncertainty."""
+        if measure == "area":
+            return (self.normalised_area_counts_cm1_per_mW_s,
+                    relative_u(self.normalised_area_u_counts_cm1_per_mW_s,
+                               self.normalised_area_counts_cm1_per_mW_s))
+        return (self.normalised_height_counts_per_mW_s,
+                relative_u(self.normalised_height_u_counts_per_mW_s,
+                           self.normalised_height_counts_per_mW_s))
 
     def band_fields(self) -> dict:
         """The band figures every acquisition stores, as model keyword arguments."""
         height_u = self.normalised_height_u_counts_per_mW_s
+        area_u = self.normalised_area_u_counts_cm1_per_mW_s
         return dict(
             band_position_cm1=self.band_position_cm1, band_fwhm_cm1=self.band_fwhm_cm1,
             normalised_height_counts_per_mW_s=self.normalised_height_counts_per_mW_s,
             normalised_height_u_counts_per_mW_s=height_u if math.isfinite(height_u) else None,
             normalised_area_counts_cm1_per_mW_s=self.normalised_area_counts_cm1_per_mW_s,
+            normalised_area_u_counts_cm1_per_mW_s=area_u if math.isfinite(area_u) else None,
             snr=self.snr, spikes_removed=self.spikes_removed)
 
     def map_fields(self) -> dict:
@@ -105,15 +114,20 @@ class MeasuredBand:
 
 
 def analyse(data: Spectrum | RamanMap, *, band_center_cm1: float, band_window_cm1: float,
-            power_mW: float, integration_s: float, accumulations: int) -> MeasuredBand:
-    """Run the QC pipeline on a spectrum or a map; a science error becomes a refusal."""
+            power_mW: float, integration_s: float, accumulations: int,
+            measure: str = "height") -> MeasuredBand:
+    """Run the QC pipeline on a spectrum or a map; a science error becomes a refusal.
+
+    ``measure`` ("height" or "area", from the limit set) picks the per-point figure a map's
+    uniformity and heat map describe.
+    """
     settings = dict(band_center_cm1=band_center_cm1, band_window_cm1=band_window_cm1,
                     power_mW=power_mW, integration_s=integration_s,
                     accumulations=accumulations)
     try:
         if isinstance(data, RamanMap):
             result = qc_pipeline.analyse_qc_map(data.shift_cm1, data.intensity, **settings)
-            return _map_band(result, data)
+            return _map_band(result, data, measure)
         result = qc_pipeline.analyse_qc_spectrum(data.x, data.y, **settings)
         return _band(result.band, spikes_removed=result.spikes_removed)
     except AnalysisInputError as error:
@@ -125,8 +139,9 @@ def _band(band, *, spikes_removed: int, **extra) -> MeasuredBand:
         band_position_cm1=float(band.position_cm1), band_fwhm_cm1=float(band.fwhm_cm1),
         normalised_height_counts_per_mW_s=float(band.height),
         normalised_height_u_counts_per_mW_s=float(band.height_se),
-        normalised_area_counts_cm1_per_mW_s=float(band.area), snr=float(band.snr),
-        spikes_removed=int(spikes_removed), **extra)
+        normalised_area_counts_cm1_per_mW_s=float(band.area),
+        normalised_area_u_counts_cm1_per_mW_s=float(band.area_se), snr=float(band.snr),
+        spikes_removed=int(spikes_removed), band_limit_note=band.limit_note, **extra)
 
 
 def _map_step_um(raman_map: RamanMap) -> float | None:
@@ -136,22 +151,27 @@ def _map_step_um(raman_map: RamanMap) -> float | None:
     return float(np.median(steps)) if steps.size else None
 
 
-def _map_band(result, raman_map: RamanMap) -> MeasuredBand:
-    """Map figures: headline band from the mean spectrum, spread from the per-point heights."""
+def _map_band(result, raman_map: RamanMap, measure: str) -> MeasuredBand:
+    """Map figures: headline band from the mean spectrum, spread from the per-point values."""
     heights = np.asarray(result.height_per_point)
+    areas = np.asarray(result.area_per_point)
+    uniformity = result.area_uniformity if measure == "area" else result.uniformity
+    shown = areas if measure == "area" else heights
     point_values = {"x_um": raman_map.x_um.tolist(), "y_um": raman_map.y_um.tolist(),
-                    "normalised_height_counts_per_mW_s": heights.tolist()}
+                    "normalised_height_counts_per_mW_s": heights.tolist(),
+                    "normalised_area_counts_cm1_per_mW_s": areas.tolist(),
+                    "measure": measure}
     nx = ny = step = None
     if raman_map.grid_shape is not None:
         ny, nx = (int(n) for n in raman_map.grid_shape)
         xs, ys = raman_map.grid_axes()
         point_values["image"] = {"x_um": xs.tolist(), "y_um": ys.tolist(),
-                                 "rows": raman_map.image(heights).tolist()}
+                                 "rows": raman_map.image(shown).tolist()}
         step = _map_step_um(raman_map)
     return _band(
         result.mean_band, spikes_removed=result.spikes_removed,
         n_points=int(result.n_points),
         median_height_counts_per_mW_s=float(result.median_height_counts_per_mW_s),
-        rsd_percent=float(result.rsd_percent),
-        fraction_within_20_percent=float(result.fraction_within_tolerance),
+        rsd_percent=float(uniformity.rsd_percent),
+        fraction_within_20_percent=float(uniformity.fraction_within_tolerance),
         point_values=point_values, map_nx=nx, map_ny=ny, map_step_um=step)

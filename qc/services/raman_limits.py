@@ -57,8 +57,13 @@ def qc_limit_set_define(
     band_position_tolerance_cm1: float, valid_days: int,
     min_enhancement_factor: float | None = None, max_rsd_percent: float | None = None,
     min_snr: float | None = None, is_example: bool = False, rationale: str = "",
+    intensity_measure: str = "height",
 ) -> QcLimitSet:
-    """Create or replace the limits for one product kind tested with one analyte."""
+    """Create or replace the limits for one product kind tested with one analyte.
+
+    ``intensity_measure`` ("height" or "area", common practice either way) says which band
+    figure enhancement factors and map uniformity of this kind are computed from.
+    """
     require_role(actor, ADMINISTRATOR, action="Setting QC limits")
     limits = QcLimitSet.objects.select_for_update().filter(
         product_kind=product_kind, analyte=analyte).first() or QcLimitSet(
@@ -66,7 +71,7 @@ def qc_limit_set_define(
     values = dict(band_position_tolerance_cm1=band_position_tolerance_cm1,
                   valid_days=valid_days, min_enhancement_factor=min_enhancement_factor,
                   max_rsd_percent=max_rsd_percent, min_snr=min_snr, is_example=is_example,
-                  rationale=rationale)
+                  rationale=rationale, intensity_measure=intensity_measure)
     for name, value in values.items():
         setattr(limits, name, value)
     limits.updated_by = actor

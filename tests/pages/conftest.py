@@ -75,7 +75,7 @@ def _qc(chain, substrate, lot, reference, filename):
     return qc_measurement_import(actor=chain.maker, substrate=substrate, analyte_lot=lot,
                                  filename=filename, content=fixture_bytes("raman", filename),
                                  measured_on=chain.day(1), reference=reference,
-                                 **MAP_SETTINGS)
+                                 surface_area_assumed_one=True, **MAP_SETTINGS)
 
 
 def build_lab(chain, users) -> Lab:

@@ -83,3 +83,62 @@ def test_colloid_demo_flags_only_the_ageing_batch(db, today):
     assert before["ready_a"] is True
     blocked = substrate_check_readiness(scenario.substrates["old_linker"].code)
     assert {f.code for f in uv_flags} <= {r.record_code for r in blocked.reasons}
+
+
+def _miepython_gold_file(path: Path, diameter_nm: float) -> Path:
+    """A single-size gold colloid spectrum computed with miepython alone (its own copy of
+    the Johnson & Christy 1972 gold table, water n = 1.333), peak absorbance 0.8."""
+    import miepython
+    import numpy as np
+
+    blocks = (Path(miepython.__file__).parent / "data" / "Johnson.txt").read_text().split("wl")
+    columns = [np.array([line.split() for line in b.splitlines()[1:] if line.strip()], float)
+               for b in blocks[1:3]]
+    wavelength = np.arange(300.0, 851.0, 1.0)
+    n = np.interp(wavelength, columns[0][:, 0] * 1000, columns[0][:, 1])
+    k = np.interp(wavelength, columns[1][:, 0] * 1000, columns[1][:, 1])
+    q_ext = np.array([miepython.efficiencies(complex(a, -b), diameter_nm, lam, n_env=1.333)[0]
+                      for a, b, lam in zip(n, k, wavelength)])
+    absorbance = 0.8 * q_ext / q_ext.max()
+    path.write_text("wavelength_nm,absorbance\n" + "".join(
+        f"{lam:.0f},{a:.5f}\n" for lam, a in zip(wavelength, absorbance)))
+    return path
+
+
+def test_a_large_gold_colloid_is_kept_unsized_and_flagged(chain, capsys, tmp_path):
+    # ~150 nm gold: a broad dipole band beyond the gold peak window with a quadrupole
+    # shoulder. It must be recorded, say why no size method applies, and flag the batch.
+    batch = chain.s.nanoparticle_batch_make(actor=chain.maker, metal="Au",
+                                            synthesis_method="seeded_growth", volume_mL=50,
+                                            made_on=chain.day(5))
+    path = _miepython_gold_file(tmp_path / "gold_150nm.csv", 150.0)
+    payload = json.loads(_run(capsys, batch.code, str(path), "--measured-on",
+                              chain.day(1).isoformat(), "--json"))
+    record = UvVisRecord.objects.get(code=payload["record"])
+    assert record.peak_nm is None and payload["peak_nm"] is None
+    assert "ratio and peak-position methods" in record.size_methods_note
+    assert record.diameter_nm is None and record.absorbance_450_1cm is not None
+    # The Mie fit ends at its 120 nm search bound: no size, the bound said instead.
+    assert record.mie_median_diameter_nm is None and record.mie_diameter_bound_nm == 120.0
+    assert "outside the fit range" in payload["mie_fit_note"]
+    limits = {b["limit"] for b in payload["breaches"]}
+    assert {"size_methods", "mie_fit_range"} <= limits
+    open_flags = Flag.objects.filter(target_code=batch.code, state="open")
+    assert open_flags.count() == len(payload["flags_raised"]) >= 2
+
+
+def test_a_gold_size_carries_its_uncertainty_end_to_end(chain, capsys, tmp_path):
+    # 50 nm gold from miepython, through the command to the stored number: the Haiss
+    # peak-position size (above 35 nm) with its 18 % deviation combined with the peak error.
+    batch = chain.s.nanoparticle_batch_make(actor=chain.maker, metal="Au",
+                                            synthesis_method="citrate", volume_mL=50,
+                                            made_on=chain.day(5))
+    path = _miepython_gold_file(tmp_path / "gold_50nm.csv", 50.0)
+    payload = json.loads(_run(capsys, batch.code, str(path), "--measured-on",
+                              chain.day(1).isoformat(), "--json"))
+    record = UvVisRecord.objects.get(code=payload["record"])
+    assert record.peak_u_nm is not None and 0 < record.peak_u_nm < 2
+    assert record.diameter_u_nm >= 0.18 * record.diameter_nm * 0.999
+    assert "±" in payload["diameter_text"] and "±" in payload["mie_median_diameter_text"]
+    # Mie fit to miepython's own spectrum of 50 nm spheres (bulk constants): within 8 %.
+    assert record.mie_median_diameter_nm == pytest.approx(50.0, rel=0.08)

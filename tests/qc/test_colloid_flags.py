@@ -16,7 +16,7 @@ import pytest
 from inventory.models import Flag
 from inventory.readiness import substrate_check_readiness
 from qc.analysis.colloid_stability import colloid_snapshot, compare_with_first
-from qc.services import colloid_limit_set_set, uvvis_record_import
+from qc.services import colloid_limit_set_set, silver_calibration_record, uvvis_record_import
 
 UVVIS = Path(__file__).resolve().parents[2] / "fixtures" / "uvvis"
 GENEROUS = {"peak_min_nm": 380.0, "peak_max_nm": 430.0, "fwhm_max_nm": 60.0,
@@ -111,12 +111,24 @@ def test_a_limit_already_flagged_is_not_flagged_again_until_resolved(chain, batc
 
 
 def test_size_disagreement_flags_only_when_the_lab_asks(chain, batch):
+    # A lab table (invented rows, as from the lab's own TEM sizing) is independent of the
+    # Mie model, so the two sizes can be compared.
+    silver_calibration_record(actor=None, name="lab TEM", provenance="invented test table",
+                              rows=[(395.0, 30.0, 3e10), (405.0, 45.0, 6e10),
+                                    (420.0, 65.0, 1e11)])
     _limits(chain, size_tolerance_percent=0.01)  # any difference is beyond ±0.01 %
     record = _import(chain, batch, 0).record
     assert record.sizes_agree is False and record.breaches == []
     _limits(chain, size_tolerance_percent=0.01, flag_size_disagreement=True)
     result = _import(chain, batch, 7)
     assert "size_tolerance_percent" in [b["limit"] for b in result.breaches]
+
+
+def test_built_in_table_is_not_called_an_agreement(chain, batch):
+    # The built-in silver table is computed with the same Mie model as the fit.
+    record = _import(chain, batch, 0).record
+    assert record.sizes_agree is None and record.calibration_independent is False
+    assert "not an independent check" in record.size_agreement_message
 
 
 def test_an_ageing_record_makes_a_decorated_substrate_not_ready(chain, batch):

@@ -218,7 +218,6 @@ def _bad_files():
     return {
         # measured A > 2 (×3 of a 0.89 peak): outside the photometer's linear range.
         "above_linear_range": (_text(wavelength, 3 * absorbance), None, "linear range"),
-        "no_peak": (_text(wavelength, 2.0 * np.exp(-(wavelength - 300) / 80)), None, "no peak"),
         "micrometres": (_text(wavelength / 1000, absorbance), None, "µm"),
         "wavenumbers": (_text(1e7 / wavelength[::-1], absorbance[::-1]), None, "cm⁻¹"),
         "too_few_points": (_text(wavelength[95:101], absorbance[95:101]), None, "points"),

@@ -4,6 +4,7 @@ import pytest
 from django.test import override_settings
 
 from inventory.demo import load_inventory_demo
+from inventory.demo_deposition import load_deposition_demo
 from inventory.models import Flag, Status
 from inventory.readiness import substrate_check_readiness
 from qc.demo_raman import load_raman_demo
@@ -13,8 +14,22 @@ from qc.models import QcLimitSet, QcMeasurement
 @pytest.fixture
 def demo(db, today):
     scenario = load_inventory_demo(today=today)
+    load_deposition_demo(scenario)  # the film heights the EF's surface-area factor needs
     load_raman_demo(scenario)
     return scenario
+
+
+def test_demo_film_ef_uses_its_derived_surface_area(demo):
+    # The demo's fresh run: 600 nm spheres, film height from its chronoamperogram.
+    m = QcMeasurement.objects.get(substrate=demo.substrates["ready_a"])
+    run = demo.substrates["ready_a"].deposition_run
+    run.refresh_from_db()
+    # Hand geometry: 1 + n·π·h² with n = 2/(√3·D²) close-packed spheres per area.
+    ratio = run.film_height_nm / run.sphere_diameter_nm
+    assert m.surface_area_factor == pytest.approx(1 + 2 * 3.141592653589793 / 3**0.5 * ratio**2)
+    assert m.surface_area_origin.startswith("derived") and m.surface_area_factor_u > 0
+    flat = QcMeasurement.objects.get(substrate=demo.substrates["flat_gold"])
+    assert flat.surface_area_factor == 1.0 and "flat film" in flat.surface_area_origin
 
 
 def _codes(code):

@@ -35,6 +35,14 @@ class Command(BaseCommand):
         parser.add_argument("--reference", help="reference measurement ID, e.g. REF-00001")
         parser.add_argument("--measured-on", type=date.fromisoformat,
                             help="ISO date (default today)")
+        parser.add_argument("--surface-area-factor", type=float,
+                            help="metal area / projected area, when known from elsewhere "
+                                 "(needs --surface-area-source); default: derived from the "
+                                 "substrate's deposition")
+        parser.add_argument("--surface-area-source", default="",
+                            help="where the entered surface-area factor comes from")
+        parser.add_argument("--assume-surface-area-one", action="store_true",
+                            help="assume a surface-area factor of 1 (recorded as assumed)")
         parser.add_argument("--user", help="username recorded as the actor")
         parser.add_argument("--json", action="store_true", help="print one JSON object")
 
@@ -53,7 +61,10 @@ class Command(BaseCommand):
                 measured_on=options["measured_on"] or timezone.localdate(),
                 laser_nm=options["laser_nm"], power_mW=options["power_mw"],
                 integration_s=options["integration_s"], accumulations=options["accumulations"],
-                objective=options["objective"], reference=reference)
+                objective=options["objective"], reference=reference,
+                surface_area_factor=options["surface_area_factor"],
+                surface_area_source=options["surface_area_source"],
+                surface_area_assumed_one=options["assume_surface_area_one"])
         summary = qc_measurement_summary(measurement)
         if options["json"]:
             self.stdout.write(json.dumps(summary, indent=2))
@@ -69,6 +80,11 @@ class Command(BaseCommand):
                     "log10_enhancement_factor"):
             value = summary[key]
             self.stdout.write(f"  {key}: {'—' if value is None else f'{value:.4g}'}")
+        if summary["enhancement_factor"] is not None:
+            self.stdout.write(f"  enhancement factor ({summary['intensity_measure']}): "
+                              f"{summary['enhancement_factor_text']}")
+            self.stdout.write(f"  surface-area factor {summary['surface_area_factor_text']}, "
+                              f"{summary['surface_area_origin']}")
         for reason in summary["failure_reasons"]:
             self.stdout.write(f"  - {reason}")
         for flag in summary["flags"]:

@@ -76,16 +76,21 @@ class Command(BaseCommand):
         self.stdout.write(f"{p['batch']} ({p['metal']}) UV-vis {head} {p['record']}, "
                           f"measured {p['measured_on']}, day {p['age_days']}")
         fwhm = "n/a" if p["fwhm_nm"] is None else f"{p['fwhm_nm']:.1f} nm"
-        self.stdout.write(f"  peak {p['peak_nm']:.1f} nm, A(1 cm, undiluted) "
-                          f"{p['peak_absorbance_1cm']:.3f}, FWHM {fwhm}, "
-                          f"aggregation index {p['aggregation_index']:.4f}")
-        size = (
-            "n/a"
-            if p["diameter_nm"] is None
-            else f"{p['diameter_nm']:.1f} nm ({p['diameter_method']})"
-        )
-        self.stdout.write(f"  size {size}; Mie {p['mie_median_diameter_nm']:.1f} nm, "
-                          f"sigma_g {p['mie_geometric_sigma']:.3f}")
+        if p["peak_nm"] is None:
+            self.stdout.write(f"  no plasmon maximum: {p['size_methods_note']}")
+        else:
+            self.stdout.write(f"  peak {p['peak_text']}, A(1 cm, undiluted) "
+                              f"{p['peak_absorbance_1cm']:.3f}, FWHM {fwhm}, "
+                              f"aggregation index {p['aggregation_index']:.4f}")
+        size = ("n/a" if p["diameter_nm"] is None
+                else f"{p['diameter_text']} ({p['diameter_method']})")
+        if p["mie_median_diameter_nm"] is None:
+            mie = p["mie_fit_note"]
+        else:
+            sigma = ("below what the spectrum resolves" if "narrower" in p["mie_fit_note"]
+                     else f"{p['mie_geometric_sigma']:.3f}")
+            mie = f"{p['mie_median_diameter_text']}, sigma_g {sigma}"
+        self.stdout.write(f"  size {size}; Mie {mie}")
         if p["number_per_mL"] is not None:
             self.stdout.write(f"  concentration {p['number_per_mL']:.3g} /mL "
                               f"({p['molar_concentration_M']:.3g} M)")
