@@ -7,8 +7,8 @@ from scipy.interpolate import BSpline
 
 from qc.analysis import baseline as bl
 from qc.analysis.bands import fit_band
-from qc.analysis.qc_pipeline import analyse_qc_spectrum
 from qc.analysis.errors import AnalysisInputError
+from qc.analysis.qc_pipeline import analyse_qc_spectrum
 
 
 def _lorentzian(x, x0, height, fwhm):

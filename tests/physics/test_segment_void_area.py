@@ -12,10 +12,8 @@ import math
 import numpy as np
 import pytest
 
-from inventory.physics.metal_surface_area import (
-    GeometryInputError,
-    segment_void_surface_area_factor,
-)
+from inventory.physics.errors import AnalysisInputError
+from inventory.physics.template_geometry import segment_void_surface_area_factor
 
 # Area fraction of close-packed circles, π/(2√3) (Conway & Sloane 1999, ch. 1).
 PACKING_FRACTION = math.pi / (2 * math.sqrt(3))
@@ -100,6 +98,6 @@ def test_uncertainty_propagates_from_film_height_by_finite_difference():
      "film_height_u_nm"),
 ])
 def test_refuses_inputs_outside_the_model(kw, field):
-    with pytest.raises(GeometryInputError) as caught:
+    with pytest.raises(AnalysisInputError) as caught:
         segment_void_surface_area_factor(**kw)
     assert caught.value.field == field
