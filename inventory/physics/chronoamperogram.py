@@ -26,8 +26,11 @@ CURRENT_UNITS_A = {"A": 1.0, "mA": 1e-3, "uA": 1e-6, "\u00b5A": 1e-6, "\u03bcA":
 
 _DELIMITERS = {"comma": ",", "tab": "\t", "semicolon": ";", "whitespace": None}
 _NUMBER_START = re.compile(r"^\s*[+-]?(\d|\.\d)")
-# A unit written after a column name: "time/s", "Time (s)", "I [mA]", "current_uA" is not.
-_UNIT_IN_NAME = re.compile(r"(?:/|\(|\[)\s*([^\s/()\[\]]+)\s*[)\]]?\s*$")
+# A unit written after a column name: "time/s", "Time (s)", "I [mA]", or as a suffix after
+# an underscore, "time_s", "t_s", "I_mA", "current_uA" (all common practice in exports).
+_UNIT_IN_NAME = re.compile(
+    r"(?:(?:/|\(|\[)\s*([^\s/()\[\]]+)\s*[)\]]?|_([^\s_/()\[\]]+))\s*$"
+)
 _DECIMAL_COMMA = re.compile(r"^[+-]?\d*,\d+(?:[eE][+-]?\d+)?$")
 
 
@@ -74,7 +77,8 @@ def parse_chronoamperogram(
     The first line whose time and current cells are both numbers starts the data; every
     non-blank line before it is header.  The last header line is read as column names:
     columns are found by name (a name starting with "time" or "t", and with "current",
-    "i" or "j") and units from the name (``time/s``, ``Current (µA)``, ``I [mA]``).
+    "i" or "j") and units from the name (``time/s``, ``Current (µA)``, ``I [mA]``, or an
+    underscore suffix: ``time_s``, ``I_mA``, ``current_uA``).
 
     Parameters
     ----------
@@ -248,7 +252,7 @@ def _unit(explicit, names, column, table, names_line, *, field) -> tuple[str, fl
             "the header gives no unit for this column; pass it explicitly",
             line=names_line, field=field,
         )
-    unit = match.group(1)
+    unit = match.group(1) or match.group(2)
     if unit not in table:
         raise AnalysisInputError(
             f"unknown unit {unit!r} in column {name!r}; known: {', '.join(table)}",

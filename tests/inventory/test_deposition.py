@@ -29,6 +29,8 @@ from inventory.physics.electrodeposition import analyse_deposition
 from inventory.readiness import substrate_check_readiness
 
 FIXTURES = Path(__file__).resolve().parents[2] / "fixtures" / "chronoamperograms"
+#: Gold at 20 °C, CRC Handbook of Chemistry and Physics.
+GOLD_DENSITY_CRC_G_CM3 = 19.32
 ON_TARGET = FIXTURES / "au_600nm_hd050.csv"
 OFF_TARGET = FIXTURES / "au_600nm_hd030.txt"
 FARADAY_C_MOL = constants.value("Faraday constant")  # CODATA via scipy.constants
@@ -108,8 +110,9 @@ def test_faraday_hand_check_on_a_constant_current(chain):
         bath_lot=chain.lot("plating_bath"), metal="Au", electrons_per_atom=1,
         mode="galvanostatic", electrode_area_cm2=2.0, made_on=chain.day(1), pieces=1,
         chronoamperogram=("flat.csv", _csv([(t, -1.0) for t in range(11)])))
-    gold = periodictable.Au  # handbook mass and density (periodictable)
-    volume_cm3 = 0.01 * gold.mass / (1 * FARADAY_C_MOL * gold.density)
+    # Molar mass from periodictable; density 19.32 g/cm³ at 20 °C (CRC Handbook of Chemistry
+    # and Physics; periodictable rounds it to 19.3).
+    volume_cm3 = 0.01 * periodictable.Au.mass / (1 * FARADAY_C_MOL * GOLD_DENSITY_CRC_G_CM3)
     assert run.charge_C == pytest.approx(0.01, rel=1e-12)
     assert run.metal_volume_cm3 == pytest.approx(volume_cm3, rel=1e-12)
     # A flat film: height is the volume over the area (1 cm = 1e7 nm), and there is no h/D.
@@ -200,8 +203,8 @@ def test_target_charge_matches_the_geometry_worked_out_by_hand(chain, run):
     diameter, radius, height = 600.0, 300.0, 300.0
     thickness_nm = height - 2 / (math.sqrt(3) * diameter**2) * math.pi * height**2 \
         * (3 * radius - height) / 3
-    gold = periodictable.Au
-    expected_C = thickness_nm * 1e-7 * 1.0 * gold.density / gold.mass * FARADAY_C_MOL
+    expected_C = thickness_nm * 1e-7 * 1.0 * GOLD_DENSITY_CRC_G_CM3 / periodictable.Au.mass \
+        * FARADAY_C_MOL
     assert chain.s.deposition_run_target_charge_C(run) == pytest.approx(expected_C, rel=1e-9)
     _attach(chain, run)
     run.refresh_from_db()
@@ -388,3 +391,30 @@ def test_a_failure_after_the_file_is_written_removes_the_file(chain, run, monkey
             actor=chain.maker, run=run, filename=name, content=OFF_TARGET.read_bytes())
     assert _counts() == before
     assert not storage.exists(f"chronoamperograms/{name}")
+
+
+def test_a_unit_suffix_header_imports_through_the_command(chain, run, tmp_path):
+    # The same invented trace with its header written as unit suffixes ("time_s,current_mA",
+    # common in potentiostat exports) gives the same stored film height as "time/s,current/mA".
+    text = ON_TARGET.read_text(encoding="utf-8").replace("time/s,current/mA", "time_s,current_mA")
+    suffixed = tmp_path / "suffixed.csv"
+    suffixed.write_text(text, encoding="utf-8")
+    out = io.StringIO()
+    call_command("import_chronoamperogram", run.code, str(suffixed), "--json", stdout=out)
+    payload = json.loads(out.getvalue())
+    run.refresh_from_db()
+    assert (run.time_unit, run.current_unit) == ("s", "mA")
+    # The fixture was made for h/D = 0.50 on 600 nm spheres by its own Faraday arithmetic
+    # (fixtures/chronoamperograms/generate.py, CRC gold density 19.32 g/cm³).
+    assert payload["height_over_diameter"] == pytest.approx(0.50, abs=1e-4)
+    assert run.film_height_nm == pytest.approx(300.0, abs=0.06)
+
+
+def test_an_unknown_unit_suffix_is_refused_by_name(chain, run, tmp_path):
+    text = ON_TARGET.read_text(encoding="utf-8").replace("time/s,current/mA", "time_s,current_pA")
+    bad = tmp_path / "picoamps.csv"
+    bad.write_text(text, encoding="utf-8")
+    with pytest.raises(CommandError, match="unknown unit 'pA'"):
+        call_command("import_chronoamperogram", run.code, str(bad))
+    run.refresh_from_db()
+    assert run.charge_C is None

@@ -34,6 +34,13 @@ def _table(header: str, separator: str, times=TIMES, currents=CURRENTS) -> str:
         ("time/s,current/A", 1.0, 1.0),
         ("Time (s),Current (\u00b5A)", 1.0, 1e-6),  # micro sign
         ("Time (s),Current (\u03bcA)", 1.0, 1e-6),  # Greek mu
+        # Unit suffixes after an underscore, as many exports write them.
+        ("time_s,current_A", 1.0, 1.0),
+        ("t_s,I_mA", 1.0, 1e-3),
+        ("time_ms,current_uA", 1e-3, 1e-6),
+        ("t_min,I_nA", 60.0, 1e-9),
+        ("t/s,I [mA]", 1.0, 1e-3),
+        ("t (s),I (\u00b5A)", 1.0, 1e-6),
     ],
 )
 def test_units_from_header_convert_to_si(header, time_scale, current_scale):
@@ -164,11 +171,15 @@ def test_time_going_back_names_line():
 
 
 @pytest.mark.parametrize(
-    "header, field", [("time/h,current/mA", "time_unit"), ("time/s,current/kA", "current_unit")]
+    "header, field, unit", [("time/h,current/mA", "time_unit", "h"),
+                            ("time/s,current/kA", "current_unit", "kA"),
+                            ("time_h,current_mA", "time_unit", "h"),
+                            ("t_s,I_pA", "current_unit", "pA")]
 )
-def test_unknown_unit_in_header_names_line_and_field(header, field):
+def test_unknown_unit_in_header_names_line_and_field(header, field, unit):
     error = _refusal(_table(header, ","))
     assert (error.line, error.field) == (1, field)
+    assert f"unknown unit '{unit}'" in error.message
 
 
 def test_unknown_unit_option_refused():
