@@ -10,6 +10,7 @@ from dataclasses import dataclass, field
 
 from inventory.models import Dataset, DepositionRun, Flag
 from inventory.services import deposition_run_check_target
+from inventory.uncertainty_format import format_with_uncertainty
 from qc.models import QcMeasurement, ReferenceMeasurement, UvVisRecord
 
 
@@ -72,22 +73,56 @@ def deposition_result(run: DepositionRun) -> Result:
     return result
 
 
-def uvvis_result(record: UvVisRecord) -> Result:
-    result = Result(title=f"UV-vis {record.code} of colloid {record.batch.code}")
-    result.figures = [
-        ("Particle diameter", fmt(record.diameter_nm, ".1f", "nm")),
+def _mie_size(record: UvVisRecord) -> str:
+    """The Mie-fitted size, or why there is none (a fit at its search bound)."""
+    if record.mie_median_diameter_nm is None:
+        return (f"outside the fit range (reached the {record.mie_diameter_bound_nm:g} nm bound);"
+                " no size")
+    text = format_with_uncertainty(record.mie_median_diameter_nm,
+                                   record.mie_median_diameter_u_nm, "nm")
+    if record.mie_diameter_ci_low_nm is not None:
+        text += (f" (95 % interval {record.mie_diameter_ci_low_nm:.1f}–"
+                 f"{record.mie_diameter_ci_high_nm:.1f} nm)")
+    return text
+
+
+def _mie_width(record: UvVisRecord) -> str:
+    if record.mie_geometric_sigma is None:
+        return "—"
+    if record.mie_sigma_bound == "lower":
+        return "below what the spectrum resolves"
+    suffix = " (at the upper bound: flagged)" if record.mie_sigma_bound == "upper" else ""
+    return f"{record.mie_geometric_sigma:.3f}{suffix}"
+
+
+def uvvis_figures(record: UvVisRecord) -> list[tuple[str, str]]:
+    """The sizes and band numbers of a UV-vis record, each with its uncertainty."""
+    return [
+        ("Particle diameter", format_with_uncertainty(record.diameter_nm,
+                                                      record.diameter_u_nm, "nm")),
         ("Size from", record.diameter_method or "—"),
-        ("Mie-fit median diameter", fmt(record.mie_median_diameter_nm, ".1f", "nm")),
-        ("Mie-fit geometric σ", fmt(record.mie_geometric_sigma, ".3f")),
+        ("Haiss ratio method", format_with_uncertainty(
+            record.haiss_ratio_diameter_nm, record.haiss_ratio_diameter_u_nm, "nm")),
+        ("Haiss peak-position method", format_with_uncertainty(
+            record.haiss_peak_diameter_nm, record.haiss_peak_diameter_u_nm, "nm")),
+        ("Mie-fit median diameter", _mie_size(record)),
+        ("Mie-fit geometric σ", _mie_width(record)),
         ("Number concentration", fmt(record.number_per_mL, ".3g", "particles/mL")),
         ("Molar concentration", fmt(record.molar_concentration_M, ".3g", "mol/L")),
-        ("Plasmon peak", fmt(record.peak_nm, ".1f", "nm")),
+        ("Plasmon peak", format_with_uncertainty(record.peak_nm, record.peak_u_nm, "nm")
+         if record.peak_nm is not None else "no plasmon maximum"),
         ("Peak absorbance (undiluted, 1 cm)", fmt(record.peak_absorbance_1cm, ".3f")),
         ("FWHM", fmt(record.fwhm_nm, ".1f", "nm")),
         ("Aggregation index", fmt(record.aggregation_index, ".4f")),
         ("Peak shift since first record", fmt(record.peak_shift_nm, "+.1f", "nm")),
     ]
-    notes = (("Size", record.size_agreement_message), ("FWHM", record.fwhm_note),
+
+
+def uvvis_result(record: UvVisRecord) -> Result:
+    result = Result(title=f"UV-vis {record.code} of colloid {record.batch.code}")
+    result.figures = uvvis_figures(record)
+    notes = (("Sizes", record.size_methods_note), ("Mie fit", record.mie_fit_note),
+             ("Size", record.size_agreement_message), ("FWHM", record.fwhm_note),
              ("Concentration", record.concentration_note), ("Limits", record.limits_note),
              ("Calibration", record.calibration_source))
     result.notes = [f"{topic}: {note}" for topic, note in notes if note]
@@ -100,16 +135,22 @@ def uvvis_result(record: UvVisRecord) -> Result:
     return result
 
 
-def qc_result(measurement: QcMeasurement) -> Result:
-    m = measurement
-    result = Result(title=f"QC {m.code} on {m.substrate.code}",
-                    verdict="PASS" if m.passed else "FAIL", verdict_ok=m.passed,
-                    reasons=list(m.failure_reasons))
-    ef = "—" if m.enhancement_factor is None else \
-        f"{m.enhancement_factor:.2e} ± {m.enhancement_factor_u:.1e}"
-    result.figures = [
-        ("Enhancement factor (SSEF, Le Ru et al. 2007)", ef),
+def qc_figures(m: QcMeasurement) -> list[tuple[str, str]]:
+    """The figures of a QC measurement; the EF with its uncertainty and surface-area origin."""
+    measure = m.get_intensity_measure_display().lower()
+    figures = [
+        ("Enhancement factor (SSEF, Le Ru et al. 2007)",
+         format_with_uncertainty(m.enhancement_factor, m.enhancement_factor_u)),
         ("log10 EF", fmt(m.log10_enhancement_factor, ".2f")),
+        ("EF and uniformity from", measure),
+    ]
+    if m.enhancement_factor is not None:
+        figures += [
+            ("Surface-area factor (metal ÷ projected area)",
+             format_with_uncertainty(m.surface_area_factor, m.surface_area_factor_u)),
+            ("Surface-area factor from", m.surface_area_origin),
+        ]
+    figures += [
         ("Uniformity RSD", fmt(m.rsd_percent, ".1f", "%")),
         ("Signal-to-noise", fmt(m.snr, ".1f")),
         ("Band position", fmt(m.band_position_cm1, ".1f", "cm⁻¹")),
@@ -118,9 +159,21 @@ def qc_result(measurement: QcMeasurement) -> Result:
             None if m.fraction_within_20_percent is None else 100 * m.fraction_within_20_percent,
             ".0f", "%")),
     ]
+    return figures
+
+
+def qc_result(measurement: QcMeasurement) -> Result:
+    m = measurement
+    result = Result(title=f"QC {m.code} on {m.substrate.code}",
+                    verdict="PASS" if m.passed else "FAIL", verdict_ok=m.passed,
+                    reasons=list(m.failure_reasons))
+    result.figures = qc_figures(m)
     m.substrate.refresh_from_db()
     result.notes = [f"Substrate {m.substrate.code} is now {m.substrate.get_status_display()}.",
                     f"File {m.raw_filename}, SHA-256 {m.raw_sha256}."]
+    if m.surface_area_origin.startswith("assumed"):
+        result.notes.append("The surface-area factor was assumed to be 1: the EF is an upper "
+                            "bound if the metal area exceeds the projected area.")
     result.flags = _open_flags([m.substrate.code], mentioning=m.code)
     result.links = [(m.substrate.code, "the substrate")]
     if m.reference_id:

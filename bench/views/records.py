@@ -23,6 +23,8 @@ from inventory.selectors import (
     substrate_check_readiness,
 )
 from qc.models import QcMeasurement, ReferenceMeasurement, UvVisRecord
+
+from ..make.results import qc_figures, uvvis_figures
 from qc.selectors import nanoparticle_batch_get_uvvis_series
 
 from ._common import code_from_scan, record_or_404
@@ -58,7 +60,7 @@ def _qc_panel(record) -> dict:
         return {"qc_measurements": list(QcMeasurement.objects.filter(substrate=record)
                                         .order_by("-measured_on", "-id")[:20])}
     if isinstance(record, QcMeasurement):
-        return {"laser_caution": True, "raman_plot": True,
+        return {"laser_caution": True, "raman_plot": True, "figures": qc_figures(record),
                 "heatmap": bool(record.point_values and "image" in record.point_values)}
     if isinstance(record, ReferenceMeasurement):
         return {"laser_caution": True, "raman_plot": True}
@@ -66,7 +68,7 @@ def _qc_panel(record) -> dict:
         series = nanoparticle_batch_get_uvvis_series(record)
         return {"uvvis_series": series, "uvvis_plot": bool(series)}
     if isinstance(record, UvVisRecord):
-        return {"uvvis_plot": True}
+        return {"uvvis_plot": True, "figures": uvvis_figures(record)}
     if isinstance(record, DepositionRun):
         return {"deposition_plot": bool(record.chronoamperogram_sha256)}
     return {}

@@ -9,6 +9,7 @@ from django.core.files.uploadedfile import SimpleUploadedFile
 from django.urls import reverse
 
 from inventory.models import Dataset, Flag, Status, Substrate
+from inventory.uncertainty_format import format_with_uncertainty
 from qc.models import QcMeasurement, ReferenceMeasurement
 
 from .builders import FIXTURES, MAP_SETTINGS, fixture_upload
@@ -17,7 +18,8 @@ from .builders import FIXTURES, MAP_SETTINGS, fixture_upload
 def _qc_data(lab, substrate, filename, **extra):
     data = {"substrate": substrate.code, "analyte_lot": lab.lot.code,
             "reference": lab.reference.code, "raw_file": fixture_upload(f"raman/{filename}"),
-            "surface_area_factor": "1.5", "surface_density_rel_u": "0.2", **MAP_SETTINGS}
+            "surface_area_factor": "1.5", "surface_area_source": "invented for the test",
+            "surface_density_rel_u": "0.2", **MAP_SETTINGS}
     data.update(extra)
     return data
 
@@ -50,9 +52,31 @@ def test_good_map_passes_with_enhancement_factor(maker_client, chain, qc_lab):
     measurement = QcMeasurement.objects.get()
     assert measurement.passed
     page = maker_client.get(response["Location"]).content.decode()
-    assert "PASS" in page and f"{measurement.enhancement_factor:.2e}" in page
+    assert "PASS" in page
+    assert format_with_uncertainty(measurement.enhancement_factor,
+                                   measurement.enhancement_factor_u) in page
+    assert "entered: invented for the test" in page and measurement.surface_area_factor == 1.5
     # generate.py: log10 SSEF ≈ 6.3 for this map with the neat reference and these inputs.
     assert measurement.log10_enhancement_factor == pytest.approx(6.3, abs=0.3)
+
+
+def test_an_unknown_surface_area_is_refused_until_entered_or_assumed(maker_client, chain,
+                                                                    qc_lab):
+    # The test chain's run has no chronoamperogram, so the factor cannot be derived.
+    substrate = chain.decorated_substrate()
+    data = _qc_data(qc_lab, substrate, "good_substrate_map.csv",
+                    measured_on=chain.day(1).isoformat(), surface_area_factor="",
+                    surface_area_source="")
+    response = maker_client.post(reverse("make:qc"), data)
+    assert "no film height" in str(response.context["form"].errors)
+    assert not QcMeasurement.objects.exists()
+    data.update(raw_file=fixture_upload("raman/good_substrate_map.csv"),
+                surface_area_assumed_one="on")
+    response = maker_client.post(reverse("make:qc"), data)
+    measurement = QcMeasurement.objects.get()
+    page = maker_client.get(response["Location"]).content.decode()
+    assert measurement.surface_area_origin.startswith("assumed 1")
+    assert "assumed to be 1" in page
 
 
 def test_qc_map_with_an_unusable_substrate_is_refused(maker_client, chain, qc_lab):

@@ -103,7 +103,18 @@ class QcMeasurementForm(_RamanForm):
                    "laser_nm", "power_mW", "integration_s", "accumulations", "objective")
     error_fields: ClassVar[dict[str, str]] = {"analyte": "analyte_lot"}
 
-    surface_area_factor = number("Metal surface area ÷ projected area (×)", initial=1.0)
+    surface_area_factor = number(
+        "Metal surface area ÷ projected area (×), only if known from elsewhere; leave empty "
+        "to derive it from the substrate's deposition (sphere diameter and film height)",
+        required=False)
+    surface_area_rel_u = number("Relative standard uncertainty of that factor (fraction)",
+                                initial=0.0, required=False)
+    surface_area_source = forms.CharField(
+        label="Where that factor comes from (e.g. electrochemical surface area)",
+        max_length=200, required=False)
+    surface_area_assumed_one = forms.BooleanField(
+        label="Assume a surface-area factor of 1 (the metal area is not known; the EF is then "
+              "an upper bound and says so)", required=False)
     surface_density_rel_u = number("Relative standard uncertainty of the monolayer density "
                                    "(fraction)", initial=0.0)
 
@@ -123,7 +134,10 @@ class QcMeasurementForm(_RamanForm):
             self.fields["reference"].initial = newest
 
     def submit(self, actor):
-        return qc_measurement_import(actor=actor, **self.raw())
+        data = self.raw()
+        if data["surface_area_rel_u"] is None:  # only meaningful with an entered factor
+            data["surface_area_rel_u"] = 0.0
+        return qc_measurement_import(actor=actor, **data)
 
 
 class DatasetForm(MakeForm):
