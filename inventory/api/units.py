@@ -72,6 +72,7 @@ _DIMENSIONLESS = {
     "mie_relative_residual": "dimensionless fraction",
     "fraction_within_20_percent": "dimensionless fraction (0–1)",
     "surface_area_factor": "dimensionless (real / projected area)",
+    "surface_area_factor_u": "dimensionless (standard uncertainty of the surface-area factor)",
     "suspension_excess_factor": "dimensionless (≥ 1)",
     "dilution_factor": "dimensionless (total volume / colloid volume)",
     "spheres_per_cm2": "cm⁻² (spheres per cm²)",

@@ -185,6 +185,28 @@ def test_enhancement_factor_recomputed_from_le_ru_definition(world):
     assert m.ef_inputs["surface_density_per_nm2"] == 6.8
 
 
+def test_a_limit_set_on_band_area_gives_an_area_ef_and_area_uniformity(world):
+    # Labs report EFs from band heights or integrated areas (common practice); the limit set
+    # chooses, and each stored EF says which.
+    qc_limit_set_define(actor=None, product_kind="particles", analyte=world.analyte,
+                        min_enhancement_factor=1e4, max_rsd_percent=20.0, min_snr=10.0,
+                        band_position_tolerance_cm1=5.0, valid_days=14,
+                        intensity_measure="area")
+    substrate = world.chain.decorated_substrate()
+    m = world.measure(substrate, GOOD_MAP)
+    ref = world.reference
+    assert m.intensity_measure == "area" and m.ef_inputs["intensity_measure"] == "area"
+    # Le Ru et al. 2007 with areas on both sides (same N_Surf and N_Vol as for heights).
+    n_surf = 6.8 * 1e6 * 1.0 * 1.5
+    n_vol = NEAT_BENZENETHIOL_M * Avogadro * 1e-15 * 1.5 * 20.0
+    ef = (m.normalised_area_counts_cm1_per_mW_s / n_surf) / (
+        ref.normalised_area_counts_cm1_per_mW_s / n_vol)
+    assert m.enhancement_factor == pytest.approx(ef, rel=1e-9)
+    # Uniformity from the per-point areas: RSD recomputed here (sample SD, ddof = 1).
+    areas = np.asarray(m.point_values["normalised_area_counts_cm1_per_mW_s"])
+    assert m.rsd_percent == pytest.approx(100 * areas.std(ddof=1) / areas.mean(), rel=1e-9)
+
+
 def test_single_spectrum_is_stored_like_the_pipeline_result(world):
     substrate = world.chain.decorated_substrate()
     content = spectrum_file(3000, seed=4)
