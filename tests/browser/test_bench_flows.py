@@ -110,7 +110,10 @@ def test_failing_qc_map_flags_the_substrate_page(page, sign_in, screenshot, chai
     page.get_by_label("Laser wavelength (nm)").fill("785")
     page.get_by_label("Laser power at the sample (mW)").fill("2.0")
     page.get_by_label("Integration time per accumulation (s)").fill("1.0")
-    page.get_by_label("Metal surface area ÷ projected area (×)").fill("1.5")
+    # The test chain's run has no chronoamperogram: the factor is entered with its source.
+    page.get_by_label(re.compile("^Metal surface area ÷ projected area")).fill("1.5")
+    page.get_by_label(re.compile("^Where that factor comes from")).fill(
+        "electrochemical surface area (invented for the test)")
     assert "Laser safety" in page.get_by_role("note", name="Caution").inner_text()
     screenshot("make-qc-form")
     save(page)
@@ -118,6 +121,7 @@ def test_failing_qc_map_flags_the_substrate_page(page, sign_in, screenshot, chai
     assert page.locator("#verdict").inner_text() == "FAIL"
     assert "Uniformity RSD" in page.locator("#reasons").inner_text()
     screenshot("make-qc-result")
+    assert "entered: electrochemical surface area" in page.locator("#figures").inner_text()
     page.get_by_role("link", name=substrate.code).first.click()
     page.wait_for_url(re.compile(rf"/r/{substrate.code}/"))
     body = page.locator("main").inner_text()
@@ -126,3 +130,34 @@ def test_failing_qc_map_flags_the_substrate_page(page, sign_in, screenshot, chai
     page.goto("/")
     assert substrate.code in page.locator("main").inner_text()
     screenshot("dashboard")
+
+
+def test_a_film_qc_shows_the_surface_area_derived_from_its_deposition(page, sign_in, screenshot,
+                                                                       chain, administrator):
+    lab = QcLab(chain, administrator)
+    run, (film,) = chain.s.deposition_run_record(
+        actor=chain.maker, template=template_600nm(chain), bath_lot=chain.lot("plating_bath"),
+        metal="Au", electrons_per_atom=1, mode="potentiostatic", electrode_area_cm2=1.0,
+        made_on=chain.day(9), pieces=1, target_height_over_diameter=0.5,
+        chronoamperogram=("au_600nm_hd050.csv",
+                          (FIXTURES / "chronoamperograms" / "au_600nm_hd050.csv").read_bytes()))
+    chain.release(film)
+    sign_in(chain.maker, "maker")
+    page.goto("/make/qc/")
+    page.get_by_label("Substrate measured").select_option(film.code)
+    page.get_by_label(re.compile("^Reference measurement")).select_option(lab.reference.code)
+    page.get_by_label(re.compile("^Raman file")).set_input_files(
+        FIXTURES / "raman" / "good_substrate_map.csv")
+    page.get_by_label("Laser wavelength (nm)").fill("785")
+    page.get_by_label("Laser power at the sample (mW)").fill("2.0")
+    page.get_by_label("Integration time per accumulation (s)").fill("1.0")
+    # The surface-area factor is left empty: derived from the film's own geometry.
+    save(page)
+    page.wait_for_url(re.compile("/make/done/QCM-"))
+    figures = page.locator("#figures").inner_text()
+    assert "derived: segment-void film" in figures and run.code in figures
+    # Hand geometry for h/D = 0.5 (the trace was made for it): 1 + π/(2√3) ≈ 1.91.
+    factor = page.get_by_role("row", name=re.compile("^Surface-area factor \\(")).inner_text()
+    assert re.search(r"1\.9\d* ± 0\.\d+", factor)
+    assert "±" in page.get_by_role("row", name=re.compile("^Enhancement factor")).inner_text()
+    screenshot("make-qc-derived-surface-area")
