@@ -23,10 +23,9 @@ from inventory.selectors import (
     substrate_check_readiness,
 )
 from qc.models import QcMeasurement, ReferenceMeasurement, UvVisRecord
-
-from ..make.results import qc_figures, uvvis_figures
 from qc.selectors import nanoparticle_batch_get_uvvis_series
 
+from ..make.results import qc_figures, uvvis_figures
 from ._common import code_from_scan, record_or_404
 
 MAX_LABELS = 60  # one printed sheet; more is a mistake in the list of codes

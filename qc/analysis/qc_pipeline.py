@@ -283,7 +283,9 @@ def analyse_qc_map(
     positions = band_metrics_map(
         axis, processed, band_center_cm1=band_center_cm1, band_window_cm1=band_window_cm1
     ).position_cm1
-    uniformity = map_uniformity(heights, grid_shape=grid_shape, tolerance_fraction=tolerance_fraction)
+    uniformity = map_uniformity(
+        heights, grid_shape=grid_shape, tolerance_fraction=tolerance_fraction
+    )
     area_uniformity = map_uniformity(
         areas, grid_shape=grid_shape, tolerance_fraction=tolerance_fraction
     )

@@ -12,7 +12,8 @@ from django.db.models import Q
 
 from inventory.models import CodedRecord, StampedRecord, Substrate
 
-__all__ = ["IntensityMeasure", "QcLimitSet", "QcMeasurement", "ReferenceAnalyte", "ReferenceMeasurement"]
+__all__ = ["IntensityMeasure", "QcLimitSet", "QcMeasurement", "ReferenceAnalyte",
+           "ReferenceMeasurement"]
 
 
 class ReferenceAnalyte(StampedRecord):

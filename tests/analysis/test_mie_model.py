@@ -74,9 +74,9 @@ def _miepython_gold_spectrum(median_nm, sigma_g=1.1, nodes=21):
     z = np.linspace(-3, 3, nodes)
     weights = np.exp(-(z**2) / 2)
     total = np.zeros(GRID_NM.size)
-    for d, weight in zip(median_nm * sigma_g**z, weights / weights.sum()):
+    for d, weight in zip(median_nm * sigma_g**z, weights / weights.sum(), strict=True):
         q_ext = [miepython.efficiencies(complex(ni, -ki), d, lam, n_env=1.333)[0]
-                 for ni, ki, lam in zip(n, k, GRID_NM)]
+                 for ni, ki, lam in zip(n, k, GRID_NM, strict=True)]
         total += weight * np.asarray(q_ext) * np.pi * d**2 / 4
     return total / total.max()
 

@@ -98,10 +98,10 @@ def _miepython_gold_file(path: Path, diameter_nm: float) -> Path:
     n = np.interp(wavelength, columns[0][:, 0] * 1000, columns[0][:, 1])
     k = np.interp(wavelength, columns[1][:, 0] * 1000, columns[1][:, 1])
     q_ext = np.array([miepython.efficiencies(complex(a, -b), diameter_nm, lam, n_env=1.333)[0]
-                      for a, b, lam in zip(n, k, wavelength)])
+                      for a, b, lam in zip(n, k, wavelength, strict=True)])
     absorbance = 0.8 * q_ext / q_ext.max()
     path.write_text("wavelength_nm,absorbance\n" + "".join(
-        f"{lam:.0f},{a:.5f}\n" for lam, a in zip(wavelength, absorbance)))
+        f"{lam:.0f},{a:.5f}\n" for lam, a in zip(wavelength, absorbance, strict=True)))
     return path
 
 
