@@ -1,0 +1,92 @@
+"""Drift of QC results per lot and per month, judged by the project's control-chart run rules.
+
+The rules and the chart are ``qc.analysis.control_charts.individuals_chart`` (Montgomery;
+Western Electric 1956; Nelson 1984); nothing is re-implemented here.  A lot is judged as
+phase II against the other lots: the others, in time order, set the centre line and σ̂
+(``baseline_count``), and the rules are read only at the lot's own points.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+import pandas as pd
+
+from qc.analysis.control_charts import individuals_chart
+
+from .errors import MIN_PER_GROUP
+
+
+@dataclass(frozen=True)
+class DriftFinding:
+    """Run-rule signals at one lot's (or month's) points."""
+
+    key: str
+    metric: str
+    n: int
+    signals: int
+    rules: tuple[str, ...]
+    mean: float
+    centre: float
+    sigma: float
+    lower_limit: float
+    upper_limit: float
+    evidence: tuple[str, ...]  # the rule sentences, with the substrate that completed each
+
+    def as_dict(self) -> dict:
+        return {"key": self.key, "metric": self.metric, "n": self.n, "signals": self.signals,
+                "rules": list(self.rules), "mean": self.mean, "centre": self.centre, "sigma": self.sigma,
+                "lower_limit": self.lower_limit, "upper_limit": self.upper_limit,
+                "evidence": list(self.evidence)}
+
+
+def drift_by(frame: pd.DataFrame, *, key: str, metric: str, order: str = "made_on",
+             label: str = "substrate_code", min_signals: int = 2,
+             min_n: int = MIN_PER_GROUP) -> list[DriftFinding]:
+    """Lots (or months) of ``key`` whose points break the run rules against the rest.
+
+    Parameters
+    ----------
+    frame : pandas.DataFrame
+        One row per substrate with ``key``, ``metric``, ``order`` and ``label`` columns.
+    min_signals : int
+        Signals needed before a group is reported (one stray point is not a drift).
+    min_n : int
+        Groups with fewer points, or a rest with fewer points, are not judged.
+
+    Returns
+    -------
+    list of DriftFinding
+        Only the groups that drift, most signals first.
+    """
+    data = frame[[key, metric, order, label]].dropna().sort_values([order, label])
+    drifting: dict[str, DriftFinding] = {}
+    while True:  # a drifting lot must not set the baseline of the others: judge, drop worst
+        clean = data[~data[key].astype(str).isin(drifting)]
+        signalling = [finding for value, part in clean.groupby(key, sort=False)
+                      if (finding := _judge(str(value), part, clean[clean[key] != value],
+                                            metric, label, min_signals, min_n))]
+        if not signalling:
+            return sorted(drifting.values(), key=lambda f: (-f.signals, f.key))
+        worst = max(signalling, key=lambda f: abs(f.mean - f.centre) / f.sigma)
+        drifting[worst.key] = worst
+
+
+def _judge(value: str, part: pd.DataFrame, rest: pd.DataFrame, metric: str, label: str,
+           min_signals: int, min_n: int) -> DriftFinding | None:
+    """The group's points as phase II after the rest (phase I), or None without a signal."""
+    if len(part) < min_n or len(rest) < min_n:
+        return None
+    series = np.concatenate([rest[metric].to_numpy(float), part[metric].to_numpy(float)])
+    chart = individuals_chart(series, baseline_count=len(rest))
+    own = [v for v in chart.violations if v.index >= len(rest)]
+    if len(own) < min_signals or chart.sigma <= 0:
+        return None
+    labels = part[label].to_numpy()
+    return DriftFinding(
+        key=value, metric=metric, n=len(part), signals=len(own),
+        rules=tuple(sorted({v.rule for v in own})), mean=float(part[metric].mean()),
+        centre=chart.centre, sigma=chart.sigma, lower_limit=chart.lower_limit,
+        upper_limit=chart.upper_limit,
+        evidence=tuple(f"{labels[v.index - len(rest)]}: {v.message}" for v in own))
