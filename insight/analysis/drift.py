@@ -42,7 +42,8 @@ class DriftFinding:
 
 
 def drift_by(frame: pd.DataFrame, *, key: str, metric: str, order: str = "made_on",
-             label: str = "substrate_code", min_signals: int = 2,
+             label: str = "substrate_code", min_signals: int = 3,
+             min_signal_fraction: float = 0.1,
              min_n: int = MIN_PER_GROUP) -> list[DriftFinding]:
     """Lots (or months) of ``key`` whose points break the run rules against the rest.
 
@@ -50,8 +51,9 @@ def drift_by(frame: pd.DataFrame, *, key: str, metric: str, order: str = "made_o
     ----------
     frame : pandas.DataFrame
         One row per substrate with ``key``, ``metric``, ``order`` and ``label`` columns.
-    min_signals : int
-        Signals needed before a group is reported (one stray point is not a drift).
+    min_signals, min_signal_fraction : int, float
+        Signals needed before a group is reported: at least ``min_signals`` and at least
+        this fraction of its points (with nine rules, a stray signal or two is chance).
     min_n : int
         Groups with fewer points, or a rest with fewer points, are not judged.
 
@@ -66,7 +68,9 @@ def drift_by(frame: pd.DataFrame, *, key: str, metric: str, order: str = "made_o
         clean = data[~data[key].astype(str).isin(drifting)]
         signalling = [finding for value, part in clean.groupby(key, sort=False)
                       if (finding := _judge(str(value), part, clean[clean[key] != value],
-                                            metric, label, min_signals, min_n))]
+                                            metric, label,
+                                            max(min_signals, min_signal_fraction * len(part)),
+                                            min_n))]
         if not signalling:
             return sorted(drifting.values(), key=lambda f: (-f.signals, f.key))
         worst = max(signalling, key=lambda f: abs(f.mean - f.centre) / f.sigma)
@@ -74,7 +78,7 @@ def drift_by(frame: pd.DataFrame, *, key: str, metric: str, order: str = "made_o
 
 
 def _judge(value: str, part: pd.DataFrame, rest: pd.DataFrame, metric: str, label: str,
-           min_signals: int, min_n: int) -> DriftFinding | None:
+           min_signals: float, min_n: int) -> DriftFinding | None:
     """The group's points as phase II after the rest (phase I), or None without a signal."""
     if len(part) < min_n or len(rest) < min_n:
         return None

@@ -47,6 +47,12 @@ class EffectsFit:
     residual_variance: float
     converged: bool
     omitted: dict[str, str] = field(default_factory=dict)
+    #: Outcome less the settings' fitted effects (intercept kept), by the frame's row index:
+    #: what is left for the lot, the batch and chance — the series drift charts should see.
+    adjusted: pd.Series | None = None
+    #: Outcome less everything fitted, lot and batch intercepts included (conditional
+    #: residuals): what a change over time would show in once the lots are accounted for.
+    residuals: pd.Series | None = None
 
     def as_dict(self) -> dict:
         return {"outcome": self.outcome, "n": self.n, "groups": self.groups,
@@ -68,6 +74,28 @@ def _usable_settings(frame: pd.DataFrame, settings) -> tuple[list[str], dict[str
         else:
             kept.append(name)
     return kept, omitted
+
+
+def _separable(data: pd.DataFrame, kept: list[str], omitted: dict[str, str]) -> list[str]:
+    """Keep settings in order while each adds a direction the earlier ones do not span.
+
+    Settings computed from one another (film height, charge density and h/D on one sphere
+    size) cannot be told apart; the later one is named with the one it moves with.
+    """
+    chosen: list[str] = []
+    columns = [np.ones(len(data))]
+    for name in kept:
+        values = data[name].to_numpy(dtype=float)
+        scale = values.std() or 1.0
+        trial = np.column_stack([*columns, (values - values.mean()) / scale])
+        if np.linalg.matrix_rank(trial, tol=1e-6 * np.sqrt(len(data))) == trial.shape[1]:
+            chosen.append(name)
+            columns = list(trial.T)
+        else:
+            partner = max(chosen, key=lambda other: abs(np.corrcoef(values, data[other])[0, 1])
+                          ) if chosen and values.std() > 0 else "the intercept"
+            omitted[name] = f"not enough data: moves together with {partner}, cannot be separated"
+    return chosen
 
 
 def mixed_effects(frame: pd.DataFrame, *, outcome: str, settings, group: str,
@@ -120,6 +148,9 @@ def mixed_effects(frame: pd.DataFrame, *, outcome: str, settings, group: str,
                             field=outcome)
     columns = [outcome, group, *kept] + ([nested] if nested else [])
     data = data[columns].dropna()
+    kept = _separable(data, kept, omitted)
+    if not kept:
+        raise NotEnoughData("no setting can be separated from the others", field=outcome)
     needed = min_per_setting * (len(kept) + 1)
     if len(data) < needed:
         raise NotEnoughData(f"{len(data)} substrates with every setting known (need "
@@ -148,7 +179,10 @@ def mixed_effects(frame: pd.DataFrame, *, outcome: str, settings, group: str,
     return EffectsFit(outcome=outcome, n=len(data), groups=len(set(groups)), effects=effects,
                       group_variance=float(np.asarray(result.cov_re)[0, 0]),
                       residual_variance=float(result.scale), converged=bool(result.converged),
-                      omitted=omitted)
+                      omitted=omitted,
+                      adjusted=pd.Series(data[outcome].to_numpy(float)
+                                         - exog[:, 1:] @ params[1:], index=data.index),
+                      residuals=pd.Series(np.asarray(result.resid), index=data.index))
 
 
 def _vc_by_group(labels: pd.Series, groups: np.ndarray, name: str) -> dict:

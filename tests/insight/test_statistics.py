@@ -11,7 +11,8 @@ from insight.analysis.drift import drift_by
 from insight.analysis.groups import compare_groups, mean_interval
 from insight.analysis.mixed import mixed_effects
 from insight.analysis.proportions import wilson_pass_rate
-from insight.analysis.trend import lowess_trend
+from insight.analysis.trend import lowess_trend, lowess_weights, rice_variance
+from statsmodels.nonparametric.smoothers_lowess import lowess
 from insight.analysis.window import operating_window
 
 
@@ -105,6 +106,25 @@ def test_lowess_band_covers_a_known_curve():
     truth = np.sin(2 * np.pi * trend.grid)
     assert np.mean((trend.low <= truth + 0.05) & (truth - 0.05 <= trend.high)) > 0.9
     assert np.max(np.abs(trend.fit[inner] - truth[inner])) < 0.25
+
+
+def test_band_weights_reproduce_the_statsmodels_lowess_curve():
+    # The band's smoother weights must be those of statsmodels' LOWESS (Cleveland 1979).
+    rng = np.random.default_rng(11)
+    x = rng.uniform(0, 3, 700)
+    y = np.exp(-x) + rng.normal(0, 0.1, x.size)
+    grid = np.linspace(0.1, 2.9, 25)
+    for frac in (0.2, 0.5, 0.9):
+        ours = lowess_weights(x, grid, frac) @ y
+        assert np.allclose(ours, lowess(y, x, frac=frac, it=0, xvals=grid), atol=1e-10)
+
+
+def test_rice_variance_recovers_known_noise():
+    # Rice (1984): differences of neighbours cancel a smooth trend; σ = 0.3 planted.
+    rng = np.random.default_rng(12)
+    x = rng.uniform(0, 1, 20000)
+    y = np.sin(4 * x) + rng.normal(0, 0.3, x.size)
+    assert rice_variance(x, y) == pytest.approx(0.09, rel=0.03)
 
 
 def test_lowess_refuses_a_constant_setting():

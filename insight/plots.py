@@ -1,0 +1,79 @@
+"""Insight figures: an outcome against a setting (every point a link to its substrate) and
+groups of a categorical setting with their intervals.
+
+Drawn with the project's figure helpers and palette (``qc.plots``); SVG keeps each point's
+link (matplotlib writes ``<a xlink:href>`` around a marker given a URL), so the page inlines
+the SVG and a click on a point opens that substrate.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+
+import numpy as np
+from matplotlib.figure import Figure
+
+from qc.plots import AMBER, GREEN, INK, RED, TEAL, _figure, message_figure
+
+from .analysis.groups import GroupSummary
+from .analysis.trend import Trend
+from .analysis.window import OperatingWindow
+
+__all__ = ["groups_figure", "message_figure", "setting_figure"]
+
+
+def setting_figure(x, y, passed, urls: Sequence[str], *, xlabel: str, ylabel: str,
+                   trend: Trend | None, limit: float | None = None,
+                   window: OperatingWindow | None = None, title: str = "") -> Figure:
+    """Scatter of ``y`` against ``x`` (passed green circles, failed red crosses, untested grey),
+    the LOWESS trend with its band, the lab's limit and the operating window."""
+    figure, (ax,) = _figure(7.0, 3.6)
+    x = np.asarray(x, dtype=float)
+    y = np.asarray(y, dtype=float)
+    verdict = np.asarray([np.nan if p is None else float(p) for p in passed], dtype=float)
+    urls = np.asarray(list(urls), dtype=object)
+    if window is not None:
+        ax.axvspan(window.low, window.high, color=GREEN, alpha=0.12, linewidth=0,
+                   label=f"operating window (pass ≥ {window.target:.0%})")
+    groups = ((verdict == 1, "o", GREEN, "passed"), (verdict == 0, "x", RED, "failed"),
+              (np.isnan(verdict), ".", INK, "not judged"))
+    for chosen, marker, colour, name in groups:
+        chosen = chosen & np.isfinite(x) & np.isfinite(y)
+        if chosen.any():
+            points = ax.scatter(x[chosen], y[chosen], s=16, marker=marker, color=colour,
+                                linewidths=1.0, label=f"{name} ({int(chosen.sum())})", zorder=3)
+            points.set_urls(list(urls[chosen]))
+    if trend is not None:
+        ax.fill_between(trend.grid, trend.low, trend.high, color=TEAL, alpha=0.18, linewidth=0,
+                        label="95 % band (bootstrap)")
+        ax.plot(trend.grid, trend.fit, color=TEAL, linewidth=1.8, label="trend (LOWESS)")
+    if limit is not None:
+        ax.axhline(limit, color=AMBER, linestyle="--", linewidth=1.2, label=f"limit {limit:g}")
+    ax.set_xlabel(xlabel)
+    ax.set_ylabel(ylabel)
+    if title:
+        ax.set_title(title, loc="left", fontsize=11)
+    ax.legend(frameon=False, fontsize=7, ncol=3, loc="best")
+    return figure
+
+
+def groups_figure(groups: Sequence[GroupSummary], *, ylabel: str, title: str = "",
+                  limit: float | None = None) -> Figure:
+    """Mean outcome of each group with its 95 % interval; groups too small are listed, not drawn."""
+    shown = [g for g in groups if g.mean is not None]
+    if not shown:
+        return message_figure("not enough data: no group has 10 or more substrates")
+    figure, (ax,) = _figure(7.0, 0.9 + 0.32 * len(shown))
+    positions = np.arange(len(shown))
+    means = np.array([g.mean for g in shown])
+    errors = np.array([[g.mean - g.ci_low for g in shown], [g.ci_high - g.mean for g in shown]])
+    ax.errorbar(means, positions, xerr=errors, fmt="o", color=TEAL, ecolor=INK, capsize=3)
+    ax.set_yticks(positions, [f"{g.label} (n = {g.n})" for g in shown], fontsize=8)
+    ax.invert_yaxis()
+    if limit is not None:
+        ax.axvline(limit, color=AMBER, linestyle="--", linewidth=1.2, label=f"limit {limit:g}")
+        ax.legend(frameon=False, fontsize=7)
+    ax.set_xlabel(ylabel + " (mean, 95 % CI)")
+    if title:
+        ax.set_title(title, loc="left", fontsize=11)
+    return figure
