@@ -19,14 +19,17 @@ from .analysis.groups import GroupSummary
 from .analysis.trend import Trend
 from .analysis.window import OperatingWindow
 
-__all__ = ["groups_figure", "message_figure", "setting_figure"]
+__all__ = ["groups_figure", "message_figure", "png_with_links", "setting_figure"]
 
 
 def setting_figure(x, y, passed, urls: Sequence[str], *, xlabel: str, ylabel: str,
                    trend: Trend | None, limit: float | None = None,
-                   window: OperatingWindow | None = None, title: str = "") -> Figure:
+                   window: OperatingWindow | None = None, title: str = ""):
     """Scatter of ``y`` against ``x`` (passed green circles, failed red crosses, untested grey),
-    the LOWESS trend with its band, the lab's limit and the operating window."""
+    the LOWESS trend with its band, the lab's limit and the operating window.
+
+    Returns the figure and its axes (for :func:`png_with_links`).  In SVG every marker
+    keeps its link."""
     figure, (ax,) = _figure(7.0, 3.6)
     x = np.asarray(x, dtype=float)
     y = np.asarray(y, dtype=float)
@@ -54,7 +57,7 @@ def setting_figure(x, y, passed, urls: Sequence[str], *, xlabel: str, ylabel: st
     if title:
         ax.set_title(title, loc="left", fontsize=11)
     ax.legend(frameon=False, fontsize=7, ncol=3, loc="best")
-    return figure
+    return figure, ax
 
 
 def groups_figure(groups: Sequence[GroupSummary], *, ylabel: str, title: str = "",
@@ -77,3 +80,33 @@ def groups_figure(groups: Sequence[GroupSummary], *, ylabel: str, title: str = "
     if title:
         ax.set_title(title, loc="left", fontsize=11)
     return figure
+
+
+PAGE_DPI = 110  # the dpi qc.plots.figure_bytes saves at; the image map is in these pixels
+POINT_RADIUS_PX = 5
+
+
+def png_with_links(figure: Figure, ax, points) -> tuple[bytes, list[dict]]:
+    """The figure as PNG and an HTML image map: one circle per point linking to its substrate.
+
+    ``points`` are ``(x, y, href, title)`` in data units.  The figure is drawn once at the
+    page dpi, so the map's pixel positions are those of the saved image.
+    """
+    import io
+
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+
+    figure.set_dpi(PAGE_DPI)
+    canvas = FigureCanvasAgg(figure)
+    canvas.draw()
+    buffer = io.BytesIO()
+    canvas.print_png(buffer)
+    height = figure.bbox.height
+    areas = []
+    if points:
+        xy = ax.transData.transform(np.array([(p[0], p[1]) for p in points], dtype=float))
+        for (px, py), (_, _, href, title) in zip(xy, points, strict=True):
+            if np.isfinite(px) and np.isfinite(py):
+                areas.append({"x": int(round(px)), "y": int(round(height - py)),
+                              "r": POINT_RADIUS_PX, "href": href, "title": title})
+    return buffer.getvalue(), areas

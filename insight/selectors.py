@@ -18,7 +18,7 @@ from django.db.models.functions import Coalesce
 from django.utils import timezone
 
 from inventory.models import Flag, LinkerLayer, ParticleAttachment, Status, Substrate
-from qc.models import QcMeasurement, UvVisRecord
+from qc.models import QcLimitSet, QcMeasurement, UvVisRecord
 
 from .columns import CATEGORICAL_SETTINGS, NUMERIC_SETTINGS, OUTCOMES
 
@@ -213,3 +213,15 @@ def expired_unused(table: pd.DataFrame, today: date) -> pd.Series:
 
 def numeric(table: pd.DataFrame, column: str) -> np.ndarray:
     return pd.to_numeric(table[column], errors="coerce").to_numpy(dtype=float)
+
+
+def limits_for(table: pd.DataFrame) -> float | None:
+    """log10 of the lab's minimum EF for the commonest stage and analyte judged (one query)."""
+    judged = table[table["qc_code"].notna()]
+    if judged.empty:
+        return None
+    stage, analyte = judged.groupby(["stage", "analyte"]).size().idxmax()
+    limits = QcLimitSet.objects.filter(product_kind=stage, analyte__name=analyte).first()
+    if limits is None or limits.min_enhancement_factor is None:
+        return None
+    return float(np.log10(limits.min_enhancement_factor))
