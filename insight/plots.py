@@ -48,7 +48,7 @@ def setting_figure(x, y, passed, urls: Sequence[str], *, xlabel: str, ylabel: st
             points.set_urls(list(urls[chosen]))
     if trend is not None:
         ax.fill_between(trend.grid, trend.low, trend.high, color=TEAL, alpha=0.18, linewidth=0,
-                        label="95 % band (bootstrap)")
+                        label="95 % band")
         ax.plot(trend.grid, trend.fit, color=TEAL, linewidth=1.8, label="trend (LOWESS)")
     if limit is not None:
         ax.axhline(limit, color=AMBER, linestyle="--", linewidth=1.2, label=f"limit {limit:g}")

@@ -113,8 +113,12 @@ class InsightReport:
         if self.window is not None:
             label = NUMERIC_SETTINGS[self.window.setting]
             text += f" The strongest lever is {label}: {self.window.sentence(label)}."
-        if self.drift:
-            text += " Drifting: " + ", ".join(sorted({f.key for f in self.drift})) + "."
+        lots = sorted({f.key for f in self.drift if f.key.startswith(SphereLot.CODE_PREFIX)})
+        months = sorted({f.key for f in self.drift} - set(lots))
+        if lots:
+            text += f" Sphere lot{'s' if len(lots) > 1 else ''} drifting: {', '.join(lots)}."
+        if months:
+            text += f" Months with run-rule signals: {', '.join(months)}."
         return text
 
 

@@ -182,7 +182,16 @@ def mixed_effects(frame: pd.DataFrame, *, outcome: str, settings, group: str,
                       omitted=omitted,
                       adjusted=pd.Series(data[outcome].to_numpy(float)
                                          - exog[:, 1:] @ params[1:], index=data.index),
-                      residuals=pd.Series(np.asarray(result.resid), index=data.index))
+                      residuals=pd.Series(_conditional_residuals(result, exog), index=data.index))
+
+
+def _conditional_residuals(result, exog: np.ndarray) -> np.ndarray:
+    """Residuals after fixed and random effects; with a zero lot variance (a singular
+    covariance, which statsmodels will not predict from) the random effects are zero."""
+    try:
+        return np.asarray(result.resid)
+    except ValueError:
+        return np.asarray(result.model.endog) - exog @ np.asarray(result.fe_params)
 
 
 def _vc_by_group(labels: pd.Series, groups: np.ndarray, name: str) -> dict:

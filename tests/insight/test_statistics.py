@@ -160,3 +160,15 @@ def test_drift_names_the_lot_that_sits_low():
     found = drift_by(frame, key="lot", metric="ef")
     assert [f.key for f in found] == ["L3"]
     assert found[0].signals >= 2 and found[0].evidence[0].startswith("SUB-")
+
+
+def test_mixed_model_without_any_lot_effect_still_gives_residuals():
+    # No lot effect at all: REML puts the lot variance at (or near) zero, a singular
+    # covariance from which statsmodels will not predict random effects.
+    rng = np.random.default_rng(21)
+    frame = pd.DataFrame({"lot": np.repeat(["A", "B", "C", "D"], 50),
+                          "x": rng.uniform(0, 1, 200)})
+    frame["y"] = 2.0 * frame["x"] + rng.normal(0, 0.1, 200)
+    fit = mixed_effects(frame, outcome="y", settings=["x"], group="lot")
+    assert fit.effects[0].ci_low < 2.0 < fit.effects[0].ci_high
+    assert fit.residuals.notna().all() and abs(fit.residuals.mean()) < 0.05
