@@ -12,7 +12,7 @@ insight page must find again (``PLANTED``):
 Each map is drawn from the same model as ``fixtures/raman/generate.py`` (Lorentzian bands,
 curved background, Poisson noise), its band heights scaled to the planted EF; each run's
 chronoamperogram is a constant current carrying the charge that gives its planted h/D
-(``qc.analysis.electrodeposition.charge_for_target_height_C``).  Called by ``load_demo``
+(``inventory.physics.electrodeposition.charge_for_target_height_C``).  Called by ``load_demo``
 through ``settings.SERSLEDGER_DEMO_EXTENSIONS`` after the QC demo.
 """
 
@@ -26,7 +26,7 @@ from django.db import transaction
 from inventory import services
 from inventory.demo import DemoScenario
 from inventory.models import NanoparticleBatch, ReagentKind, Status, Substrate
-from qc.analysis.electrodeposition import charge_for_target_height_C
+from inventory.physics.electrodeposition import charge_for_target_height_C
 from qc.models import ReferenceMeasurement
 from qc.services.raman import qc_measurement_import
 

@@ -1,7 +1,8 @@
 """Insight figures: an outcome against a setting (every point a link to its substrate) and
 groups of a categorical setting with their intervals.
 
-Drawn with the project's figure helpers and palette (``qc.plots``); SVG keeps each point's
+Drawn in the project's palette (the colour tokens of bench/templates/base.html; insight sits
+beside bench, so it keeps its own two small helpers rather than import bench's); SVG keeps each point's
 link (matplotlib writes ``<a xlink:href>`` around a marker given a URL), so the page inlines
 the SVG and a click on a point opens that substrate.
 """
@@ -10,16 +11,38 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 
-import numpy as np
-from matplotlib.figure import Figure
+import matplotlib
 
-from qc.plots import AMBER, GREEN, INK, RED, TEAL, _figure, message_figure
+matplotlib.use("Agg")
 
-from .analysis.groups import GroupSummary
-from .analysis.trend import Trend
-from .analysis.window import OperatingWindow
+import numpy as np  # noqa: E402
+from matplotlib.figure import Figure  # noqa: E402
+
+from .analysis.groups import GroupSummary  # noqa: E402
+from .analysis.trend import Trend  # noqa: E402
+from .analysis.window import OperatingWindow  # noqa: E402
 
 __all__ = ["groups_figure", "message_figure", "png_with_links", "setting_figure"]
+
+INK, TEAL, AMBER, RED, GREEN, GRID = (
+    "#1b2a2f", "#0b5d66", "#b0510f", "#a11d2b", "#236b3c", "#d9d4c7")
+
+
+def _figure(width_in: float, height_in: float):
+    """One axes with the house grid and open top and right sides (Agg, no pyplot state)."""
+    figure = Figure(figsize=(width_in, height_in), layout="constrained")
+    ax = figure.subplots()
+    ax.grid(True, color=GRID, linewidth=0.6)
+    ax.set_axisbelow(True)
+    ax.spines[["top", "right"]].set_visible(False)
+    return figure, (ax,)
+
+
+def message_figure(text: str) -> Figure:
+    """A small figure that says why there is no plot."""
+    figure = Figure(figsize=(6.0, 1.2))
+    figure.text(0.5, 0.5, text, ha="center", va="center", color=INK, wrap=True)
+    return figure
 
 
 def setting_figure(x, y, passed, urls: Sequence[str], *, xlabel: str, ylabel: str,

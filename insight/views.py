@@ -20,7 +20,6 @@ from django.shortcuts import redirect, render
 from django.urls import reverse
 from django.views.decorators.http import require_POST
 
-from inventory.make.forms.base import DateInput
 from inventory.models import Substrate
 
 from . import plots
@@ -33,6 +32,13 @@ from .services import DEFAULT_TARGET, REGRESSION_OUTCOMES, curvature_column, dri
     insight_report
 
 PLOTTED_EFFECTS = 3
+
+
+class DateInput(forms.DateInput):
+    input_type = "date"
+
+    def __init__(self, attrs=None):
+        super().__init__(attrs, format="%Y-%m-%d")
 
 
 class InsightFilterForm(forms.Form):
