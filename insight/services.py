@@ -43,6 +43,11 @@ FAILURE_KINDS = (("Band at", "band position outside tolerance"),
 
 @dataclass(frozen=True)
 class StepYield:
+    """One step's yield. ``made``: pieces that reached the step; ``tested``: with a QC at it;
+    ``passed_first_time``: whose first QC at the step passed; ``reworked``: first QC failed
+    and a later one at the same step passed; ``scrapped``: rejected or disposed at this step;
+    ``expired_unused``: past expiry at this step, still in quarantine or released."""
+
     step: str
     label: str
     made: int
