@@ -27,7 +27,7 @@ from .analysis import NotEnoughData
 from .analysis.trend import lowess_trend
 from .columns import CATEGORICAL_SETTINGS, NUMERIC_SETTINGS, OUTCOMES
 from .exports import table_csv, table_xlsx
-from .selectors import InsightFilters, limits_for, numeric
+from .selectors import InsightFilters, insight_table, limits_for, numeric
 from .services import DEFAULT_TARGET, REGRESSION_OUTCOMES, curvature_column, drift_flags_raise, \
     insight_report
 
@@ -105,6 +105,18 @@ def setting_plot(report, setting: str, outcome: str = "log10_ef", limit=None) ->
             "width": int(figure.bbox.width), "height": int(figure.bbox.height)}
 
 
+def lot_plot(report, limit=None) -> dict | None:
+    """Sphere lots compared (mean log10 EF with its interval): where a bad lot shows."""
+    groups = report.groups.get("sphere_lot")
+    if not groups:
+        return None
+    figure = plots.groups_figure(groups, ylabel=OUTCOMES["log10_ef"], limit=limit,
+                                 title="log10 EF by sphere lot")
+    png, _ = plots.png_with_links(figure, None, [])
+    return {"png": base64.b64encode(png).decode(), "width": int(figure.bbox.width),
+            "height": int(figure.bbox.height)}
+
+
 def _effect_rows(report) -> list[dict]:
     labels = {**NUMERIC_SETTINGS}
     if report.window:
@@ -130,6 +142,7 @@ def insight_page(request):
         "form": form, "report": report, "plots": plots_shown, "limit": limit,
         "effects": _effect_rows(report),
         "groups": [(CATEGORICAL_SETTINGS[k], v) for k, v in report.groups.items()],
+        "lot_plot": lot_plot(report, limit),
         "window_label": NUMERIC_SETTINGS[report.window.setting] if report.window else "",
         "refusals": report.refusals, "query": query,
     })
@@ -141,8 +154,6 @@ def _export(request, render_table, content_type: str, extension: str):
         return HttpResponse("; ".join(f"{field}: {' '.join(errors)}"
                                       for field, errors in form.errors.items()),
                             status=400, content_type="text/plain; charset=utf-8")
-    from .selectors import insight_table
-
     body = render_table(insight_table(form.filters()).table)
     response = HttpResponse(body, content_type=content_type)
     response["Content-Disposition"] = f'attachment; filename="sersledger-insight.{extension}"'
