@@ -106,8 +106,9 @@ def insight_table(filters: InsightFilters | None = None, *,
         substrate_id__in=ids, voided_at__isnull=True).order_by("made_on", "id").values_list(
             "substrate_id", "made_on", "batch_id", "batch__code", "batch__made_on"),
         ["substrate_id", "attached_on", "batch_id", "colloid_batch", "colloid_made_on"])
+    used_batches = ParticleAttachment.objects.filter(substrate_id__in=ids).values("batch_id")
     uvvis = _frame(UvVisRecord.objects.filter(
-        batch__attachments__substrate_id__in=ids, voided_at__isnull=True).distinct()
+        batch_id__in=used_batches, voided_at__isnull=True)
         .order_by("measured_on", "id").values_list(
             "batch_id", "measured_on", "mie_median_diameter_nm", "diameter_nm",
             "aggregation_index"),
