@@ -112,18 +112,14 @@ POINT_RADIUS_PX = 5
 def png_with_links(figure: Figure, ax, points) -> tuple[bytes, list[dict]]:
     """The figure as PNG and an HTML image map: one circle per point linking to its substrate.
 
-    ``points`` are ``(x, y, href, title)`` in data units.  The figure is drawn once at the
-    page dpi, so the map's pixel positions are those of the saved image.
+    ``points`` are ``(x, y, href, title)`` in data units.  The figure is saved at the page dpi
+    with no cropping, so the map's pixel positions are those of the saved image.
     """
     import io
 
-    from matplotlib.backends.backend_agg import FigureCanvasAgg
-
     figure.set_dpi(PAGE_DPI)
-    canvas = FigureCanvasAgg(figure)
-    canvas.draw()
     buffer = io.BytesIO()
-    canvas.print_png(buffer)
+    figure.savefig(buffer, format="png", dpi=PAGE_DPI)  # draws once; transforms are final
     height = figure.bbox.height
     areas = []
     if points:

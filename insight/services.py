@@ -137,9 +137,11 @@ def _step_yield(step: str, label: str, data: InsightData, expired: pd.Series) ->
     reached = {"film": table["metal"].notna(), "linker": table["linker_made_on"].notna(),
                "particles": table["attached_on"].notna()}[step]
     here = qc[(qc["product_kind"] == step) & qc["substrate_id"].isin(table["substrate_id"])]
-    per_piece = here.groupby("substrate_id")["passed"]
-    first = per_piece.first().astype(bool)
-    reworked = (~first) & per_piece.agg(lambda s: bool(s.iloc[1:].astype(bool).any()))
+    passed = here["passed"].astype(bool)
+    first = passed.groupby(here["substrate_id"]).first()
+    later = here.groupby("substrate_id").cumcount() > 0
+    passed_later = (passed & later).groupby(here["substrate_id"]).any()
+    reworked = (~first) & passed_later.reindex(first.index, fill_value=False)
     at_step = table["stage"] == step
     scrapped = table["status"].isin([Status.REJECTED, Status.DISPOSED]) & at_step
     return StepYield(step, label, int(reached.sum()), len(first), int(first.sum()),

@@ -18,6 +18,8 @@ from django.core.exceptions import PermissionDenied, ValidationError
 from django.http import HttpResponse
 from django.shortcuts import redirect, render
 from django.urls import reverse
+from django.utils.html import escape
+from django.utils.safestring import mark_safe
 from django.views.decorators.http import require_POST
 
 from inventory.models import Substrate
@@ -100,7 +102,11 @@ def setting_plot(report, setting: str, outcome: str = "log10_ef", limit=None) ->
               for xi, yi, code in zip(x, y, codes, strict=True)
               if np.isfinite(xi) and np.isfinite(yi)]
     png, areas = plots.png_with_links(figure, ax, points)
-    return {"setting": setting, "label": NUMERIC_SETTINGS[setting], "areas": areas,
+    # Built here rather than in a template loop: 5,000 areas cost a template about 0.2 s.
+    areas_html = mark_safe("".join(  # noqa: S308  (every value escaped)
+        f'<area shape="circle" coords="{a["x"]},{a["y"]},{a["r"]}" href="{escape(a["href"])}" '
+        f'title="{escape(a["title"])}" alt="{escape(a["title"])}">' for a in areas))
+    return {"setting": setting, "label": NUMERIC_SETTINGS[setting], "areas": areas_html,
             "png": base64.b64encode(png).decode(), "n": trend.n,
             "width": int(figure.bbox.width), "height": int(figure.bbox.height)}
 

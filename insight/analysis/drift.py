@@ -63,34 +63,44 @@ def drift_by(frame: pd.DataFrame, *, key: str, metric: str, order: str = "made_o
         Only the groups that drift, most signals first.
     """
     data = frame[[key, metric, order, label]].dropna().sort_values([order, label])
+    keys = data[key].astype(str).to_numpy()
+    values = data[metric].to_numpy(dtype=float)
+    labels = data[label].to_numpy()
     drifting: dict[str, DriftFinding] = {}
-    while True:  # a drifting lot must not set the baseline of the others: judge, drop worst
-        clean = data[~data[key].astype(str).isin(drifting)]
-        signalling = [finding for value, part in clean.groupby(key, sort=False)
-                      if (finding := _judge(str(value), part, clean[clean[key] != value],
-                                            metric, label,
-                                            max(min_signals, min_signal_fraction * len(part)),
+    candidates = list(dict.fromkeys(keys))
+    while candidates:  # a drifting group must not set the others' baseline: drop the worst
+        clean = ~np.isin(keys, list(drifting))
+        signalling = [finding for value in candidates
+                      if (finding := _judge(value, keys == value, clean & (keys != value),
+                                            values, labels, metric,
+                                            max(min_signals,
+                                                min_signal_fraction * (keys == value).sum()),
                                             min_n))]
         if not signalling:
-            return sorted(drifting.values(), key=lambda f: (-f.signals, f.key))
+            break
         worst = max(signalling, key=lambda f: abs(f.mean - f.centre) / f.sigma)
         drifting[worst.key] = worst
+        # Only groups that signalled are judged again: the baseline got cleaner for them.
+        candidates = [f.key for f in signalling if f.key != worst.key]
+    return sorted(drifting.values(), key=lambda f: (-f.signals, f.key))
 
 
-def _judge(value: str, part: pd.DataFrame, rest: pd.DataFrame, metric: str, label: str,
-           min_signals: float, min_n: int) -> DriftFinding | None:
-    """The group's points as phase II after the rest (phase I), or None without a signal."""
-    if len(part) < min_n or len(rest) < min_n:
+def _judge(value: str, own: np.ndarray, rest: np.ndarray, values: np.ndarray,
+           labels: np.ndarray, metric: str, min_signals: float,
+           min_n: int) -> DriftFinding | None:
+    """The group's points (mask ``own``) as phase II after the ``rest`` (phase I), in time
+    order; None without enough signals."""
+    n_own, n_rest = int(own.sum()), int(rest.sum())
+    if n_own < min_n or n_rest < min_n:
         return None
-    series = np.concatenate([rest[metric].to_numpy(float), part[metric].to_numpy(float)])
-    chart = individuals_chart(series, baseline_count=len(rest))
-    own = [v for v in chart.violations if v.index >= len(rest)]
-    if len(own) < min_signals or chart.sigma <= 0:
+    chart = individuals_chart(np.concatenate([values[rest], values[own]]), baseline_count=n_rest)
+    signals = [v for v in chart.violations if v.index >= n_rest]
+    if len(signals) < min_signals or chart.sigma <= 0:
         return None
-    labels = part[label].to_numpy()
+    own_labels = labels[own]
     return DriftFinding(
-        key=value, metric=metric, n=len(part), signals=len(own),
-        rules=tuple(sorted({v.rule for v in own})), mean=float(part[metric].mean()),
+        key=value, metric=metric, n=n_own, signals=len(signals),
+        rules=tuple(sorted({v.rule for v in signals})), mean=float(values[own].mean()),
         centre=chart.centre, sigma=chart.sigma, lower_limit=chart.lower_limit,
         upper_limit=chart.upper_limit,
-        evidence=tuple(f"{labels[v.index - len(rest)]}: {v.message}" for v in own))
+        evidence=tuple(f"{own_labels[v.index - n_rest]}: {v.message}" for v in signals))
