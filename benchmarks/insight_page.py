@@ -104,9 +104,11 @@ def main(argv: list[str] | None = None) -> None:
     parser = argparse.ArgumentParser(description=__doc__.split("\n\n")[0])
     parser.add_argument("--db", choices=["sqlite", "postgres"], default="sqlite")
     parser.add_argument("--repeat", type=int, default=5)
+    parser.add_argument("--scale", type=float, action="append",
+                        help=f"lab scale(s) to measure (default {SCALES})")
     args = parser.parse_args(argv)
     _use_own_database()
-    results = [measure(args.db, scale, args.repeat) for scale in SCALES]
+    results = [measure(args.db, scale, args.repeat) for scale in args.scale or SCALES]
     out = generate_lab.OUT_DIR / f"insight-{args.db}.json"
     out.write_text(json.dumps(results, indent=2))
     print(markdown(results))
