@@ -14,12 +14,11 @@ from openpyxl import load_workbook
 from inventory.models import Flag, SphereLot
 from insight.demo import BAD_SPHERE_LOT
 from insight.services import DRIFT_FLAG_CATEGORY
-from tests.conftest import PASSWORDS
 from tests.insight.test_demo_recovery import demo  # noqa: F401  (the planted demo fixture)
 
 
 def _login(client, user, role):
-    assert client.login(username=user.get_username(), password=PASSWORDS[role])
+    client.force_login(user)  # sign-in itself is tested elsewhere (and in the browser test)
 
 
 def test_page_api_and_exports_on_the_planted_demo(client, demo, viewer):  # noqa: F811
