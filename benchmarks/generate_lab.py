@@ -543,6 +543,9 @@ class LabGenerator:
         n_rows = len(self.pieces) * per_substrate
         heights = self.rng.lognormal(np.log(50.0), 0.3, size=n_rows)
         snrs = self.rng.uniform(5.0, 80.0, size=n_rows)
+        # Invented map results, so the insight statistics have outcomes to work on.
+        log10_ef = self.rng.normal(6.2, 0.3, size=n_rows)
+        rsd = self.rng.lognormal(np.log(12.0), 0.3, size=n_rows)
         rows = []
         for i in range(n_rows):
             piece = self.pieces[i // per_substrate]
@@ -555,7 +558,11 @@ class LabGenerator:
                 band_center_cm1=1075.0, band_window_cm1=40.0, band_position_cm1=1075.5,
                 band_fwhm_cm1=12.0, normalised_height_counts_per_mW_s=float(heights[i]),
                 normalised_area_counts_cm1_per_mW_s=float(heights[i]) * 15.0,
-                snr=float(snrs[i]), substrate_id=piece.id, limit_set_id=limits[piece.stage].id,
+                snr=float(snrs[i]), is_map=True, n_points=100, rsd_percent=float(rsd[i]),
+                enhancement_factor=float(10 ** log10_ef[i]),
+                enhancement_factor_u=float(0.25 * 10 ** log10_ef[i]),
+                log10_enhancement_factor=float(log10_ef[i]),
+                log10_enhancement_factor_u=0.11, substrate_id=piece.id, limit_set_id=limits[piece.stage].id,
                 product_kind=piece.stage, passed=bool(snrs[i] >= 10.0),
                 failure_reasons=[] if snrs[i] >= 10.0 else ["snr below the limit"]))
             self.stamp(rows[-1], self.user_ids, i)

@@ -1,12 +1,13 @@
 """The one API router, mounted at /api/v1/ by sersledger/urls.py (namespace ``api``).
 
-Assembled here, above both apps, so inventory and qc each list only their own routes and
-neither knows the other's.
+Assembled here, above the apps, so inventory, qc and insight each list only their own
+routes and none knows another's.
 """
 
 from django.urls import include, path
 from rest_framework.routers import DefaultRouter
 
+from insight import api_urls as insight_api
 from inventory.api import reports
 from inventory.api import urls as inventory_api
 from qc.api import urls as qc_api
@@ -20,4 +21,5 @@ for prefix, viewset in ROUTES:
     router.register(prefix, viewset, basename=prefix)
     reports.DETAIL_ROUTES[viewset.queryset.model._meta.model_name] = prefix
 
-urlpatterns = [*inventory_api.urlpatterns, path("", include(router.urls))]
+urlpatterns = [*inventory_api.urlpatterns, *insight_api.urlpatterns,
+               path("", include(router.urls))]

@@ -7,6 +7,7 @@ urlpatterns = [
     path("accounts/login/", auth_views.LoginView.as_view(), name="login"),
     path("accounts/logout/", auth_views.LogoutView.as_view(), name="logout"),
     path("api/v1/", include("sersledger.api_urls")),
+    path("", include("insight.urls")),
     path("", include("bench.urls")),
 ]
 

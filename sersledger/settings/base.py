@@ -31,6 +31,7 @@ INSTALLED_APPS = [
     "axes",
     "inventory",
     "qc",
+    "insight",
 ]
 
 MIDDLEWARE = [
@@ -160,6 +161,12 @@ SERSLEDGER_RELEASE_CHECKS = [
 
 # A maker may not release (sign off) a record they made; a one-person lab can allow it.
 SERSLEDGER_ALLOW_SELF_RELEASE = False
+
+# Further parts of the demo scenario from apps above qc, as dotted paths to callables
+# ``load(scenario)``, run by load_demo after the QC demo in the same transaction.
+SERSLEDGER_DEMO_EXTENSIONS = [
+    "insight.demo.load_insight_demo",
+]
 
 # The API (inventory/api, qc/api): token for scripts and instruments, session for the browser.
 REST_FRAMEWORK = {

@@ -1,7 +1,9 @@
 """Load the invented demo laboratory (idempotent: a second run changes nothing)."""
 
+from django.conf import settings
 from django.core.management.base import BaseCommand
 from django.db import transaction
+from django.utils.module_loading import import_string
 
 from inventory.demo import (
     DEMO_LAB,
@@ -28,6 +30,8 @@ class Command(BaseCommand):
             load_deposition_demo(scenario)
             load_colloid_demo(scenario)
             load_raman_demo(scenario)
+            for extension in settings.SERSLEDGER_DEMO_EXTENSIONS:
+                import_string(extension)(scenario)
         self.stdout.write(self.style.SUCCESS(f"Loaded the demo scenario: {DEMO_LAB}."))
         self.stdout.write("Demo sign-in (demo only): rin.okafor (maker), tomas.lind (reviewer), "
                           f"lab.admin (administrator); password '{DEMO_PASSWORD}'.")
