@@ -25,8 +25,9 @@ from django.db import transaction
 
 from inventory import services
 from inventory.demo import DemoScenario
-from inventory.models import NanoparticleBatch, ReagentKind, Status, Substrate
+from inventory.models import DepositionRun, NanoparticleBatch, ReagentKind, Status, Substrate
 from inventory.physics.electrodeposition import charge_for_target_height_C
+from inventory.physics.template_geometry import segment_void_surface_area_factor
 from qc.models import ReferenceMeasurement
 from qc.services.raman import qc_measurement_import
 
@@ -41,7 +42,8 @@ PLANTED = {"optimum_height_over_diameter": 0.55, "curvature_per_unit2": 8.0,
            "colloid_ageing_log10_per_day": -0.012, "bad_lot_log10": -0.35,
            "noise_log10": 0.05, "log10_ef_at_optimum": 6.45}
 # log10 EF the QC pipeline gives a map whose band height is 3000 counts, with the demo's
-# reference (measured once with this generator; the recovery test checks the outcome).
+# reference and a metal-area factor of 1 (measured once with this generator; the recovery
+# test checks the outcome).
 LOG10_EF_AT_3000_COUNTS = 6.48
 SHIFT_CM1 = np.linspace(900.0, 1200.0, 160)
 GRID = 4
@@ -140,13 +142,18 @@ def load_insight_demo(scenario: DemoScenario) -> None:
         batch_made = min(m for m in batches if m >= attach_day)  # the newest colloid
         age_d = batch_made - attach_day
         bad = sphere_lot.supplier_lot == BAD_SPHERE_LOT
+        # QC divides by the film's metal area (derived from its h/D); scale the band so the
+        # enhancement factor QC reports is the planted one.
+        run = DepositionRun.objects.get(pk=run.pk)
+        area_factor = segment_void_surface_area_factor(
+            sphere_diameter_nm=run.sphere_diameter_nm, film_height_nm=run.film_height_nm).value
         for piece in pieces:
             piece = Substrate.objects.get(pk=piece.pk)
             services.particle_attach(actor=maker, substrate=piece, batch=batches[batch_made],
                                      immersion_min=60, made_on=day(attach_day))
             log10_ef = planted_log10_ef(ratios[index], age_d, bad,
                                         rng.normal(0.0, PLANTED["noise_log10"]))
-            height = 3000.0 * 10 ** (log10_ef - LOG10_EF_AT_3000_COUNTS)
+            height = area_factor * 3000.0 * 10 ** (log10_ef - LOG10_EF_AT_3000_COUNTS)
             qc_measurement_import(
                 actor=maker, substrate=Substrate.objects.get(pk=piece.pk),
                 analyte_lot=scenario.lots["analyte"], filename=f"insight_{piece.code}.csv",
