@@ -355,11 +355,14 @@ def _parabola_vertex(axis, values, centre_nm, half_width_nm):
     if not abs(vertex) <= half_width_nm:
         return None, None, None, None
     # Gradients of x0 = −b/(2a) and y0 = c − b²/(4a) with respect to (a, b, c).
-    grad_x = np.array([b / (2 * a**2), -1 / (2 * a), 0.0])
-    grad_y = np.array([b**2 / (4 * a**2), -b / (2 * a), 1.0])
-    u_x = float(np.sqrt(max(grad_x @ cov @ grad_x, 0.0)))
-    u_y = float(np.sqrt(max(grad_y @ cov @ grad_y, 0.0)))
-    return float(centre_nm + vertex), float(c - b**2 / (4 * a)), u_x, u_y
+    # Absurd scalings (refused later by the range checks) must not warn on the way there.
+    with np.errstate(all="ignore"):
+        grad_x = np.array([b / (2 * a**2), -1 / (2 * a), 0.0])
+        grad_y = np.array([b**2 / (4 * a**2), -b / (2 * a), 1.0])
+        u_x = float(np.sqrt(max(grad_x @ cov @ grad_x, 0.0)))
+        u_y = float(np.sqrt(max(grad_y @ cov @ grad_y, 0.0)))
+        height = float(c - b**2 / (4 * a))
+    return float(centre_nm + vertex), height, u_x, u_y
 
 
 def _half_max_crossings(axis, values, peak_nm, peak_a):

@@ -39,7 +39,8 @@ def test_log_a_colloid_batch_with_its_uvvis_and_see_its_size(page, sign_in, scre
     page.wait_for_url(re.compile("/make/done/UV-"), timeout=120_000)
     size = page.get_by_role("row", name=re.compile("^Particle diameter"))
     # fixtures/uvvis/README.txt: modelled as citrate gold of median diameter 20 nm.
-    diameter_nm = float(re.search(r"([\d.]+) nm", size.inner_text()).group(1))
+    # Shown as "value ± uncertainty nm": the value is the first number after the label.
+    diameter_nm = float(re.search(r"([\d.]+) ±", size.inner_text()).group(1))
     assert 16 <= diameter_nm <= 24
     assert "particles/mL" in page.locator("#figures").inner_text()
     screenshot("make-colloid-result")
