@@ -10,6 +10,10 @@ path (``files.0``).
 
 from __future__ import annotations
 
+import re
+from functools import lru_cache
+
+from django.apps import apps
 from django.conf import settings
 from django.core.exceptions import (
     NON_FIELD_ERRORS,
@@ -18,6 +22,7 @@ from django.core.exceptions import (
     SuspiciousOperation,
 )
 from django.core.exceptions import ValidationError as DjangoValidationError
+from django.db.models import CheckConstraint, F, Q
 from django.http import Http404, JsonResponse
 from django.views import defaults
 from rest_framework import exceptions, serializers
@@ -38,12 +43,50 @@ class RequestTooLarge(exceptions.APIException):
                          "large instrument files as a multipart upload.")
 
 
+# Django's message when Model.full_clean finds a CheckConstraint broken (no field named).
+_BROKEN_RULE = re.compile(r"^Constraint “(?P<name>[^”]+)” is violated\.$")
+
+
+def _fields_of(condition) -> list[str]:
+    """Field names a constraint's Q condition refers to, in order (``a__gt`` -> ``a``,
+    ``F("b")`` -> ``b``)."""
+    names: list[str] = []
+    for child in getattr(condition, "children", ()):
+        if isinstance(child, Q):
+            names += _fields_of(child)
+        elif isinstance(child, tuple) and len(child) == 2:
+            names.append(child[0].split("__")[0])
+            if isinstance(child[1], F):
+                names.append(child[1].name)
+    return list(dict.fromkeys(names))
+
+
+@lru_cache(maxsize=1)
+def _check_constraint_fields() -> dict[str, list[str]]:
+    return {constraint.name: _fields_of(constraint.condition)
+            for model in apps.get_models() for constraint in model._meta.constraints
+            if isinstance(constraint, CheckConstraint)}
+
+
+def _named_by_rule(field: str, item: DjangoValidationError) -> tuple[str, str, str]:
+    """(field, message, code) of one error; a broken database rule names its first field."""
+    message = item.messages[0]
+    match = _BROKEN_RULE.match(message) if field in _WHOLE_REQUEST else None
+    fields = _check_constraint_fields().get(match["name"], []) if match else []
+    if not fields:
+        return field, message, item.code or "invalid"
+    return (fields[0], f"The value breaks the database rule “{match['name']}” on "
+                       f"{', '.join(fields)}.", "constraint")
+
+
 def _from_django(error: DjangoValidationError) -> exceptions.ValidationError:
     """A service refusal as DRF's ValidationError, keeping each message's code."""
     if hasattr(error, "error_dict"):
-        detail = {field: [serializers.ErrorDetail(message, code=item.code or "invalid")
-                          for item in items for message in item.messages]
-                  for field, items in error.error_dict.items()}
+        detail: dict = {}
+        for field, items in error.error_dict.items():
+            for item in items:
+                name, message, code = _named_by_rule(field, item)
+                detail.setdefault(name, []).append(serializers.ErrorDetail(message, code=code))
     else:
         detail = [serializers.ErrorDetail(message, code=item.code or "invalid")
                   for item in error.error_list for message in item.messages]

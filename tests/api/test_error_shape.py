@@ -90,3 +90,20 @@ def test_a_nul_character_in_an_amendment_is_refused_naming_the_field(api, chain)
     errors = _shaped(response, 400)
     assert any("notes" in (e["field"] or "") for e in errors), errors
     assert connection.vendor in ("sqlite", "postgresql")
+
+
+def test_a_database_rule_names_the_field_it_guards(chain, administrator, maker):
+    """A CHECK constraint that refuses a value (found by Model.full_clean in the service)
+    names the field of its condition, not null."""
+    limits = client_for(administrator).post(
+        "/api/v1/deposition-tolerances/",
+        {"metal": "Au", "max_abs_deviation_height_over_diameter": 0}, format="json")
+    (error,) = _shaped(limits, 400)
+    assert error["field"] == "max_abs_deviation_height_over_diameter", error
+    lot = chain.lot()
+    amended = client_for(maker).post(
+        f"/api/v1/reagent-lots/{lot.code}/amend/",
+        {"changes": {"concentration_mM": -5}, "reason": "typo", "expected_version": lot.version},
+        format="json")
+    errors = _shaped(amended, 400)
+    assert all((e["field"] or "").endswith("concentration_mM") for e in errors), errors

@@ -71,8 +71,8 @@ def test_model_constraint_refusal_is_reported_for_the_request(chain, clients):
         "received_on": chain.day(1).isoformat()}, format="json")
     assert response.status_code == 400
     [error] = response.json()["errors"]
-    # A check constraint spans the record, so Django reports it without a field.
-    assert error["field"] is None and "sphere_solids_range" in error["message"]
+    # Django reports a check constraint without a field; the API names the field it guards.
+    assert error["field"] == "solids_percent_w_v" and "sphere_solids_range" in error["message"]
 
 
 def test_unknown_code_and_wrong_kind_are_404_in_the_error_shape(chain, clients):
