@@ -10,6 +10,8 @@ counts proxies so that one proxy and one forwarded address yield no address at a
 
 from __future__ import annotations
 
+import ipaddress
+
 from django.conf import settings
 from django.http import HttpResponse, JsonResponse
 from django.shortcuts import render
@@ -17,13 +19,25 @@ from django.shortcuts import render
 from . import signature_throttle
 
 
-def client_address(request) -> str:
+def client_address(request) -> str | None:
+    """The address to count a sign-in against, or None when unknown (axes stores it in an
+    address column, which PostgreSQL checks: a forwarded value that is not an address is
+    ignored rather than failing the sign-in)."""
     meta = getattr(request, "META", None) or {}
     if getattr(settings, "SERSLEDGER_BEHIND_PROXY", False):
-        forwarded = [part.strip() for part in meta.get("HTTP_X_FORWARDED_FOR", "").split(",")]
-        if forwarded[-1]:
-            return forwarded[-1]
-    return meta.get("REMOTE_ADDR", "") or "-"
+        forwarded = meta.get("HTTP_X_FORWARDED_FOR", "").split(",")[-1].strip()
+        if _is_address(forwarded):
+            return forwarded
+    remote = meta.get("REMOTE_ADDR", "")
+    return remote if _is_address(remote) else None
+
+
+def _is_address(text: str) -> bool:
+    try:
+        ipaddress.ip_address(text)
+    except ValueError:
+        return False
+    return True
 
 
 def lockout_response(request, original_response=None, credentials=None) -> HttpResponse:

@@ -177,3 +177,8 @@ def test_behind_a_proxy_the_address_is_the_one_the_proxy_appended(settings):
     assert client_address(forged) == "10.0.0.7"
     direct = RequestFactory().post("/accounts/login/", REMOTE_ADDR="10.0.0.8")
     assert client_address(direct) == "10.0.0.8"
+    # Not an address (a forged header, a request made in code): never stored as one.
+    garbled = RequestFactory().post("/accounts/login/", REMOTE_ADDR="10.0.0.9",
+                                    HTTP_X_FORWARDED_FOR="10.0.0.7, <script>")
+    assert client_address(garbled) == "10.0.0.9"
+    assert client_address(RequestFactory().post("/", REMOTE_ADDR="")) is None
