@@ -7,7 +7,6 @@ so a page costs the same number of queries with ten records or a hundred thousan
 
 from __future__ import annotations
 
-import heapq
 from dataclasses import dataclass
 from datetime import date, timedelta
 
@@ -17,7 +16,7 @@ from django.db.models import Count, Q
 
 from inventory import selectors
 from inventory.models import Flag, LifecycleRecord, Status
-from inventory.selectors import ACTIVE_STATUSES, ExpiringItem
+from inventory.selectors import ExpiringItem
 from inventory.shelf_life import LIFECYCLE_KINDS
 
 # Unit shown beside a field, from the unit its name ends with (DESIGN: units in names).
@@ -133,24 +132,21 @@ def _lifecycle_models() -> list[type[LifecycleRecord]]:
     return [apps.get_model("inventory", kind) for kind in LIFECYCLE_KINDS]
 
 
-def expiring_page(days: int, *, offset: int = 0, limit: int = 25,
-                  on_date: date) -> tuple[list[ExpiringItem], int]:
-    """One page of active records expiring within ``days`` (soonest first) and the total.
+EXPIRING_COUNT_CAP = 1000  # the page says "1000+" beyond this, so counting stays flat
 
-    The same records as ``selectors.records_expiring_within``, but two queries per record
-    kind however many match: a count, and the first ``offset + limit`` rows of each kind,
-    merged by date.
+
+def expiring_page(days: int, *, after=None, limit: int = 25,
+                  on_date: date) -> tuple[list[ExpiringItem], tuple | None, int]:
+    """One page of active records expiring within ``days`` (soonest first), the position
+    after it (None on the last page) and how many there are, counted up to
+    ``EXPIRING_COUNT_CAP`` + 1: a keyset page and a capped count cost the same in any lab.
     """
+    page = selectors.records_expiring_page(days, after=after, limit=limit, on_date=on_date)
     horizon = on_date + timedelta(days=days)
-    total, heads = 0, []
-    for model in _lifecycle_models():
-        rows = model.objects.filter(status__in=ACTIVE_STATUSES, expires_on__isnull=False,
-                                    expires_on__lte=horizon).select_related("storage")
-        total += rows.count()
-        heads.append(list(rows.order_by("expires_on", "code")[: offset + limit]))
-    merged = heapq.merge(*heads, key=lambda record: (record.expires_on, record.code))
-    page = list(merged)[offset: offset + limit]
-    return [ExpiringItem(r, r.expires_on, (r.expires_on - on_date).days) for r in page], total
+    total = sum(selectors.expiring_rows(model, horizon=horizon, on_date=on_date,
+                                        include_expired=True)[:EXPIRING_COUNT_CAP + 1].count()
+                for model in _lifecycle_models())
+    return page.items, page.next_after, min(total, EXPIRING_COUNT_CAP + 1)
 
 
 def _on_shelf(model, on_date: date):

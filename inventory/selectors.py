@@ -7,6 +7,8 @@ from datetime import date, datetime, timedelta
 from typing import Any
 
 from django.apps import apps
+from django.db.models import Q
+from django.db.models.functions import Length
 from django.utils import timezone
 
 from .codes import CODE_ORDER, code_sort_key, record_get
@@ -30,34 +32,82 @@ class ExpiringItem:
         return self.record._meta.verbose_name
 
 
+def expiring_rows(model, *, horizon: date, on_date: date, include_expired: bool):
+    """Active records of one kind expiring by ``horizon`` (the one home of that rule)."""
+    rows = model.objects.filter(status__in=ACTIVE_STATUSES, expires_on__isnull=False,
+                                expires_on__lte=horizon)
+    return rows if include_expired else rows.filter(expires_on__gte=on_date)
+
+
+def _check_expiring_arguments(days: int, limit: int | None) -> None:
+    if days < 0:
+        raise ValueError("days must be zero or positive")
+    if limit is not None and limit < 1:
+        raise ValueError("limit must be at least 1")
+
+
 def records_expiring_within(days: int, *, on_date: date | None = None,
                             include_expired: bool = True,
                             limit: int | None = None) -> list[ExpiringItem]:
     """Active records (quarantine or released) whose expiry falls within ``days`` days.
 
     One query per record kind on the (status, expires_on) index; soonest first, then by
-    code in numeric order.  ``limit`` caps the list (and each query) for large stores.
+    code in numeric order.  ``limit`` caps the list (and each query) for large stores;
+    ``records_expiring_page`` walks the whole list a page at a time.
     """
-    if days < 0:
-        raise ValueError("days must be zero or positive")
-    if limit is not None and limit < 1:
-        raise ValueError("limit must be at least 1")
+    _check_expiring_arguments(days, limit)
+    page = records_expiring_page(days, on_date=on_date, include_expired=include_expired,
+                                 limit=limit)
+    return page.items
+
+
+@dataclass(frozen=True)
+class ExpiringPage:
+    items: list[ExpiringItem]
+    next_after: tuple[date, str] | None  # (expires_on, code) of the last item, if more follow
+
+
+def _after_in_kind(model, after: tuple[date, str]) -> Q:
+    """Rows of one kind that sort after (expires_on, code) in (date, prefix, number) order."""
+    day, code = after
+    prefix = code.split("-", 1)[0]
+    if prefix > model.CODE_PREFIX:
+        return Q(expires_on__gt=day)
+    if prefix < model.CODE_PREFIX:
+        return Q(expires_on__gte=day)
+    return (Q(expires_on__gt=day)
+            | Q(expires_on=day, code_length__gt=len(code))
+            | Q(expires_on=day, code_length=len(code), code__gt=code))
+
+
+def records_expiring_page(days: int, *, after: tuple[date, str] | None = None,
+                          limit: int | None = 50, on_date: date | None = None,
+                          include_expired: bool = True) -> ExpiringPage:
+    """One page of the expiring list, starting after ``after`` (keyset: flat with lab size).
+
+    Soonest first, then by code in numeric order; per record kind one query reading at
+    most ``limit + 1`` rows in index order, so page 1,000 costs what page 1 costs.
+    """
+    _check_expiring_arguments(days, limit)
     on_date = on_date or timezone.localdate()
     horizon = on_date + timedelta(days=days)
     items: list[ExpiringItem] = []
     for kind in LIFECYCLE_KINDS:
         model = apps.get_model("inventory", kind)
-        rows = model.objects.filter(status__in=ACTIVE_STATUSES, expires_on__isnull=False,
-                                    expires_on__lte=horizon)
-        if not include_expired:
-            rows = rows.filter(expires_on__gte=on_date)
-        rows = rows.order_by("expires_on", *CODE_ORDER)
+        rows = expiring_rows(model, horizon=horizon, on_date=on_date,
+                              include_expired=include_expired)
+        if after is not None:
+            rows = rows.annotate(code_length=Length("code")).filter(_after_in_kind(model, after))
+        rows = rows.select_related("storage").order_by("expires_on", *CODE_ORDER)
         if limit is not None:
-            rows = rows[:limit]
+            rows = rows[:limit + 1]
         items.extend(ExpiringItem(record, record.expires_on, (record.expires_on - on_date).days)
                      for record in rows)
     items.sort(key=lambda item: (item.expires_on, code_sort_key(item.record.code)))
-    return items if limit is None else items[:limit]
+    if limit is None or len(items) <= limit:
+        return ExpiringPage(items, None)
+    last = items[limit - 1]
+    return ExpiringPage(items[:limit], (last.expires_on, last.record.code))
 
 
 # ---------------------------------------------------------------------------------------

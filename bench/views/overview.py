@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from datetime import date
+
 from django.contrib.auth.decorators import login_required
 from django.shortcuts import render
 from django.utils import timezone
@@ -18,8 +20,8 @@ DASHBOARD_ROWS = 25  # the rest is one click away on Stock; an uncapped list was
 @login_required
 def home(request):
     today = timezone.localdate()
-    expiring, expiring_total = page_queries.expiring_page(DASHBOARD_DAYS, limit=DASHBOARD_ROWS,
-                                                          on_date=today)
+    expiring, _next, expiring_total = page_queries.expiring_page(
+        DASHBOARD_DAYS, limit=DASHBOARD_ROWS, on_date=today)
     flags = page_queries.open_flags()
     context = {
         "today": today, "days": DASHBOARD_DAYS,
@@ -33,6 +35,15 @@ def home(request):
     return render(request, "inventory/home.html", context)
 
 
+def _expiring_after(text: str):
+    """The page position ``eafter=YYYY-MM-DD~CODE``; anything else starts from the top."""
+    day, _, code = text.partition("~")
+    try:
+        return (date.fromisoformat(day), code) if code else None
+    except ValueError:
+        return None
+
+
 @login_required
 def stock(request):
     today = timezone.localdate()
@@ -42,16 +53,17 @@ def stock(request):
     if kind not in dict(kinds):
         kind = "substrate"
     location = request.GET.get("location", "").strip()
-    expiring_page_number = int_param(request, "epage", 1, low=1, high=100000)
-    expiring, expiring_total = page_queries.expiring_page(
-        days, offset=(expiring_page_number - 1) * PAGE_SIZE, limit=PAGE_SIZE, on_date=today)
+    after = _expiring_after(request.GET.get("eafter", ""))
+    expiring, next_after, expiring_total = page_queries.expiring_page(
+        days, after=after, limit=PAGE_SIZE, on_date=today)
     context = {
         "today": today, "days": days, "kinds": kinds, "kind": kind, "location": location,
         "summary": page_queries.shelf_summary(today),
         "shelf": paginate(request, page_queries.shelf_records(kind, today,
                                                               location_code=location)),
         "expiring": expiring, "expiring_total": expiring_total,
-        "epage": expiring_page_number,
-        "epage_count": max(1, -(-expiring_total // PAGE_SIZE)),
+        "expiring_capped": expiring_total > page_queries.EXPIRING_COUNT_CAP,
+        "expiring_from_start": after is None,
+        "expiring_next": f"{next_after[0].isoformat()}~{next_after[1]}" if next_after else "",
     }
     return render(request, "inventory/stock.html", context)

@@ -95,20 +95,29 @@ def rows_after(keys: list[OrderKey], values: list) -> Q:
     return reduce(or_, clauses)
 
 
-def encode_cursor(keys: list[OrderKey], values: list) -> str:
-    payload = {"o": [key.term for key in keys], "v": values}
+def pack_cursor(payload: dict) -> str:
+    """An opaque cursor: the payload as compact JSON in URL-safe base64."""
     text = json.dumps(payload, cls=DjangoJSONEncoder, separators=(",", ":"))
     return base64.urlsafe_b64encode(text.encode()).decode().rstrip("=")
 
 
-def decode_cursor(cursor: str, keys: list[OrderKey]) -> list:
-    """The ordering values a cursor carries, typed by their fields; 400 when it is not ours."""
+def unpack_cursor(cursor: str, *names: str) -> list:
+    """The named values of a cursor from ``pack_cursor``; a 400 naming ``cursor`` otherwise."""
     try:
         padded = cursor + "=" * (-len(cursor) % 4)
         payload = json.loads(base64.urlsafe_b64decode(padded.encode()))
-        terms, raw_values = payload["o"], payload["v"]
+        return [payload[name] for name in names]
     except (ValueError, TypeError, KeyError, binascii.Error):
         raise _invalid_cursor("This cursor is not one this API gave out.") from None
+
+
+def encode_cursor(keys: list[OrderKey], values: list) -> str:
+    return pack_cursor({"o": [key.term for key in keys], "v": values})
+
+
+def decode_cursor(cursor: str, keys: list[OrderKey]) -> list:
+    """The ordering values a cursor carries, typed by their fields; 400 when it is not ours."""
+    terms, raw_values = unpack_cursor(cursor, "o", "v")
     if terms != [key.term for key in keys]:
         raise _invalid_cursor(f"This cursor belongs to the ordering {','.join(map(str, terms))}, "
                               f"not {','.join(key.term for key in keys)}.")

@@ -8,11 +8,14 @@ shapes the answer as data.
 
 from __future__ import annotations
 
+from datetime import date
+
 from django.urls import NoReverseMatch, reverse
 from drf_spectacular.types import OpenApiTypes
 from drf_spectacular.utils import OpenApiParameter, PolymorphicProxySerializer, extend_schema
 from rest_framework import exceptions, serializers
 from rest_framework.response import Response
+from rest_framework.utils.urls import replace_query_param
 from rest_framework.views import APIView
 
 from inventory.codes import record_get
@@ -23,13 +26,21 @@ from inventory.selectors import (
     record_get_descendants,
     record_get_history,
     record_get_signatures,
-    records_expiring_within,
+    records_expiring_page,
     substrate_check_readiness,
 )
 from inventory.signatures import MEANINGS
 
 from .base import RoleMixin
 from .fields import LabDate
+from .pagination import (
+    CURSOR_PARAM,
+    DEFAULT_PAGE_SIZE,
+    MAX_PAGE_SIZE,
+    PAGE_SIZE_PARAM,
+    pack_cursor,
+    unpack_cursor,
+)
 from .units import DocumentedFields
 
 
@@ -194,26 +205,58 @@ class ExpiringOut(DocumentedFields, serializers.Serializer):
     days_left = serializers.IntegerField()
 
 
+class ExpiringPageOut(serializers.Serializer):
+    next = serializers.URLField(allow_null=True, help_text="The following page (same days and "
+                                "page size), or null on the last page.")
+    results = ExpiringOut(many=True)
+
+
+def _expiring_after(params):
+    """The (expires_on, code) a cursor carries; a cursor not given out here is a 400."""
+    cursor = params.get(CURSOR_PARAM)
+    if not cursor:
+        return None
+    day, code = unpack_cursor(cursor, "d", "c")
+    try:
+        return date.fromisoformat(day), str(code)
+    except (ValueError, TypeError):
+        raise serializers.ValidationError({CURSOR_PARAM: [
+            "This cursor is not one this API gave out."]}) from None
+
+
 class ExpiringView(RoleMixin, APIView):
     """Active records (quarantine or released) expiring within ``days`` days, soonest first;
-    already expired ones are included (negative days_left)."""
+    already expired ones are included (negative days_left).  Paged like the other lists:
+    ``page_size`` rows (``limit`` is its older name), then follow ``next``; every page costs
+    the same however large the lab."""
 
     @extend_schema(parameters=[
         OpenApiParameter("days", type=OpenApiTypes.INT, default=14,
                          description="Horizon in days (0–3650)."),
-        OpenApiParameter("limit", type=OpenApiTypes.INT, default=500,
-                         description="At most this many records, soonest first (1–5000).")],
-        responses={200: ExpiringOut(many=True)})
+        OpenApiParameter(PAGE_SIZE_PARAM, type=OpenApiTypes.INT, default=DEFAULT_PAGE_SIZE,
+                         description=f"Rows per page (1–{MAX_PAGE_SIZE})."),
+        OpenApiParameter("limit", type=OpenApiTypes.INT,
+                         description=f"Older name of {PAGE_SIZE_PARAM}."),
+        OpenApiParameter(CURSOR_PARAM, type=OpenApiTypes.STR,
+                         description="Opaque position from the previous page's 'next'.")],
+        responses={200: ExpiringPageOut})
     def get(self, request):
         days = _query(serializers.IntegerField(min_value=0, max_value=3650),
                       request.query_params, "days", 14)
-        limit = _query(serializers.IntegerField(min_value=1, max_value=5000),
-                       request.query_params, "limit", 500)
-        items = records_expiring_within(days, limit=limit)
-        return Response(ExpiringOut([
+        size_field = serializers.IntegerField(min_value=1, max_value=MAX_PAGE_SIZE)
+        size = _query(size_field, request.query_params, "limit", DEFAULT_PAGE_SIZE)
+        size = _query(size_field, request.query_params, PAGE_SIZE_PARAM, size)
+        page = records_expiring_page(days, after=_expiring_after(request.query_params),
+                                     limit=size)
+        next_url = None
+        if page.next_after is not None:
+            day, code = page.next_after
+            next_url = replace_query_param(request.build_absolute_uri(), CURSOR_PARAM,
+                                           pack_cursor({"d": day, "c": code}))
+        return Response({"next": next_url, "results": ExpiringOut([
             {"code": item.record.code, "kind": item.kind_label, "status": item.record.status,
-             "expires_on": item.expires_on, "days_left": item.days_left} for item in items
-        ], many=True).data)
+             "expires_on": item.expires_on, "days_left": item.days_left}
+            for item in page.items], many=True).data})
 
 
 # ------------------------------------------------------------- history and signatures

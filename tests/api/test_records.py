@@ -228,7 +228,8 @@ def test_expiring_soon(chain, clients):
     soon = chain.lot("solvent", days_ago=35)   # expires in 5 days
     chain.lot("solvent", days_ago=1)           # in 39 days
     listed = clients["viewer"].get("/api/v1/expiring/", {"days": 14}).json()
-    assert [(i["code"], i["days_left"]) for i in listed] == [(soon.code, 5)]
+    assert [(i["code"], i["days_left"]) for i in listed["results"]] == [(soon.code, 5)]
+    assert listed["next"] is None
     bad = clients["viewer"].get("/api/v1/expiring/", {"days": -1})
     assert bad.status_code == 400 and bad.json()["errors"][0]["field"] == "days"
 
@@ -240,9 +241,34 @@ def test_expiring_soon_is_bounded_soonest_first(chain, clients):
     soonest = chain.lot("solvent", days_ago=38)   # expires in 2 days
     chain.lot("solvent", days_ago=35)             # in 5 days
     listed = clients["viewer"].get("/api/v1/expiring/", {"days": 14, "limit": 1}).json()
-    assert [i["code"] for i in listed] == [soonest.code]
+    assert [i["code"] for i in listed["results"]] == [soonest.code]
     bad = clients["viewer"].get("/api/v1/expiring/", {"limit": 0})
     assert bad.status_code == 400 and bad.json()["errors"][0]["field"] == "limit"
+
+
+def test_expiring_pages_walk_the_whole_list_once_in_order(chain, clients):
+    """Following 'next' gives every record once, in the order of an independent sort."""
+    clients["administrator"].post("/api/v1/shelf-life-rules/", {
+        "record_kind": "reagentlot", "shelf_life_days": 40, "counted_from": "received"},
+        format="json")
+    lots = [chain.lot("solvent", days_ago=30 + i % 4) for i in range(7)]
+    _run, pieces = chain.run(pieces=2)
+    walked, url = [], "/api/v1/expiring/?days=3650&page_size=2"
+    while url:
+        page = clients["viewer"].get(url).json()
+        assert len(page["results"]) <= 2
+        walked += [(i["expires_on"], i["code"]) for i in page["results"]]
+        url = page["next"]
+    from django.apps import apps
+
+    from inventory.shelf_life import LIFECYCLE_KINDS
+    every = [r for kind in LIFECYCLE_KINDS for r in apps.get_model("inventory", kind).objects.all()
+             if r.status in ("quarantine", "released") and r.expires_on is not None]
+    expected = sorted(((r.expires_on.isoformat(), r.code) for r in every),
+                      key=lambda row: (row[0], row[1].split("-")[0], int(row[1].split("-")[1])))
+    assert len(expected) >= len(lots) and walked == expected
+    bad = clients["viewer"].get("/api/v1/expiring/", {"cursor": "not-ours"})
+    assert bad.status_code == 400 and bad.json()["errors"][0]["field"] == "cursor"
 
 
 def test_record_lookup_points_at_its_endpoint(chain, clients):
