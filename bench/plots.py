@@ -66,13 +66,29 @@ def message_figure(text: str) -> Figure:
 # --------------------------------------------------------------------------------------
 
 
+@dataclass(frozen=True)
+class BandCurve:
+    """The part of a band fit a plot draws (stored results carry no whole ``BandFit``)."""
+
+    window_shift_cm1: object
+    fitted_curve: object
+    position_cm1: float
+    fwhm_cm1: float
+
+
 def raman_spectrum_figure(shift_cm1, intensity, band, *, title: str,
-                          band_center_cm1: float | None = None) -> Figure:
+                          band_center_cm1: float | None = None,
+                          spread: tuple | None = None) -> Figure:
     """A processed spectrum (counts/(mW·s)) with the fitted reference band on top.
 
-    ``band`` is a ``qc.analysis.bands.BandFit`` (its window axis and fitted curve).
+    ``band`` is a ``qc.analysis.bands.BandFit`` or a ``BandCurve`` (window axis and fitted
+    curve); ``spread`` an optional (label, lower, upper) band drawn behind a map's mean.
     """
     figure, (ax,) = _figure()
+    if spread is not None:
+        label, lower, upper = spread
+        ax.fill_between(shift_cm1, lower, upper, color=TEAL, alpha=0.18, linewidth=0,
+                        label=label)
     ax.plot(shift_cm1, intensity, color=INK, linewidth=0.9, label="processed spectrum")
     ax.plot(band.window_shift_cm1, band.fitted_curve, color=AMBER, linewidth=2.0,
             label=f"fitted band {band.position_cm1:.1f} cm⁻¹, FWHM {band.fwhm_cm1:.1f} cm⁻¹")

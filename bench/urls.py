@@ -18,6 +18,7 @@ urlpatterns = [
     path("r/<str:code>/label/", views.record_label, name="record_label"),
     path("account/api-tokens/", views.api_tokens, name="api_tokens"),
     path("review/", views.review, name="review"),
+    path("qc/imports/<uuid:pk>/", views.qc_import_page, name="qc_import_page"),
     path("review/<str:code>/", views.review_sign, name="review_sign"),
     path("flags/<str:code>/resolve/", views.flag_resolve, name="flag_resolve"),
     path("plots/raman/<str:code>.svg", views.plot_raman, name="plot_raman"),

@@ -3,25 +3,34 @@
 Plugged in through ``settings.SERSLEDGER_READINESS_PROVIDERS`` as
 ``"qc.readiness.qc_reasons"``.  QC is required for a product kind (substrate stage) when the
 lab has a limit set for it; the latest QC measurement at the substrate's current stage, made
-on or before the day checked, decides.  Two queries at most.
+on or before the day checked, decides; a QC import still being analysed blocks
+readiness until it is judged.  Three queries at most.
 """
 
 from __future__ import annotations
 
 from inventory.readiness import ReadinessContext, Reason
 
+from .models.imports import QcImport
 from .models.raman import QcLimitSet, QcMeasurement
 
 __all__ = ["qc_reasons"]
 
 
 def qc_reasons(context: ReadinessContext) -> list[Reason]:
-    """``qc_missing``, ``qc_failed`` or ``qc_stale`` for ``context.substrate``, or nothing."""
+    """``qc_pending``, ``qc_missing``, ``qc_failed`` or ``qc_stale`` for ``context.substrate``, or nothing."""
     substrate = context.substrate
     limits = {limit.analyte_id: limit
               for limit in QcLimitSet.objects.filter(product_kind=substrate.stage)}
     if not limits:
         return []
+    pending = (QcImport.objects.filter(substrate_id=substrate.pk, state__in=QcImport.PENDING)
+               .only("upload_filename", "state").first())
+    if pending is not None:
+        return [Reason("qc_pending", f"The QC file {pending.upload_filename} of "
+                                     f"{substrate.code} is still being analysed "
+                                     f"({pending.get_state_display().lower()}).",
+                       substrate.code)]
     latest = (QcMeasurement.objects
               .filter(substrate_id=substrate.pk, product_kind=substrate.stage,
                       analyte_id__in=list(limits), measured_on__lte=context.on_date,

@@ -21,5 +21,5 @@ for prefix, viewset in ROUTES:
     router.register(prefix, viewset, basename=prefix)
     reports.DETAIL_ROUTES[viewset.queryset.model._meta.model_name] = prefix
 
-urlpatterns = [*inventory_api.urlpatterns, *insight_api.urlpatterns,
+urlpatterns = [*inventory_api.urlpatterns, *insight_api.urlpatterns, *qc_api.urlpatterns,
                path("", include(router.urls))]

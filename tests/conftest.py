@@ -9,6 +9,15 @@ import pytest
 TODAY = date(2026, 6, 15)
 
 
+@pytest.fixture(autouse=True)
+def _empty_cache():
+    """Every test starts with an empty cache: codes and digests repeat from test to test, so
+    a plot rendered in one would otherwise be served in the next."""
+    from django.core.cache import cache
+
+    cache.clear()
+
+
 @pytest.fixture
 def today(monkeypatch):
     """Freeze the service layer's idea of today so dates in tests are exact."""

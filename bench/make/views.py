@@ -12,6 +12,7 @@ from django.urls import reverse
 from inventory.codes import RecordNotFound, record_get
 from inventory.ghs import STATEMENTS
 from inventory.roles import MAKER, require_role, roles_of, user_has_role
+from qc.models import QcImport
 
 from .results import RESULTS
 from .steps import GROUPS, SDS, STEP_BY_SLUG, STEPS
@@ -49,7 +50,10 @@ def step(request, slug: str):
 
 
 def _after(record) -> str:
-    """The computed figures when the step computes any, else the new record's page."""
+    """The computed figures when the step computes any, else the new record's page; the
+    progress page while a big QC file is analysed in the background."""
+    if isinstance(record, QcImport):
+        return reverse("qc_import_page", args=[record.pk])
     name = "make:result" if type(record) in RESULTS else "record"
     return reverse(name, args=[record.code])
 

@@ -1,6 +1,7 @@
 """The pages by task (overview, records, trace, review): parse, call one service, render."""
 
 from .account import api_tokens  # noqa: F401
+from .imports import qc_import_page  # noqa: F401
 from .overview import home, stock  # noqa: F401
 from .records import label_sheet, readiness_check, record_detail, record_label  # noqa: F401
 from .review import (  # noqa: F401

@@ -57,10 +57,11 @@ def _qc_panel(record) -> dict:
     """What the QC side knows about this record, for the record page."""
     if isinstance(record, Substrate):
         return {"qc_measurements": list(QcMeasurement.objects.filter(substrate=record)
+                                        .defer("point_values", "ef_inputs")
                                         .order_by("-measured_on", "-id")[:20])}
     if isinstance(record, QcMeasurement):
         return {"laser_caution": True, "raman_plot": True, "figures": qc_figures(record),
-                "heatmap": bool(record.point_values and "image" in record.point_values)}
+                "heatmap": record.has_heatmap}
     if isinstance(record, ReferenceMeasurement):
         return {"laser_caution": True, "raman_plot": True}
     if isinstance(record, NanoparticleBatch):

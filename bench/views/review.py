@@ -13,6 +13,7 @@ from datetime import timedelta
 from django import forms
 from django.contrib import messages
 from django.contrib.auth.decorators import login_required
+from django.core.cache import cache
 from django.core.exceptions import ValidationError
 from django.http import Http404, HttpResponse
 from django.shortcuts import get_object_or_404, redirect, render
@@ -30,10 +31,15 @@ from inventory.signatures import APPROVED, MEANINGS, SignatureIntent
 from qc.analysis import qc_pipeline
 from qc.analysis.readers import decode_text, read_map, read_spectrum
 from qc.models import QcMeasurement, ReferenceMeasurement, UvVisRecord
-from qc.selectors import qc_control_chart, uvvis_record_get_curves
+from qc.selectors import (
+    measurement_get_stored_results,
+    qc_control_chart,
+    uvvis_record_get_curves,
+)
 from qc.selectors.raman import CHART_METRICS
 
 CHART_DAYS = 365  # control charts show the last year unless ?days= says otherwise
+PLOT_CACHE_SECONDS = 24 * 3600  # plots of stored results never change; a day bounds the cache
 
 # ---------------------------------------------------------------------------------------
 # Review queue
@@ -216,13 +222,40 @@ def _image(request, figure) -> HttpResponse:
     return response
 
 
+def _stored_image(request, code: str, digest: str, kind: str, draw) -> HttpResponse:
+    """A plot of stored results: named by their SHA-256, so cached and revalidated by it.
+
+    The results of an import never change, so the browser may keep the image (ETag,
+    ``Cache-Control``) and the server keeps the rendered bytes in Django's cache.
+    """
+    fmt = request.GET.get("format", "svg")
+    if fmt not in plots.FORMATS:
+        fmt = "svg"
+    etag = f'"{code}-{digest[:32]}-{kind}-{fmt}"'  # the title names the record
+    if etag in request.headers.get("If-None-Match", ""):
+        response = HttpResponse(status=304)
+    else:
+        key = f"plot:{code}:{digest}:{kind}:{fmt}"
+        body = cache.get(key)
+        if body is None:
+            body = plots.figure_bytes(draw(), fmt)
+            cache.set(key, body, PLOT_CACHE_SECONDS)
+        response = HttpResponse(body, content_type=plots.FORMATS[fmt])
+    response["ETag"] = etag
+    response["Cache-Control"] = f"private, max-age={PLOT_CACHE_SECONDS}"
+    return response
+
+
 def _read_bytes(field_file) -> bytes:
     with field_file.open("rb") as handle:
         return handle.read()
 
 
 def _raman_rerun(measurement):
-    """Re-run the QC pipeline on the stored raw file with the stored settings."""
+    """Re-run the QC pipeline on the raw file: only for records stored before their results.
+
+    ``manage.py store_qc_results`` stores the results of such records once.
+    """
     content = _read_bytes(measurement.raw_file)
     settings = {"band_center_cm1": measurement.band_center_cm1,
                 "band_window_cm1": measurement.band_window_cm1,
@@ -237,29 +270,79 @@ def _raman_rerun(measurement):
     return result.shift_cm1, result.processed_intensity, result.band, "spectrum"
 
 
+def _raman_figure(measurement, stored):
+    """The processed (or mean) spectrum with its band fit, from the stored arrays."""
+    band = plots.BandCurve(window_shift_cm1=stored["band_shift_cm1"],
+                           fitted_curve=stored["band_fitted"],
+                           position_cm1=measurement.band_position_cm1,
+                           fwhm_cm1=measurement.band_fwhm_cm1)
+    spread = None
+    if "percentile_spectra" in stored:
+        q, rows = stored["percentile_q"], stored["percentile_spectra"]
+        spread = (f"{q[0]:g}–{q[-1]:g} percentile of the points", rows[0], rows[-1])
+    what = "mean of map" if "percentile_spectra" in stored else "spectrum"
+    return plots.raman_spectrum_figure(stored["shift_cm1"], stored["spectrum"], band,
+                                       title=f"{measurement.code} ({what})",
+                                       band_center_cm1=measurement.band_center_cm1,
+                                       spread=spread)
+
+
+def _raman_measurement(code: str):
+    """A QC or reference measurement by code, without its per-point data (plots need none)."""
+    for model in (QcMeasurement, ReferenceMeasurement):
+        rows = model.objects.filter(code=code)
+        if model is QcMeasurement:
+            rows = rows.defer("point_values", "ef_inputs")
+        found = rows.first()
+        if found is not None:
+            return found
+    record = record_or_404(code)
+    raise Http404(f"{record.code} has no Raman spectrum.")
+
+
+def _stored_or_none(measurement):
+    try:
+        return measurement_get_stored_results(measurement)
+    except ValueError:  # the archive changed since import: draw from the raw file instead
+        return None
+
+
 @login_required
 def plot_raman(request, code: str):
-    measurement = record_or_404(code)
-    if not isinstance(measurement, (QcMeasurement, ReferenceMeasurement)):
-        raise Http404(f"{measurement.code} has no Raman spectrum.")
-    shift, intensity, band, what = _raman_rerun(measurement)
-    figure = plots.raman_spectrum_figure(shift, intensity, band,
-                                         title=f"{measurement.code} ({what})",
-                                         band_center_cm1=measurement.band_center_cm1)
-    return _image(request, figure)
+    measurement = _raman_measurement(code)
+
+    def draw():
+        stored = _stored_or_none(measurement)
+        if stored is not None:
+            return _raman_figure(measurement, stored)
+        shift, intensity, band, what = _raman_rerun(measurement)
+        return plots.raman_spectrum_figure(shift, intensity, band,
+                                           title=f"{measurement.code} ({what})",
+                                           band_center_cm1=measurement.band_center_cm1)
+    if measurement.results_sha256:
+        return _stored_image(request, measurement.code, measurement.results_sha256, "raman", draw)
+    return _image(request, draw())
 
 
 @login_required
 def plot_heatmap(request, code: str):
-    measurement = record_or_404(code)
-    image = (measurement.point_values or {}).get("image") \
-        if isinstance(measurement, QcMeasurement) else None
-    if not image:
+    measurement = _raman_measurement(code)
+    if not isinstance(measurement, QcMeasurement) or not measurement.has_heatmap:
         raise Http404(f"{measurement.code} is not a QC map on a full grid.")
-    figure = plots.rsd_heatmap_figure(image["rows"], x_um=image["x_um"], y_um=image["y_um"],
-                                      rsd_percent=measurement.rsd_percent,
-                                      title=f"{measurement.code} band height")
-    return _image(request, figure)
+
+    def draw():
+        stored = _stored_or_none(measurement)
+        if stored is not None and "heatmap" in stored:
+            rows, x_um, y_um = stored["heatmap"], stored["heatmap_x_um"], stored["heatmap_y_um"]
+        else:
+            image = measurement.point_values["image"]
+            rows, x_um, y_um = image["rows"], image["x_um"], image["y_um"]
+        return plots.rsd_heatmap_figure(rows, x_um=x_um, y_um=y_um,
+                                        rsd_percent=measurement.rsd_percent,
+                                        title=f"{measurement.code} band height")
+    if measurement.results_sha256:
+        return _stored_image(request, measurement.code, measurement.results_sha256, "heatmap", draw)
+    return _image(request, draw())
 
 
 @login_required

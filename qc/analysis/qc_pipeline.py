@@ -85,6 +85,15 @@ class MapQcResult:
         Axis and the mean processed spectrum, for plotting with ``mean_band.fitted_curve``.
     baseline_converged : bool
         Whether every spectrum's baseline iteration converged.
+    percentile_q : numpy.ndarray
+        The percentiles (%) of ``percentile_spectra``.
+    percentile_spectra : numpy.ndarray, shape (len(percentile_q), n_shift)
+        Percentiles of the processed spectra, point by point along the axis, over an evenly
+        spaced sample of at most ``PERCENTILE_SAMPLE`` map points (the spread a page draws).
+    sample_index : numpy.ndarray
+        Evenly spaced map points whose baselines are kept.
+    sample_spectra, sample_baselines : numpy.ndarray, shape (len(sample_index), n_shift)
+        Those points' spike-free spectra and fitted baselines, normalised (counts/(mW·s)).
     """
 
     n_points: int
@@ -103,6 +112,21 @@ class MapQcResult:
     shift_cm1: np.ndarray
     mean_spectrum: np.ndarray
     baseline_converged: bool
+    percentile_q: np.ndarray
+    percentile_spectra: np.ndarray
+    sample_index: np.ndarray
+    sample_spectra: np.ndarray
+    sample_baselines: np.ndarray
+
+
+PERCENTILE_SAMPLE = 1000  # points; percentiles of a sample this size move by < 1 % of a band
+SAMPLE_BASELINES = 12  # points whose baselines are kept for display
+PERCENTILES = (5.0, 25.0, 50.0, 75.0, 95.0)
+
+
+def _evenly_spaced(n_points: int, count: int) -> np.ndarray:
+    """Indices of ``count`` points spread evenly over ``n_points`` (all of them if fewer)."""
+    return np.unique(np.linspace(0, n_points - 1, min(count, n_points)).round().astype(int))
 
 
 def _ascending(shift_cm1, counts):
@@ -268,9 +292,14 @@ def analyse_qc_map(
     baseline, diagnostics = asls_baseline_map(
         axis, processed, lam=lam_for_spacing(axis, baseline_stiffness_cm4), p=baseline_p
     )
+    sample_index = _evenly_spaced(processed.shape[0], SAMPLE_BASELINES)
+    sample_spectra = processed[sample_index] * scale
+    sample_baselines = baseline[sample_index] * scale
     processed -= baseline  # in place: the cleaned copy is ours
     processed *= scale
     del baseline
+    percentile_spectra = np.percentile(
+        processed[_evenly_spaced(processed.shape[0], PERCENTILE_SAMPLE)], PERCENTILES, axis=0)
     mean_spectrum = processed.mean(axis=0)
     mean_band = fit_band(
         axis,
@@ -306,4 +335,9 @@ def analyse_qc_map(
         shift_cm1=axis,
         mean_spectrum=mean_spectrum,
         baseline_converged=bool(diagnostics["converged"].all()),
+        percentile_q=np.array(PERCENTILES),
+        percentile_spectra=percentile_spectra,
+        sample_index=sample_index,
+        sample_spectra=sample_spectra,
+        sample_baselines=sample_baselines,
     )

@@ -307,6 +307,10 @@ def read_map_wide(data: str | bytes) -> RamanMap:
         or non-monotonic shifts, rows of a different length, non-numeric or non-finite
         cells, a position given twice.
     """
+    if isinstance(data, (bytes, bytearray, memoryview)):
+        fast = _read_map_wide_columnar(bytes(data))
+        if fast is not None:
+            return fast
     lines = _content_lines(decode_text(data))
     header_text, header_line = lines.texts[0], lines.numbers[0]
     delimiter = _detect_delimiter(header_text)
@@ -344,6 +348,80 @@ def read_map_wide(data: str | bytes) -> RamanMap:
     return RamanMap(
         block[:, 0], block[:, 1], shift[order], block[:, 2:][:, order], None, metadata
     )
+
+
+def _header_of(raw: bytes) -> tuple[int, str] | None:
+    """0-based index and text of the first line that is neither blank nor a comment."""
+    start = 0
+    for index in range(1000):
+        end = raw.find(b"\n", start)
+        line = raw[start:] if end < 0 else raw[start:end]
+        text = line.decode("utf-8-sig" if index == 0 else "utf-8", errors="replace").strip()
+        if text and not text.startswith(_COMMENT_PREFIXES):
+            return index, text
+        if end < 0:
+            return None
+        start = end + 1
+    return None
+
+
+def _read_map_wide_columnar(raw: bytes) -> RamanMap | None:
+    """The common wide map (one header, comma/tab/semicolon, decimal points) read by columns.
+
+    Apache Arrow's multithreaded CSV reader parses straight into float32 intensities (7
+    significant digits, finer than any detector's counts) without building Python rows,
+    about ten times faster than :func:`numpy.loadtxt` on a 50 MB map and with a fraction of
+    its memory.  Anything unusual (decimal commas, blanks as separator, comments after the
+    header, a bad cell) returns ``None`` so the line-by-line reader names the line at fault.
+    """
+    try:
+        import pyarrow as arrow  # optional speed-up; the numpy path always works
+        from pyarrow import csv as arrow_csv
+    except ImportError:
+        return None
+    found = _header_of(raw)
+    if found is None or raw.startswith((b"\xff\xfe", b"\xfe\xff")):
+        return None
+    header_index, header_text = found
+    delimiter = _detect_delimiter(header_text)
+    if delimiter is None or (delimiter != "," and "," in header_text):
+        return None
+    cells = _split(header_text, delimiter)
+    if len(cells) < 4 or not all(_is_number(c) for c in cells[2:]):
+        return None
+    names = [f"c{i}" for i in range(len(cells))]
+    types = {name: arrow.float64() if i < 2 else arrow.float32() for i, name in enumerate(names)}
+    try:
+        table = arrow_csv.read_csv(
+            arrow.py_buffer(raw),
+            read_options=arrow_csv.ReadOptions(skip_rows=header_index + 1, column_names=names,
+                                               block_size=1 << 24),
+            parse_options=arrow_csv.ParseOptions(delimiter=delimiter),
+            convert_options=arrow_csv.ConvertOptions(column_types=types, strings_can_be_null=False,
+                                                     quoted_strings_can_be_null=False))
+    except (arrow.ArrowInvalid, arrow.ArrowNotImplementedError, ValueError):
+        return None
+    if table.num_rows == 0 or any(column.null_count for column in table.columns):
+        return None
+    shift = np.array([float(c) for c in cells[2:]])
+    if not np.all(np.isfinite(shift)) or np.any(np.diff(shift) == 0) or not (
+            np.all(np.diff(shift) > 0) or np.all(np.diff(shift) < 0)):
+        return None
+    order = np.arange(shift.size) if shift[1] > shift[0] else np.arange(shift.size)[::-1]
+    intensity = np.empty((table.num_rows, shift.size), dtype=np.float32)
+    for column, source in enumerate(order):
+        intensity[:, column] = table.column(2 + int(source)).to_numpy()
+    x_um, y_um = table.column(0).to_numpy(), table.column(1).to_numpy()
+    del table
+    if not (np.isfinite(intensity).all() and np.isfinite(x_um).all() and np.isfinite(y_um).all()):
+        return None
+    positions = np.column_stack([x_um, y_um])
+    if np.unique(positions, axis=0).shape[0] != positions.shape[0]:
+        return None
+    metadata = {"layout": "wide", "header_lines": 1, "comment_lines": header_index,
+                "delimiter": _DELIMITER_NAMES[delimiter], "decimal_comma": False,
+                "intensity_unit": "counts", "reader": "columnar (Apache Arrow), float32"}
+    return RamanMap(x_um, y_um, shift[order], intensity, None, metadata)
 
 
 def read_map_long(data: str | bytes) -> RamanMap:
@@ -467,6 +545,10 @@ def looks_like_map(text: str, filename: str | None = None) -> bool:
 
 def read_spectrum_or_map(data: str | bytes, filename: str | None = None) -> Spectrum | RamanMap:
     """Read a Raman file that may be one spectrum or a map (:func:`looks_like_map`)."""
+    if isinstance(data, (bytes, bytearray, memoryview)):
+        fast = _read_map_wide_columnar(bytes(data))
+        if fast is not None:
+            return fast
     text = decode_text(data)
     if looks_like_map(text, filename):
         return read_map(text)

@@ -17,8 +17,8 @@ from ._validation import as_finite_1d
 from .errors import AnalysisInputError
 
 
-def _frozen_copy(array: np.ndarray) -> np.ndarray:
-    copy = np.array(array, dtype=float, copy=True)
+def _frozen_copy(array: np.ndarray, dtype=float) -> np.ndarray:
+    copy = np.array(array, dtype=dtype, copy=True)
     copy.setflags(write=False)
     return copy
 
@@ -143,7 +143,10 @@ class RamanMap:
             )
         shift = as_finite_1d(self.shift_cm1, field="shift_cm1", min_points=2)
         _require_ascending(shift, field="shift_cm1")
-        intensity = np.asarray(self.intensity, dtype=float)
+        # float32 counts (7 significant digits, a reader's choice for big maps) stay float32.
+        intensity = np.asarray(self.intensity)
+        if intensity.dtype != np.float32:
+            intensity = intensity.astype(float, copy=False)
         if intensity.shape != (x.size, shift.size):
             raise AnalysisInputError(
                 f"intensity must have shape (n_points, n_shift) = ({x.size}, {shift.size}), "
@@ -167,7 +170,7 @@ class RamanMap:
         object.__setattr__(self, "x_um", _frozen_copy(x))
         object.__setattr__(self, "y_um", _frozen_copy(y))
         object.__setattr__(self, "shift_cm1", _frozen_copy(shift))
-        object.__setattr__(self, "intensity", _frozen_copy(intensity))
+        object.__setattr__(self, "intensity", _frozen_copy(intensity, intensity.dtype))
         object.__setattr__(self, "grid_shape", inferred)
         object.__setattr__(self, "metadata", dict(self.metadata))
 

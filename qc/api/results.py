@@ -7,13 +7,14 @@ document those shapes, with units, for the OpenAPI schema.
 
 from __future__ import annotations
 
+from django.urls import reverse
 from rest_framework import serializers
 
 from inventory.api.results import FlagItem, flag_items
 from inventory.api.units import DocumentedFields
 from inventory.models import Flag
 from inventory.uncertainty_format import format_with_uncertainty
-from qc.models import QcMeasurement
+from qc.models import QcImport, QcMeasurement
 from qc.services.colloid import UvVisImport
 from qc.services.raman import FLAG_CATEGORY
 
@@ -178,3 +179,32 @@ class UvVisResult(DocumentedFields, serializers.Serializer):
                                      "breached: limit, value, limit value, sentence, flag.")
     flags_raised = serializers.ListField(child=serializers.CharField(),
                                          help_text="Codes of the flags raised.")
+
+
+class QcImportOut(DocumentedFields, serializers.Serializer):
+    """Where a background QC import stands; ``measurement`` once it is judged."""
+
+    id = serializers.UUIDField()
+    state = serializers.ChoiceField(choices=QcImport.State.choices)
+    state_label = serializers.CharField(help_text="The state in words.")
+    progress_percent = serializers.IntegerField(min_value=0, max_value=100)
+    file = serializers.CharField()
+    substrate = serializers.CharField(help_text="Code of the substrate measured.")
+    error = serializers.JSONField(allow_null=True, help_text="Why it failed, field by field.")
+    measurement = serializers.CharField(allow_null=True, help_text="Code of the judged "
+                                        "measurement, once there is one.")
+    progress_url = serializers.URLField(help_text="This answer's own address, to poll.")
+    page_url = serializers.URLField(help_text="The progress page for people.")
+
+
+def qc_import_progress(pending: QcImport, request) -> dict:
+    """The progress of a background QC import, as the API and the progress page show it."""
+    return {
+        "id": pending.pk, "state": pending.state, "state_label": pending.get_state_display(),
+        "progress_percent": pending.progress_percent, "file": pending.upload_filename,
+        "substrate": pending.substrate.code, "error": pending.error,
+        "measurement": pending.measurement.code if pending.measurement_id else None,
+        "progress_url": request.build_absolute_uri(
+            reverse("api:qc-import", args=[pending.pk])),
+        "page_url": request.build_absolute_uri(reverse("qc_import_page", args=[pending.pk])),
+    }

@@ -62,7 +62,7 @@ class UvVisImport(_FileImport):
 
 
 class QcImport(_Acquisition):
-    service = staticmethod(services.qc_measurement_import)
+    service = staticmethod(services.qc_measurement_submit)
     substrate = RecordRef(Substrate, help_text="Code of the substrate measured.")
     reference = RecordRef(ReferenceMeasurement, required=False, allow_null=True,
                           help_text="Code of the reference measurement, for the enhancement "

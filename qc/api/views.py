@@ -6,14 +6,24 @@ is what the import computed, the same object the import commands print with ``--
 
 from __future__ import annotations
 
+from drf_spectacular.utils import extend_schema
 from rest_framework import status
+from rest_framework.exceptions import NotFound
 from rest_framework.parsers import MultiPartParser
 from rest_framework.response import Response
+from rest_framework.views import APIView
 
-from inventory.api.base import CorrectionsMixin, RecordViewSet, SettingViewSet, filterset
+from inventory.api.base import (
+    CorrectionsMixin,
+    RecordViewSet,
+    RoleMixin,
+    SettingViewSet,
+    filterset,
+)
 from inventory.api.serializers import read_serializer
 from qc.models import (
     ColloidLimitSet,
+    QcImport,
     QcLimitSet,
     QcMeasurement,
     ReferenceAnalyte,
@@ -22,7 +32,14 @@ from qc.models import (
 )
 
 from . import serializers as s
-from .results import QcResult, UvVisResult, qc_measurement_summary, uvvis_import_summary
+from .results import (
+    QcImportOut,
+    QcResult,
+    UvVisResult,
+    qc_import_progress,
+    qc_measurement_summary,
+    uvvis_import_summary,
+)
 
 UvVisRecordOut = read_serializer(UvVisRecord)
 ReferenceMeasurementOut = read_serializer(ReferenceMeasurement)
@@ -107,8 +124,36 @@ class QcMeasurementViewSet(UploadViewSet):
         return queryset.defer("point_values", "ef_inputs") if self.action == "list" \
             else queryset
 
+    @classmethod
+    def create_response_schema(cls):
+        return {201: cls.result_serializer, 200: cls.result_serializer, 202: QcImportOut}
+
     def summary(self, result):
         return qc_measurement_summary(result), True
+
+    def create_record(self, request):
+        """A small file is judged at once (201); a big one is queued: 202 and where to watch."""
+        serializer = self.create_serializer(data=request.data,
+                                            context=self.get_serializer_context())
+        serializer.is_valid(raise_exception=True)
+        result = serializer.perform(actor=request.user)
+        if isinstance(result, QcImport):
+            body = QcImportOut(qc_import_progress(result, request)).data
+            return Response(body, status=status.HTTP_202_ACCEPTED,
+                            headers={"Location": body["progress_url"]})
+        return Response(self.result_serializer(qc_measurement_summary(result)).data,
+                        status=status.HTTP_201_CREATED)
+
+
+class QcImportView(RoleMixin, APIView):
+    """Progress of a QC import analysed in the background (parsing, analysing, judging)."""
+
+    @extend_schema(responses={200: QcImportOut})
+    def get(self, request, pk):
+        pending = QcImport.objects.select_related("measurement").filter(pk=pk).first()
+        if pending is None:
+            raise NotFound(f"No QC import has the ID '{pk}'.")
+        return Response(QcImportOut(qc_import_progress(pending, request)).data)
 
 
 class QcLimitSetViewSet(SettingViewSet):

@@ -1,4 +1,5 @@
 """QC models, split by topic (Raman reference-analyte QC; colloid UV-vis); import from here."""
 
 from .colloid import *  # noqa: F401,F403
+from .imports import *  # noqa: F401,F403
 from .raman import *  # noqa: F401,F403

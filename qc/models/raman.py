@@ -84,6 +84,11 @@ class _Acquisition(models.Model):
                                                               editable=False)
     snr = models.FloatField(editable=False)
     spikes_removed = models.PositiveIntegerField(default=0, editable=False)
+    # The arrays the pages draw (spectrum, band fit; for a map also the percentile spectra,
+    # heat-map grid and a sample of baselines), written once at import as a compressed .npz
+    # (qc.services.raman_results) with its SHA-256; empty for records made before it existed.
+    results_file = models.FileField(upload_to="qc/results/", blank=True, editable=False)
+    results_sha256 = models.CharField(max_length=64, blank=True, editable=False)
 
     class Meta:
         abstract = True
@@ -219,6 +224,8 @@ class QcMeasurement(_Acquisition, CodedRecord):
     rsd_percent = models.FloatField(null=True, blank=True, editable=False)
     fraction_within_20_percent = models.FloatField(null=True, blank=True, editable=False)
     point_values = models.JSONField(null=True, blank=True, editable=False)
+    # Whether point_values holds a full-grid heat-map: a column, so lists need not decode it.
+    has_heatmap = models.BooleanField(default=False, editable=False)
     enhancement_factor = models.FloatField(null=True, blank=True, editable=False)
     enhancement_factor_u = models.FloatField(null=True, blank=True, editable=False)
     log10_enhancement_factor = models.FloatField(null=True, blank=True, editable=False)

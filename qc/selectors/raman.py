@@ -6,8 +6,12 @@ Charts and reproducibility figures are computed by ``qc.analysis.control_charts`
 
 from __future__ import annotations
 
+import hashlib
+import io
 from dataclasses import dataclass
 from datetime import date
+
+import numpy as np
 
 from inventory.lineage import record_get_ancestors, record_get_descendants
 from inventory.models import Dataset, Flag, NanoparticleBatch, Substrate
@@ -19,7 +23,7 @@ from ..models.raman import QcMeasurement
 __all__ = [
     "ControlChartSeries", "ReviewNotice", "dataset_get_review_notices",
     "datasets_needing_review", "qc_batch_reproducibility", "qc_control_chart",
-    "qc_measurement_get_latest",
+    "measurement_get_stored_results", "qc_measurement_get_latest",
 ]
 
 CHART_METRICS = {
@@ -77,6 +81,23 @@ def qc_control_chart(*, product_kind: str, metric: str, analyte=None,
         product_kind=product_kind, metric=metric, label=CHART_METRICS[metric],
         codes=tuple(r[0] for r in rows), measured_on=tuple(r[1] for r in rows),
         substrate_codes=tuple(r[2] for r in rows), chart=chart)
+
+
+def measurement_get_stored_results(measurement) -> dict[str, np.ndarray] | None:
+    """The arrays stored at import (``qc.services.raman_results``), or None if there are none.
+
+    The file is checked against its recorded SHA-256; a mismatch raises ``ValueError`` rather
+    than drawing something other than what the import computed.
+    """
+    if not measurement.results_sha256 or not measurement.results_file:
+        return None
+    with measurement.results_file.open("rb") as handle:
+        content = handle.read()
+    if hashlib.sha256(content).hexdigest() != measurement.results_sha256:
+        raise ValueError(f"The stored results of {measurement.code} do not match their "
+                         "recorded SHA-256.")
+    with np.load(io.BytesIO(content), allow_pickle=False) as archive:
+        return {name: archive[name] for name in archive.files}
 
 
 def _latest_maps(substrate_ids) -> list[QcMeasurement]:

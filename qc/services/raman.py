@@ -33,6 +33,7 @@ from inventory.services.toolkit import transition as _transition
 from inventory.signatures import SignatureIntent
 from qc.analysis.spectrum import RamanMap
 
+from ..models.imports import QcImport
 from ..models.raman import QcMeasurement, ReferenceAnalyte, ReferenceMeasurement
 from .enhancement import (
     FILM_HEIGHT_REL_U_DEFAULT,
@@ -41,7 +42,8 @@ from .enhancement import (
     substrate_enhancement,
     surface_area_for,
 )
-from .raman_analysis import FILE_FIELD, analyse, read_upload
+from .raman_analysis import FILE_FIELD, analyse, read_upload, read_upload_checks
+from .raman_results import results_fields
 
 # The definitions live in raman_limits; named here too, so the Raman QC services stay one API.
 from .raman_limits import limit_set_for, qc_judge, qc_limit_set_define, reference_analyte_define
@@ -210,6 +212,7 @@ def reference_measurement_import(*, actor: User | None,
     reference = ReferenceMeasurement(
         analyte=analyte, **_acquisition_fields(request), band_center_cm1=band_cm1,
         band_window_cm1=analyte.qc_band_window_cm1, **band.band_fields(),
+        **results_fields(band.arrays, filename=request.filename),
         concentration_mol_L=request.concentration_mol_L,
         effective_height_um=request.effective_height_um,
         effective_area_um2=request.effective_area_um2,
@@ -251,39 +254,55 @@ def _check_reference(request: QcImportRequest, analyte: ReferenceAnalyte) -> Non
                       "laser_mismatch")
 
 
-@transaction.atomic
-def qc_measurement_import(*, actor: User | None, request: QcImportRequest | None = None,
-                          **parameters) -> QcMeasurement:
-    """Import a reference-analyte spectrum or map measured on a substrate and judge it.
+@dataclass(frozen=True)
+class CheckedQcImport:
+    """What the checks of a QC import found: the records it will be judged with."""
 
-    Takes a ``QcImportRequest`` or its fields as keyword arguments.  The file is read and
-    analysed by ``qc.analysis`` (``raman_analysis``); with a ``reference`` the substrate
-    enhancement factor of Le Ru et al. (2007) is worked out (``enhancement``) with the
-    analyte's monolayer density (or ``surface_density_per_nm2``) and the reference's
-    scattering volume.  The figures are judged against the limit set for the substrate's
-    stage and analyte.  A failure raises an open ``qc`` flag on the substrate and puts a
-    released substrate back in quarantine.
+    substrate: Substrate
+    analyte: ReferenceAnalyte
+    limits: object  # QcLimitSet
 
-    The EF's surface-area factor is derived from the substrate's deposition unless
-    ``surface_area_factor`` is entered (with ``surface_area_source``) or
-    ``surface_area_assumed_one`` is chosen (``enhancement.surface_area_for``); the limit
-    set's ``intensity_measure`` says whether band heights or areas are used, and both the
-    origin and the measure are stored with the EF.
-    """
-    request = request or QcImportRequest(**parameters)
+
+def qc_import_check(*, actor: User | None, request: QcImportRequest) -> CheckedQcImport:
+    """Every check that needs no file: role, lot, dates, settings, reference, limits."""
     require_role(actor, MAKER, action="Importing a QC measurement")
     substrate = Substrate.objects.get(pk=request.substrate.pk)
     analyte = _check_acquisition(request)
     _check_substrates_usable([substrate], role="a QC substrate", on_date=request.measured_on,
                              field="substrate")
     _check_reference(request, analyte)
-    limits = limit_set_for(substrate, analyte)
+    return CheckedQcImport(substrate, analyte, limit_set_for(substrate, analyte))
+
+
+def qc_import_analyse(request: QcImportRequest, checked: CheckedQcImport, *,
+                      progress=None) -> tuple[bool, object]:
+    """Read and analyse the file (no writes): (whether it is a map, the measured band).
+
+    ``progress(state)`` is told "parsing" and "analysing" as the work moves on.
+    """
+    if progress:
+        progress("parsing")
     data = read_upload(request.content, request.filename)
-    _refuse_reimport(QcMeasurement.objects.filter(substrate=substrate), request.content)
-    band = analyse(data, band_center_cm1=analyte.qc_band_cm1,
-                   band_window_cm1=analyte.qc_band_window_cm1, power_mW=request.power_mW,
-                   integration_s=request.integration_s, accumulations=request.accumulations,
-                   measure=limits.intensity_measure)
+    if progress:
+        progress("analysing")
+    band = analyse(data, band_center_cm1=checked.analyte.qc_band_cm1,
+                   band_window_cm1=checked.analyte.qc_band_window_cm1,
+                   power_mW=request.power_mW, integration_s=request.integration_s,
+                   accumulations=request.accumulations,
+                   measure=checked.limits.intensity_measure)
+    return isinstance(data, RamanMap), band
+
+
+def refuse_qc_reimport(substrate: Substrate, content: bytes) -> None:
+    """The same file twice on one substrate would count one measurement twice."""
+    _refuse_reimport(QcMeasurement.objects.filter(substrate=substrate), content)
+
+
+def qc_import_record(*, actor: User | None, request: QcImportRequest,
+                     checked: CheckedQcImport, is_map: bool, band) -> QcMeasurement:
+    """Judge an analysed import and store it with its lineage, flag and hold (one transaction
+    with the caller's: call inside ``transaction.atomic``)."""
+    substrate, analyte, limits = checked.substrate, checked.analyte, checked.limits
     factor, ef_inputs, coverage = (None, None, None)
     if request.reference is not None:
         coverage = request.coverage(analyte, substrate)
@@ -299,7 +318,8 @@ def qc_measurement_import(*, actor: User | None, request: QcImportRequest | None
         substrate=substrate, analyte=analyte, reference=request.reference, limit_set=limits,
         product_kind=substrate.stage, **_acquisition_fields(request),
         band_center_cm1=analyte.qc_band_cm1, band_window_cm1=analyte.qc_band_window_cm1,
-        is_map=isinstance(data, RamanMap), **band.band_fields(), **band.map_fields(),
+        is_map=is_map, **band.band_fields(), **band.map_fields(),
+        **results_fields(band.arrays, filename=request.filename),
         **enhancement_fields(factor, ef_inputs, coverage.surface_area if coverage else None),
         intensity_measure=limits.intensity_measure, limits_used=limits.as_snapshot(),
         passed=not reasons, failure_reasons=reasons)
@@ -312,6 +332,37 @@ def qc_measurement_import(*, actor: User | None, request: QcImportRequest | None
         if reasons:
             _hold_failed(measurement, substrate, actor)
     return measurement
+
+
+@transaction.atomic
+def qc_measurement_import(*, actor: User | None, request: QcImportRequest | None = None,
+                          progress=None, **parameters) -> QcMeasurement:
+    """Import a reference-analyte spectrum or map measured on a substrate and judge it.
+
+    Takes a ``QcImportRequest`` or its fields as keyword arguments.  The file is read and
+    analysed by ``qc.analysis`` (``raman_analysis``); with a ``reference`` the substrate
+    enhancement factor of Le Ru et al. (2007) is worked out (``enhancement``) with the
+    analyte's monolayer density (or ``surface_density_per_nm2``) and the reference's
+    scattering volume.  The figures are judged against the limit set for the substrate's
+    stage and analyte.  A failure raises an open ``qc`` flag on the substrate and puts a
+    released substrate back in quarantine.  ``progress(state)`` hears "parsing",
+    "analysing" and "judging" (the commands draw a progress bar from it).
+
+    The EF's surface-area factor is derived from the substrate's deposition unless
+    ``surface_area_factor`` is entered (with ``surface_area_source``) or
+    ``surface_area_assumed_one`` is chosen (``enhancement.surface_area_for``); the limit
+    set's ``intensity_measure`` says whether band heights or areas are used, and both the
+    origin and the measure are stored with the EF.
+    """
+    request = request or QcImportRequest(**parameters)
+    checked = qc_import_check(actor=actor, request=request)
+    read_upload_checks(request)
+    refuse_qc_reimport(checked.substrate, request.content)
+    is_map, band = qc_import_analyse(request, checked, progress=progress)
+    if progress:
+        progress("judging")
+    return qc_import_record(actor=actor, request=request, checked=checked, is_map=is_map,
+                            band=band)
 
 
 # ---------------------------------------------------------------------------------------
@@ -328,6 +379,9 @@ def substrate_release_check(record) -> str | None:
     """
     if not isinstance(record, Substrate):
         return None
+    if QcImport.objects.filter(substrate=record, state__in=QcImport.PENDING).exists():
+        raise refusal("substrate", f"A QC file of {record.code} is still being analysed; "
+                                   "release it once that QC is judged.", "qc_pending")
     latest = QcMeasurement.objects.filter(substrate=record, product_kind=record.stage,
                                           voided_at__isnull=True).first()
     if latest is None:

@@ -8,7 +8,7 @@ parameter, or by ``raw_file`` with the 1-based line) and names the results as th
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 
@@ -39,10 +39,17 @@ def as_validation_error(error: AnalysisInputError):
     return refusal(FILE_FIELD, f"{where}{error.message}", "bad_file")
 
 
+def read_upload_checks(request) -> None:
+    """The checks of an upload that need no parsing: size, kind of file, not empty."""
+    check_upload(request.content, field=FILE_FIELD, filename=request.filename)
+    if not request.content or request.content.isspace():
+        raise refusal(FILE_FIELD, "The file is empty.", "empty_file")
+
+
 def read_upload(content: bytes, filename: str) -> Spectrum | RamanMap:
     """The spectrum or map in an upload, refused with the line at fault when unreadable."""
     check_upload(content, field=FILE_FIELD, filename=filename)
-    if not content or not content.strip():
+    if not content or content.isspace():
         raise refusal(FILE_FIELD, "The file is empty.", "empty_file")
     try:
         data = read_spectrum_or_map(content, filename)
@@ -80,6 +87,7 @@ class MeasuredBand:
     map_ny: int | None = None
     map_step_um: float | None = None
     band_limit_note: str = ""
+    arrays: dict = field(default_factory=dict, repr=False)  # what the pages draw
 
     def intensity(self, measure: str) -> tuple[float, float]:
         """The band figure an EF uses ("height" or "area") and its relative uncertainty."""
@@ -110,7 +118,8 @@ class MeasuredBand:
                     rsd_percent=self.rsd_percent,
                     fraction_within_20_percent=self.fraction_within_20_percent,
                     point_values=self.point_values, map_nx=self.map_nx, map_ny=self.map_ny,
-                    map_step_um=self.map_step_um)
+                    map_step_um=self.map_step_um,
+                    has_heatmap=bool(self.point_values and "image" in self.point_values))
 
 
 def analyse(data: Spectrum | RamanMap, *, band_center_cm1: float, band_window_cm1: float,
@@ -129,7 +138,9 @@ def analyse(data: Spectrum | RamanMap, *, band_center_cm1: float, band_window_cm
             result = qc_pipeline.analyse_qc_map(data.shift_cm1, data.intensity, **settings)
             return _map_band(result, data, measure)
         result = qc_pipeline.analyse_qc_spectrum(data.x, data.y, **settings)
-        return _band(result.band, spikes_removed=result.spikes_removed)
+        arrays = dict(_band_arrays(result.band), shift_cm1=result.shift_cm1,
+                      spectrum=result.processed_intensity, baseline=result.baseline)
+        return _band(result.band, spikes_removed=result.spikes_removed, arrays=arrays)
     except AnalysisInputError as error:
         raise as_validation_error(error) from None
 
@@ -142,6 +153,10 @@ def _band(band, *, spikes_removed: int, **extra) -> MeasuredBand:
         normalised_area_counts_cm1_per_mW_s=float(band.area),
         normalised_area_u_counts_cm1_per_mW_s=float(band.area_se), snr=float(band.snr),
         spikes_removed=int(spikes_removed), band_limit_note=band.limit_note, **extra)
+
+
+def _band_arrays(band) -> dict:
+    return {"band_shift_cm1": band.window_shift_cm1, "band_fitted": band.fitted_curve}
 
 
 def _map_step_um(raman_map: RamanMap) -> float | None:
@@ -161,12 +176,20 @@ def _map_band(result, raman_map: RamanMap, measure: str) -> MeasuredBand:
                     "normalised_height_counts_per_mW_s": heights.tolist(),
                     "normalised_area_counts_cm1_per_mW_s": areas.tolist(),
                     "measure": measure}
+    arrays = dict(_band_arrays(result.mean_band), shift_cm1=result.shift_cm1,
+                  spectrum=result.mean_spectrum, percentile_q=result.percentile_q,
+                  percentile_spectra=result.percentile_spectra,
+                  sample_index=result.sample_index, sample_spectra=result.sample_spectra,
+                  sample_baselines=result.sample_baselines, height_per_point=heights,
+                  area_per_point=areas)
     nx = ny = step = None
     if raman_map.grid_shape is not None:
         ny, nx = (int(n) for n in raman_map.grid_shape)
         xs, ys = raman_map.grid_axes()
+        image = raman_map.image(shown)
         point_values["image"] = {"x_um": xs.tolist(), "y_um": ys.tolist(),
-                                 "rows": raman_map.image(shown).tolist()}
+                                 "rows": image.tolist()}
+        arrays.update(heatmap=image, heatmap_x_um=xs, heatmap_y_um=ys)
         step = _map_step_um(raman_map)
     return _band(
         result.mean_band, spikes_removed=result.spikes_removed,
@@ -174,4 +197,4 @@ def _map_band(result, raman_map: RamanMap, measure: str) -> MeasuredBand:
         median_height_counts_per_mW_s=float(result.median_height_counts_per_mW_s),
         rsd_percent=float(uniformity.rsd_percent),
         fraction_within_20_percent=float(uniformity.fraction_within_tolerance),
-        point_values=point_values, map_nx=nx, map_ny=ny, map_step_um=step)
+        point_values=point_values, map_nx=nx, map_ny=ny, map_step_um=step, arrays=arrays)

@@ -29,10 +29,40 @@ INSTALLED_APPS = [
     "drf_spectacular",
     "simple_history",
     "axes",
+    "django_tasks",
+    "django_tasks_db",
     "inventory",
     "qc",
     "insight",
 ]
+
+# Background work (big QC maps) on Django's task interface (the django-tasks backport of
+# Django 6's django.tasks).  Embedded default: tasks wait in this database and a worker
+# (`manage.py db_worker`, started by serve_demo) runs them.  A lab on several machines sets
+# SERSLEDGER_REDIS_URL: tasks then go to Redis (RQ) and `manage.py rqworker --job-class
+# django_tasks_rq.Job default` runs on any machine that shares the database and the media
+# storage (README.md, "A lab on several machines").
+SERSLEDGER_REDIS_URL = os.environ.get("SERSLEDGER_REDIS_URL", "")
+if SERSLEDGER_REDIS_URL:
+    INSTALLED_APPS += ["django_rq", "django_tasks_rq"]
+    RQ_QUEUES = {"default": {"URL": SERSLEDGER_REDIS_URL, "DEFAULT_TIMEOUT": 3600}}
+    TASKS = {"default": {"BACKEND": "django_tasks_rq.RQBackend", "QUEUES": ["default"]}}
+else:
+    TASKS = {"default": {"BACKEND": "django_tasks_db.DatabaseBackend"}}
+# Media (raw files, stored results) on S3-compatible object storage when a lab spans machines.
+if os.environ.get("SERSLEDGER_S3_BUCKET"):
+    STORAGES = {
+        "default": {"BACKEND": "storages.backends.s3.S3Storage", "OPTIONS": {
+            "bucket_name": os.environ["SERSLEDGER_S3_BUCKET"],
+            "endpoint_url": os.environ.get("SERSLEDGER_S3_ENDPOINT_URL") or None,
+            "file_overwrite": False}},
+        "staticfiles": {"BACKEND": "django.contrib.staticfiles.storage.StaticFilesStorage"},
+    }
+# Files up to this size are analysed inside the request; bigger ones by a worker.
+SERSLEDGER_INLINE_ANALYSIS_BYTES = int(os.environ.get("SERSLEDGER_INLINE_ANALYSIS_MB", "5")) \
+    * 1024 * 1024
+# A worker that has not reported for this long is taken for dead; another may take over.
+SERSLEDGER_ANALYSIS_LEASE_S = 900
 
 MIDDLEWARE = [
     # An id for each request, on every log line and in the X-Request-ID response header.
@@ -142,10 +172,15 @@ MEDIA_ROOT = DATA_DIR / "media"
 LOGIN_URL = "login"
 LOGIN_REDIRECT_URL = "home"
 
-# Uploaded instrument files are kept as uploaded; 50 MB covers a 100 x 100 map of 1,024 shifts.
+# Uploaded instrument files are kept as uploaded.  Files over 5 MB stream to a temporary file
+# on disk while they arrive (Django's TemporaryFileUploadHandler), never whole in memory; the
+# largest file accepted is SERSLEDGER_MAX_UPLOAD_MB (default 500 MB: a 200 x 200 map of 1,024
+# shifts written with decimals is about 200 MB).  Form fields other than files stay small.
 DATA_UPLOAD_MAX_MEMORY_SIZE = 5 * 1024 * 1024
 FILE_UPLOAD_MAX_MEMORY_SIZE = 5 * 1024 * 1024
-SERSLEDGER_MAX_UPLOAD_BYTES = 50 * 1024 * 1024
+FILE_UPLOAD_HANDLERS = ["django.core.files.uploadhandler.MemoryFileUploadHandler",
+                        "django.core.files.uploadhandler.TemporaryFileUploadHandler"]
+SERSLEDGER_MAX_UPLOAD_BYTES = int(os.environ.get("SERSLEDGER_MAX_UPLOAD_MB", "500")) * 1024 * 1024
 
 # Extra readiness reasons contributed by other apps, as dotted paths to callables
 # ``provider(substrate, ancestry) -> list[Reason]``.  Inventory never imports them directly.

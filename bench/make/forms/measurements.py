@@ -9,7 +9,7 @@ from django import forms
 from inventory import services
 from inventory.models import NanoparticleBatch, ReagentKind, Substrate
 from qc.models import ReferenceMeasurement
-from qc.services import qc_measurement_import, reference_measurement_import, uvvis_record_import
+from qc.services import qc_measurement_submit, reference_measurement_import, uvvis_record_import
 
 from .base import (
     CodeChoiceField,
@@ -137,7 +137,7 @@ class QcMeasurementForm(_RamanForm):
         data = self.raw()
         if data["surface_area_rel_u"] is None:  # only meaningful with an entered factor
             data["surface_area_rel_u"] = 0.0
-        return qc_measurement_import(actor=actor, **data)
+        return qc_measurement_submit(actor=actor, **data)
 
 
 class DatasetForm(MakeForm):

@@ -8,12 +8,16 @@ from pathlib import Path
 
 from django.core.management.base import BaseCommand, CommandError
 from django.utils import timezone
+from tqdm import tqdm
 
 from inventory.management.cli import refusals_in_words, user_for_command
 from inventory.models import ReagentLot, Substrate
 from qc.api.results import qc_measurement_summary
 from qc.models import ReferenceMeasurement
 from qc.services import qc_measurement_import
+from qc.services.background import PROGRESS_AT
+
+PROGRESS_BAR_BYTES = 1024 * 1024  # a progress bar (on stderr) for files bigger than this
 
 
 class Command(BaseCommand):
@@ -54,10 +58,18 @@ class Command(BaseCommand):
         path = Path(options["file"])
         if not path.is_file():
             raise CommandError(f"No such file: {path}")
-        with refusals_in_words():
+        content = path.read_bytes()
+        bar = tqdm(total=100, unit="%", desc=path.name, file=self.stderr,
+                   disable=options["json"] or len(content) < PROGRESS_BAR_BYTES)
+
+        def progress(state: str) -> None:
+            bar.set_postfix_str(state)
+            bar.update(PROGRESS_AT[state] - bar.n)
+
+        with refusals_in_words(), bar:
             measurement = qc_measurement_import(
                 actor=user_for_command(options["user"]), substrate=substrate, analyte_lot=lot,
-                filename=path.name, content=path.read_bytes(),
+                filename=path.name, content=content, progress=progress,
                 measured_on=options["measured_on"] or timezone.localdate(),
                 laser_nm=options["laser_nm"], power_mW=options["power_mw"],
                 integration_s=options["integration_s"], accumulations=options["accumulations"],
