@@ -408,9 +408,12 @@ def _read_map_wide_columnar(raw: bytes) -> RamanMap | None:
             np.all(np.diff(shift) > 0) or np.all(np.diff(shift) < 0)):
         return None
     order = np.arange(shift.size) if shift[1] > shift[0] else np.arange(shift.size)[::-1]
-    intensity = np.empty((table.num_rows, shift.size), dtype=np.float32)
-    for column, source in enumerate(order):
-        intensity[:, column] = table.column(2 + int(source)).to_numpy()
+    # Columns are filled whole (contiguous writes), then turned into one row per point.
+    by_shift = np.empty((shift.size, table.num_rows), dtype=np.float32)
+    for row, source in enumerate(order):
+        by_shift[row] = table.column(2 + int(source)).to_numpy()
+    intensity = np.ascontiguousarray(by_shift.T)
+    del by_shift
     x_um, y_um = table.column(0).to_numpy(), table.column(1).to_numpy()
     del table
     if not (np.isfinite(intensity).all() and np.isfinite(x_um).all() and np.isfinite(y_um).all()):
