@@ -120,7 +120,7 @@ def measure(sizes: list[int]) -> dict:
     django.setup()
     from django.core.management import call_command
     from django.test import Client
-    from rest_framework.authtoken.models import Token
+    from knox.models import AuthToken
     from rest_framework.test import APIClient
 
     from inventory.models import ReagentLot, Substrate
@@ -132,7 +132,7 @@ def measure(sizes: list[int]) -> dict:
 
     maker = get_user_model().objects.get(username="rin.okafor")
     api = APIClient()
-    api.credentials(HTTP_AUTHORIZATION=f"Token {Token.objects.get_or_create(user=maker)[0].key}")
+    api.credentials(HTTP_AUTHORIZATION=f"Token {AuthToken.objects.create(user=maker)[1]}")
     pages = Client()
     pages.force_login(maker)
     reference = ReferenceMeasurement.objects.order_by("id").first()
