@@ -10,7 +10,7 @@ class Migration(migrations.Migration):
 
     dependencies = [
         ('inventory', '0004_history_reason_text'),
-        ('qc', '0005_stored_results'),
+        ('qc', '0006_stored_results'),
         migrations.swappable_dependency(settings.AUTH_USER_MODEL),
     ]
 

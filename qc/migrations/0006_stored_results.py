@@ -14,7 +14,7 @@ def mark_heatmaps(apps, schema_editor):
 class Migration(migrations.Migration):
 
     dependencies = [
-        ('qc', '0004_history_reason_text'),
+        ('qc', '0005_fit_limits_uncertainty_surface_area'),
     ]
 
     operations = [
