@@ -84,6 +84,10 @@ def test_the_upload_page_shows_progress_for_a_big_map(page, sign_in, screenshot,
     page.get_by_label("Laser wavelength (nm)").fill("785")
     page.get_by_label("Laser power at the sample (mW)").fill("2.0")
     page.get_by_label("Integration time per accumulation (s)").fill("1.0")
+    # The test chain's run has no chronoamperogram: the factor is entered with its source.
+    page.get_by_label(re.compile("^Metal surface area ÷ projected area")).fill("1.5")
+    page.get_by_label(re.compile("^Where that factor comes from")).fill(
+        "electrochemical surface area (invented for the test)")
     page.get_by_role("button", name=re.compile("^Save")).press("Enter")
     page.wait_for_url(re.compile(r"/qc/imports/[0-9a-f-]+/"))
     verdict = page.locator("#verdict")

@@ -30,7 +30,7 @@ def _submit(lab, substrate, name=GOOD, content=None, capture=None):
         return qc_measurement_submit(
             actor=lab.chain.maker, substrate=substrate, analyte_lot=lab.lot, filename=name,
             content=content if content is not None else (RAMAN / name).read_bytes(),
-            measured_on=lab.chain.day(1), reference=lab.reference, **MAP_SETTINGS)
+            measured_on=lab.chain.day(1), reference=lab.reference, surface_area_assumed_one=True, **MAP_SETTINGS)
 
 
 def _worker():
@@ -54,7 +54,7 @@ def test_a_big_file_waits_for_a_worker_and_is_not_ready_until_judged(
     assert refused.value.error_dict["substrate"][0].code == "qc_pending"
     _worker()
     pending.refresh_from_db()
-    assert pending.state == QcImport.State.DONE and pending.progress_percent == 100
+    assert pending.state == QcImport.State.DONE and pending.progress_percent == 100, pending.error
     assert pending.measurement.substrate == substrate and pending.measurement.passed
     assert "qc_pending" not in _reasons(lab, substrate)
 
@@ -121,5 +121,5 @@ def test_a_small_file_is_still_judged_at_once(lab, settings):
     result = qc_measurement_submit(
         actor=lab.chain.maker, substrate=substrate, analyte_lot=lab.lot, filename=GOOD,
         content=(RAMAN / GOOD).read_bytes(), measured_on=lab.chain.day(1),
-        reference=lab.reference, **MAP_SETTINGS)
+        reference=lab.reference, surface_area_assumed_one=True, **MAP_SETTINGS)
     assert isinstance(result, QcMeasurement) and not QcImport.objects.exists()

@@ -39,7 +39,7 @@ def test_a_big_file_is_judged_by_an_rq_worker(chain, administrator, settings,
             actor=chain.maker, substrate=substrate, analyte_lot=lab.lot,
             filename="good_substrate_map.csv",
             content=(RAMAN / "good_substrate_map.csv").read_bytes(),
-            measured_on=chain.day(1), reference=lab.reference, **MAP_SETTINGS)
+            measured_on=chain.day(1), reference=lab.reference, surface_area_assumed_one=True, **MAP_SETTINGS)
     queue = django_rq.get_queue(queue_name, job_class=Job)
     assert queue.count == 1
     SimpleWorker([queue], connection=queue.connection, job_class=Job).work(burst=True)
