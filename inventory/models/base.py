@@ -51,6 +51,10 @@ class CodedRecord(StampedRecord):
     """
 
     CODE_PREFIX: ClassVar[str] = ""
+    # What ``record_amend`` may change, declared by each kind (one place per kind): plain
+    # values the maker typed.  Codes, states, expiry, owners, links to other records and
+    # computed figures are never listed; tests/integrity/test_amend_whitelist.py checks.
+    AMENDABLE_FIELDS: ClassVar[frozenset[str]] = frozenset({"notes"})
 
     code = models.CharField(max_length=24, unique=True, editable=False)
     notes = models.TextField(blank=True)

@@ -12,6 +12,8 @@ class TemplateAssembly(LifecycleRecord):
     """A sphere monolayer laid on a metal-coated base slide."""
 
     CODE_PREFIX = "TPL"
+    AMENDABLE_FIELDS = frozenset(("method", "coverage_percent", "suspension_volume_uL",
+                                  "made_on", "notes", "storage"))
 
     class Method(models.TextChoices):
         INTERFACE_TRANSFER = "interface_transfer", "Air–water interface transfer"
@@ -142,6 +144,7 @@ class Substrate(LifecycleRecord):
     """One usable piece: the unit that experiments consume."""
 
     CODE_PREFIX = "SUB"
+    AMENDABLE_FIELDS = frozenset(("piece_label", "area_cm2", "made_on", "notes", "storage"))
 
     class Stage(models.TextChoices):
         FILM = "film", "Structured film"
@@ -175,6 +178,7 @@ class LinkerLayer(CodedRecord):
     """A self-assembled thiol monolayer step on one or more substrates."""
 
     CODE_PREFIX = "LNK"
+    AMENDABLE_FIELDS = frozenset(("concentration_mM", "immersion_h", "made_on", "notes"))
 
     linker_lot = models.ForeignKey("inventory.ReagentLot", on_delete=models.PROTECT,
                                    related_name="linker_layers")
@@ -200,6 +204,8 @@ class NanoparticleBatch(LifecycleRecord):
     """A colloid made in the lab; its UV-vis records live in the qc app."""
 
     CODE_PREFIX = "NPB"
+    AMENDABLE_FIELDS = frozenset(("metal", "synthesis_method", "volume_mL",
+                                  "target_diameter_nm", "made_on", "notes", "storage"))
 
     class Method(models.TextChoices):
         CITRATE = "citrate", "Citrate reduction"
@@ -232,6 +238,7 @@ class ParticleAttachment(CodedRecord):
     """Particles from one colloid batch bound onto a linker-modified substrate."""
 
     CODE_PREFIX = "PAT"
+    AMENDABLE_FIELDS = frozenset(("immersion_min", "made_on", "notes"))
 
     substrate = models.ForeignKey("inventory.Substrate", on_delete=models.PROTECT,
                                   related_name="particle_attachments")

@@ -12,6 +12,7 @@ class StorageLocation(CodedRecord):
     """A fridge, desiccator, box or shelf."""
 
     CODE_PREFIX = "LOC"
+    AMENDABLE_FIELDS = frozenset(("name", "kind", "room", "notes"))
 
     class Kind(models.TextChoices):
         FRIDGE = "fridge", "Fridge (2–8 °C)"
@@ -51,6 +52,9 @@ class ReagentLot(LifecycleRecord):
     """
 
     CODE_PREFIX = "RGT"
+    AMENDABLE_FIELDS = frozenset(("name", "supplier", "supplier_lot", "received_on", "opened_on",
+                                  "prepared_on", "quantity", "quantity_unit", "concentration_mM",
+                                  "ghs_hazard_codes", "notes", "storage"))
 
     name = models.CharField(max_length=160)
     kind = models.CharField(max_length=24, choices=ReagentKind.choices, db_index=True)
@@ -98,6 +102,9 @@ class SphereLot(LifecycleRecord):
     """Template spheres as received: material, nominal size, size spread and solids content."""
 
     CODE_PREFIX = "SPH"
+    AMENDABLE_FIELDS = frozenset(("material", "nominal_diameter_nm", "size_cv_percent",
+                                  "solids_percent_w_v", "supplier", "supplier_lot",
+                                  "received_on", "opened_on", "volume_mL", "notes", "storage"))
 
     class Material(models.TextChoices):
         POLYSTYRENE = "polystyrene", "Polystyrene"

@@ -13,6 +13,7 @@ class Dataset(CodedRecord):
     """Data produced on one or more substrates, with its files' SHA-256 digests."""
 
     CODE_PREFIX = "DS"
+    AMENDABLE_FIELDS = frozenset(("title", "instrument", "operator", "acquired_on", "notes"))
 
     title = models.CharField(max_length=200)
     instrument = models.CharField(max_length=120, blank=True)

@@ -30,13 +30,6 @@ from ..signatures import REJECT_MEANINGS, RELEASE_MEANINGS, SignatureIntent, rec
 from ._common import User, _require_not_future, _save_changed
 from .lifecycle import _transition, check_not_self_release, check_not_voided, lock
 
-# Fields an amendment may change: plain values the maker typed, and where it is kept.
-# Codes, statuses, links to inputs (the lineage) and computed figures are never amended.
-AMENDABLE_RELATIONS = frozenset({"storage"})
-# Inputs of stored computations: changing one would leave the figures beside it stale, so
-# the correction is a new record (and the old one voided) instead.
-FEEDS_A_COMPUTATION = frozenset({"slide_area_cm2", "suspension_excess_factor",
-                                 "sphere_density_g_cm3"})
 
 
 @lru_cache(maxsize=8)
@@ -146,20 +139,13 @@ def record_void(*, actor: User | None, record: CodedRecord, reason: str) -> Code
 
 
 def amendable_fields(model: type[CodedRecord]) -> frozenset[str]:
-    """The fields of ``model`` that ``record_amend`` accepts.
+    """The fields of ``model`` that ``record_amend`` accepts: its ``AMENDABLE_FIELDS``.
 
-    A record whose numbers were computed from an instrument file (it has a file field) only
-    takes notes and storage: its figures and acquisition settings belong to the file.
+    Each kind declares them beside its fields; a flag, for one, takes only notes (its state
+    changes through ``flag_resolve``), and a record computed from an instrument file only
+    notes: its figures and acquisition settings belong to the file.
     """
-    fields = model._meta.concrete_fields
-    if any(isinstance(field, models.FileField) for field in fields):
-        return frozenset(f.name for f in fields if f.name in ("notes", *AMENDABLE_RELATIONS))
-    return frozenset(
-        field.name for field in fields
-        if field.editable and not field.primary_key and field.name not in ("code", "status")
-        and field.name not in FEEDS_A_COMPUTATION
-        and (not field.is_relation or field.name in AMENDABLE_RELATIONS)
-    )
+    return model.AMENDABLE_FIELDS
 
 
 # A lineage edge carries the date of the step that made it (LineageEdge.used_on).  A step
