@@ -33,6 +33,9 @@ class StampedRecord(models.Model):
         related_name="+",
     )
     version = models.PositiveIntegerField(default=1, editable=False)
+    # Finite, physical range of each number and date (inventory.models.ranges): checked by
+    # the services before saving and by the CHECK constraints each kind builds from it.
+    RANGES: ClassVar[dict] = {}
     # Every create and change of every concrete subclass, with who, when and the reason
     # (django-simple-history; read through inventory.selectors.record_get_history).
     # Reasons are sentences (a QC failure summary can be long): text, not varchar(100).

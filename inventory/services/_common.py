@@ -24,6 +24,7 @@ from ..models import (
     StampedRecord,
     Substrate,
 )
+from ..models.ranges import PastDate
 from ..shelf_life import refresh_expiry
 
 User = AbstractBaseUser
@@ -43,11 +44,63 @@ def _stamp_history(record: StampedRecord, *, actor: User | None, reason: str) ->
     record._change_reason = reason or None
 
 
+def _check_values(model: type[Model], values: dict) -> None:
+    """Refuse a number or date outside ``model.RANGES``, naming the field and the range.
+
+    NaN and infinities are outside every range.  A computed figure out of range is refused
+    too (its message points at the inputs), so nothing non-finite is ever saved.  Services
+    call this on their parameters before any computation, and ``_check_fields`` on every
+    record before it is saved.
+    """
+    today = _today()
+    ranges = getattr(model, "RANGES", {})
+    for name, value in values.items():
+        span = ranges.get(name)
+        if value is None or span is None:
+            continue
+        label = model._meta.get_field(name).verbose_name
+        if isinstance(span, PastDate):
+            if not span.holds(value, today):
+                code = "future_date" if value > today else "out_of_range"
+                raise refusal(name, f"The {label} {value.isoformat()} is outside the allowed "
+                                    f"range: {span.describe(today)}.", code)
+        elif not span.holds(value):
+            if span.computed:
+                raise refusal(name, f"The {label} computed from the inputs came out "
+                                    f"{float(value):g}, outside {span.describe()}; check the "
+                                    "numbers it is computed from.", "computed_out_of_range")
+            raise refusal(name, f"The {label} {float(value):g} is outside the allowed range: "
+                                f"{span.describe()}.", "out_of_range")
+
+
+def _check_ranges(record: Model) -> None:
+    """``_check_values`` for every ranged field of ``record``."""
+    model = type(record)
+    _check_values(model, {name: getattr(record, name) for name in getattr(model, "RANGES", {})})
+
+
+def _check_fields(record: Model) -> None:
+    """Every field's own cleaning (text to numbers and dates), then its range.
+
+    Before expiry is derived (a date in the year 9999 would overflow it) and before the
+    constraints are checked (a constraint checked with NaN on SQLite reads it as NULL).
+    """
+    record.clean_fields()
+    _check_ranges(record)
+
+
+def _validate(record: Model) -> None:
+    """``_check_fields``, then every constraint (``full_clean``): for rows without expiry."""
+    _check_fields(record)
+    record.full_clean()
+
+
 def _save_new(record: CodedRecord, *, actor: User | None, reason: str = "") -> CodedRecord:
-    """Give ``record`` its code, check every field and constraint, and insert it."""
+    """Give ``record`` its code, check every field, range and constraint, and insert it."""
     record.code = code_next(record.CODE_PREFIX)
     record.created_by = actor
     record.updated_by = actor
+    _check_fields(record)
     if isinstance(record, LifecycleRecord):
         refresh_expiry(record)
     record.full_clean()
@@ -60,6 +113,7 @@ def _save_changed(record: StampedRecord, *, actor: User | None, reason: str = ""
     """Save a change with a new version; the history row keeps who, when and ``reason``."""
     record.updated_by = actor
     record.version += 1
+    _check_fields(record)
     if isinstance(record, LifecycleRecord):
         refresh_expiry(record)
     record.full_clean()

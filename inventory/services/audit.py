@@ -26,8 +26,13 @@ from ..errors import refusal
 from ..lifecycle import check_transition
 from ..models import CodedRecord, LifecycleRecord, LineageEdge, Signature, Status
 from ..roles import MAKER, REVIEWER, require_role
-from ..signatures import REJECT_MEANINGS, RELEASE_MEANINGS, SignatureIntent, record_content_digest
-from ._common import User, _require_not_future, _save_changed
+from ..signatures import (
+    REJECT_MEANINGS,
+    RELEASE_MEANINGS,
+    SignatureIntent,
+    record_content_digest,
+)
+from ._common import User, _check_fields, _require_not_future, _save_changed
 from .lifecycle import _transition, check_not_self_release, check_not_voided, lock
 
 
@@ -217,6 +222,7 @@ def record_amend(*, actor: User | None, record: CodedRecord, changes: dict[str, 
     old_date = _step_date(locked)
     for name, value in changes.items():
         setattr(locked, name, value)
+    _check_fields(locked)  # typed text to dates and numbers, each inside its range
     new_date = _step_date(locked)
     if new_date is not None and new_date != old_date:
         _require_not_future(new_date, field=step_date_field(locked))

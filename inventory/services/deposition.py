@@ -28,7 +28,7 @@ from inventory.physics.errors import AnalysisInputError
 from ..errors import refusal
 from ..models import DepositionRun, DepositionTolerance, Flag
 from ..roles import ADMINISTRATOR, MAKER, require_role
-from ._common import User, _check_upload, _save_changed, _stamp_history
+from ._common import User, _check_upload, _save_changed, _stamp_history, _validate
 from .records import flag_raise, sha256_of
 
 #: Used only when the lab has recorded no DepositionTolerance: a built-in default of this
@@ -96,7 +96,7 @@ def deposition_tolerance_set(
     tolerance.is_example = is_example
     tolerance.rationale = rationale
     tolerance.updated_by = actor
-    tolerance.full_clean()
+    _validate(tolerance)
     _stamp_history(tolerance, actor=actor, reason=rationale)
     tolerance.save()
     return tolerance

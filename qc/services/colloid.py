@@ -31,12 +31,14 @@ from inventory.roles import ADMINISTRATOR, MAKER, require_role
 from inventory.services import flag_raise, sha256_of
 from inventory.services.toolkit import User
 from inventory.services.toolkit import check_upload as _check_upload
+from inventory.services.toolkit import check_values as _check_values
 from inventory.services.toolkit import files_removed_if_failed as _files_removed_if_failed
 from inventory.services.toolkit import link as _link
 from inventory.services.toolkit import require_not_future as _require_not_future
 from inventory.services.toolkit import save_changed as _save_changed
 from inventory.services.toolkit import save_new as _save_new
 from inventory.services.toolkit import stamp_history as _stamp_history
+from inventory.services.toolkit import validate as _validate
 from qc.analysis import gold_haiss, silver_calibration
 from qc.analysis.colloid_stability import (
     ColloidSnapshot,
@@ -114,7 +116,7 @@ def colloid_limit_set_set(
     limits.is_example = is_example
     limits.rationale = rationale
     limits.updated_by = actor
-    limits.full_clean()
+    _validate(limits)
     _stamp_history(limits, actor=actor, reason=rationale)
     limits.save()
     return limits
@@ -149,7 +151,7 @@ def silver_calibration_record(
     table = SilverCalibration(name=name, provenance=provenance,
                               rows=rows,
                               created_by=actor, updated_by=actor)
-    table.full_clean()
+    _validate(table)
     _stamp_history(table, actor=actor, reason=provenance)
     table.save()
     return table
@@ -190,6 +192,8 @@ def uvvis_record_import(
     if batch.metal not in ColloidMetal.values:
         raise refusal("batch", f"{batch.code} is a {batch.metal} colloid; UV-vis sizing covers "
                                "silver (Ag) and gold (Au) only.", "unsupported_metal")
+    _check_values(UvVisRecord, {"measured_on": measured_on, "dilution_factor": dilution_factor,
+                                "path_length_cm": path_length_cm})
     digest = sha256_of(content)
     existing = UvVisRecord.objects.filter(batch=batch, raw_sha256=digest).first()
     if existing is not None:

@@ -24,6 +24,7 @@ from inventory.roles import MAKER, require_role
 from inventory.services import flag_raise, record_release, record_transition, sha256_of
 from inventory.services.toolkit import User, lock
 from inventory.services.toolkit import check_substrates_usable as _check_substrates_usable
+from inventory.services.toolkit import check_values as _check_values
 from inventory.services.toolkit import files_removed_if_failed as _files_removed_if_failed
 from inventory.services.toolkit import link as _link
 from inventory.services.toolkit import require_kind as _require_kind
@@ -277,6 +278,8 @@ def qc_measurement_import(*, actor: User | None, request: QcImportRequest | None
     _check_substrates_usable([substrate], role="a QC substrate", on_date=request.measured_on,
                              field="substrate")
     _check_reference(request, analyte)
+    _check_values(ReferenceAnalyte, {
+        "surface_density_per_nm2": request.coverage(analyte).surface_density_per_nm2})
     limits = limit_set_for(substrate, analyte)
     data = read_upload(request.content, request.filename)
     _refuse_reimport(QcMeasurement.objects.filter(substrate=substrate), request.content)

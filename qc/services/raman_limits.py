@@ -16,6 +16,7 @@ from inventory.roles import ADMINISTRATOR, require_role
 from inventory.services.toolkit import User
 from inventory.services.toolkit import require_kind as _require_kind
 from inventory.services.toolkit import stamp_history as _stamp_history
+from inventory.services.toolkit import validate as _validate
 
 from ..models.raman import QcLimitSet, ReferenceAnalyte
 
@@ -44,7 +45,7 @@ def reference_analyte_define(
         qc_band_window_cm1=qc_band_window_cm1, reference_band_cm1=reference_band_cm1,
         surface_density_per_nm2=surface_density_per_nm2,
         surface_density_source=surface_density_source, created_by=actor, updated_by=actor)
-    analyte.full_clean()
+    _validate(analyte)
     _stamp_history(analyte, actor=actor, reason="")
     analyte.save()
     analyte.lots.set(lots)
@@ -77,7 +78,7 @@ def qc_limit_set_define(
     limits.updated_by = actor
     if limits.pk:
         limits.version += 1
-    limits.full_clean()
+    _validate(limits)
     _stamp_history(limits, actor=actor, reason=rationale)
     limits.save()
     return limits
