@@ -9,11 +9,13 @@ from pathlib import PurePosixPath
 
 from django.conf import settings
 from django.contrib.auth.models import AbstractBaseUser
+from django.core.exceptions import ValidationError
 from django.db.models import FileField, Model
 from django.utils import timezone
 
 from ..codes import code_next
 from ..errors import refusal
+from ..integrity import constraints_refusal
 from ..lifecycle import check_usable
 from ..models import (
     CodedRecord,
@@ -89,10 +91,18 @@ def _check_fields(record: Model) -> None:
     _check_ranges(record)
 
 
+def _full_clean(record: Model) -> None:
+    """``full_clean``, with a violated constraint reported under the field it guards."""
+    try:
+        record.full_clean()
+    except ValidationError as error:
+        raise constraints_refusal(record, error) from None
+
+
 def _validate(record: Model) -> None:
     """``_check_fields``, then every constraint (``full_clean``): for rows without expiry."""
     _check_fields(record)
-    record.full_clean()
+    _full_clean(record)
 
 
 def _save_new(record: CodedRecord, *, actor: User | None, reason: str = "") -> CodedRecord:
@@ -103,7 +113,7 @@ def _save_new(record: CodedRecord, *, actor: User | None, reason: str = "") -> C
     _check_fields(record)
     if isinstance(record, LifecycleRecord):
         refresh_expiry(record)
-    record.full_clean()
+    _full_clean(record)
     _stamp_history(record, actor=actor, reason=reason)
     record.save()
     return record
@@ -116,7 +126,7 @@ def _save_changed(record: StampedRecord, *, actor: User | None, reason: str = ""
     _check_fields(record)
     if isinstance(record, LifecycleRecord):
         refresh_expiry(record)
-    record.full_clean()
+    _full_clean(record)
     _stamp_history(record, actor=actor, reason=reason)
     record.save()
 
