@@ -47,8 +47,8 @@ class TemplateAssembly(LifecycleRecord):
 
     CODE_PREFIX = "TPL"
     RANGES = TEMPLATE_RANGES
-    AMENDABLE_FIELDS = frozenset(("method", "coverage_percent", "suspension_volume_uL",
-                                  "made_on", "notes", "storage"))
+    AMENDABLE_FIELDS = frozenset(("method", "slide_area_cm2", "coverage_percent",
+                                  "suspension_volume_uL", "made_on", "notes", "storage"))
 
     class Method(models.TextChoices):
         INTERFACE_TRANSFER = "interface_transfer", "Air–water interface transfer"
@@ -90,6 +90,8 @@ class DepositionRun(CodedRecord):
     """
 
     CODE_PREFIX = "DEP"
+    # The area is re-read into the figures from the kept file when amended.
+    AMENDABLE_FIELDS = frozenset(("electrode_area_cm2", "notes"))
     RANGES = DEPOSITION_RUN_RANGES
 
     class Mode(models.TextChoices):
@@ -132,6 +134,9 @@ class DepositionRun(CodedRecord):
     charge_end_s = models.FloatField(null=True, blank=True, editable=False)
     time_unit = models.CharField(max_length=8, blank=True, editable=False)
     current_unit = models.CharField(max_length=8, blank=True, editable=False)
+    # Why the figures above no longer follow from the current inputs (an input was amended
+    # and the file could not be re-read); empty while they are current.
+    stale_reason = models.TextField(blank=True, editable=False)
 
     class Meta:
         constraints = [

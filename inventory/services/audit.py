@@ -33,6 +33,7 @@ from ..signatures import (
     record_content_digest,
 )
 from ._common import User, _check_fields, _require_not_future, _save_changed
+from .derived import refresh_derived
 from .lifecycle import _transition, check_not_self_release, check_not_voided, lock
 
 
@@ -220,13 +221,17 @@ def record_amend(*, actor: User | None, record: CodedRecord, changes: dict[str, 
         raise refusal("reason", f"{locked.code} is {getattr(locked, 'status', 'signed')}; give "
                                 "a reason for the amendment.", "reason_required")
     old_date = _step_date(locked)
+    old_values = {name: getattr(locked, name) for name in changes}
     for name, value in changes.items():
         setattr(locked, name, value)
     _check_fields(locked)  # typed text to dates and numbers, each inside its range
+    changed = {name: (old, getattr(locked, name)) for name, old in old_values.items()
+               if getattr(locked, name) != old}
     new_date = _step_date(locked)
     if new_date is not None and new_date != old_date:
         _require_not_future(new_date, field=step_date_field(locked))
     _save_changed(locked, actor=actor, reason=reason.strip() or "amended")
     if old_date is not None and new_date is not None and new_date != old_date:
         _follow_step_date(locked, old_date, new_date)
+    refresh_derived(actor=actor, record=locked, changed=changed)
     return locked

@@ -216,6 +216,9 @@ class UvVisRecord(CodedRecord):
                                   on_delete=models.PROTECT, related_name="records")
     limits_note = models.CharField(max_length=300, blank=True)
     breaches = models.JSONField(default=list, blank=True)
+    # Why the figures no longer follow from the batch as it is now recorded (its metal was
+    # amended): they need the spectrum imported again.  Empty while current.
+    stale_reason = models.TextField(blank=True, editable=False)
 
     class Meta:
         ordering = ["batch", "measured_on", "id"]

@@ -576,3 +576,20 @@ def _flag_breaches(actor, batch: NanoparticleBatch, record: UvVisRecord,
         breach["flag_code"], breach["flag_raised"] = flag.code, True
         flags.append(flag)
     return flags
+
+
+def uvvis_mark_stale_on_amend(*, actor: User | None, record, changed: dict, why: str) -> None:
+    """``SERSLEDGER_AMEND_HOOKS``: a colloid's metal decides its UV-vis figures.
+
+    Gold is sized by Haiss et al. (2007), silver by a calibration table; the Mie fit's
+    optical constants and the limit set are the metal's too.  Working them out again needs
+    the spectrum re-imported, so an amended metal marks every live record of the batch stale
+    with the reason (readiness then reports it) rather than leaving old-metal numbers current.
+    """
+    if not isinstance(record, NanoparticleBatch) or "metal" not in changed:
+        return
+    for uvvis in UvVisRecord.objects.select_for_update().filter(batch=record,
+                                                                voided_at__isnull=True):
+        uvvis.stale_reason = (f"{why}; its sizes, concentration and limits were worked out "
+                              "for the old metal: import the spectrum again.")
+        _save_changed(uvvis, actor=actor, reason=f"figures stale: {why}")
