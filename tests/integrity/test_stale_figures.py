@@ -109,3 +109,26 @@ def test_a_colloid_metal_correction_marks_its_uvvis_stale_and_blocks_readiness(c
     assert record_get_history(record.code)[0].reason.startswith("figures stale:")
     reasons = substrate_check_readiness(substrate.code).reasons
     assert [r.record_code for r in reasons if r.code == "figures_stale"] == [record.code]
+
+
+def test_the_record_page_says_stale_instead_of_showing_the_figure_as_current(run_500nm, maker,
+                                                                            client):
+    run_500nm.chronoamperogram.storage.delete(run_500nm.chronoamperogram.name)
+    _amend(maker, run_500nm, electrode_area_cm2=2.0)
+    client.force_login(maker)
+    page = client.get(f"/r/{run_500nm.code}/")
+    assert page.status_code == 200
+    text = page.content.decode()
+    assert "stale: " + run_500nm.code in text
+    height = format(run_500nm.height_over_diameter, ".6g")
+    assert f"stale (last worked out as {height})" in text
+
+
+def test_a_non_finite_number_renders_as_invalid_value_not_an_error(chain):
+    """Values only a fault could hold (never saved: set on the loaded record)."""
+    from bench.page_queries import field_rows
+
+    template = chain.template()
+    template.slide_area_cm2, template.spheres_per_cm2 = float("inf"), float("nan")
+    shown = {row.label: row.value for row in field_rows(template)}
+    assert list(shown.values()).count("invalid value") == 2, shown
