@@ -153,17 +153,17 @@ def _require_not_future(day: date, *, field: str) -> None:
 
 
 def _check_substrates_usable(substrates: Sequence[Substrate], *, role: str, on_date: date,
-                             field: str = "substrates") -> None:
+                             field: str = "substrates", date_field: str = "made_on") -> None:
+    """Each substrate usable on ``on_date`` and made by then; ``date_field`` is the name of
+    the caller's date parameter (``measured_on``, ``acquired_on``), which a refusal names."""
     if not substrates:
         raise refusal(field, "Choose at least one substrate.", "required")
     for substrate in substrates:
         check_usable(substrate, role=role, on_date=on_date, field=field)
         if on_date < substrate.made_on:
-            raise refusal(
-                "made_on",
-                f"{substrate.code} was made on {substrate.made_on.isoformat()}, after this step.",
-                "date_order",
-            )
+            raise refusal(date_field, f"{substrate.code} was made on "
+                                      f"{substrate.made_on.isoformat()}, after this step.",
+                          "date_order")
 
 
 # Instrument exports the readers understand: text tables and JCAMP-DX (IUPAC).

@@ -43,7 +43,7 @@ REFERENCE_RANGES = {
 QC_LIMIT_RANGES = {
     "min_enhancement_factor": positive(1e15), "max_rsd_percent": positive(1000, "%"),
     "min_snr": positive(1e6), "band_position_tolerance_cm1": positive(500, "cm⁻¹"),
-    "valid_days": Span(1, 3650, "days"),
+    "valid_days": Span(1, 3650, "days"), "min_map_points": Span(2, 1e6),
 }
 QC_MEASUREMENT_RANGES = {
     **ACQUISITION_RANGES,
@@ -182,6 +182,8 @@ class QcLimitSet(StampedRecord):
     min_snr = models.FloatField(null=True, blank=True)
     band_position_tolerance_cm1 = models.FloatField()
     valid_days = models.PositiveIntegerField()
+    # A map of fewer points fails the uniformity limit: its RSD says nothing.
+    min_map_points = models.PositiveIntegerField(default=25)
     is_example = models.BooleanField(default=False)
     rationale = models.TextField(blank=True)
     intensity_measure = models.CharField(max_length=8, choices=IntensityMeasure.choices,
@@ -206,8 +208,8 @@ class QcLimitSet(StampedRecord):
             "analyte": self.analyte.name, "min_enhancement_factor": self.min_enhancement_factor,
             "max_rsd_percent": self.max_rsd_percent, "min_snr": self.min_snr,
             "band_position_tolerance_cm1": self.band_position_tolerance_cm1,
-            "valid_days": self.valid_days, "is_example": self.is_example,
-            "intensity_measure": self.intensity_measure,
+            "valid_days": self.valid_days, "min_map_points": self.min_map_points,
+            "is_example": self.is_example, "intensity_measure": self.intensity_measure,
         }
 
 

@@ -104,6 +104,8 @@ class QcImportRequest(_Acquisition):
     surface_area_source: str = ""
     surface_area_assumed_one: bool = False
     film_height_rel_u: float = FILM_HEIGHT_REL_U_DEFAULT
+    # One file that really measured several substrates (else a reused file is refused).
+    shared_measurement: bool = False
 
     def coverage(self, analyte: ReferenceAnalyte, substrate: Substrate) -> SurfaceCoverage:
         """Surface coverage for the EF: the analyte's monolayer density unless given, and
@@ -177,6 +179,18 @@ def _refuse_reimport(earlier, content: bytes) -> None:
         raise refusal(FILE_FIELD, f"This file (sha256 {digest[:12]}…) was already imported as "
                                   f"{same.code} on {same.measured_on.isoformat()}.",
                       "duplicate_file")
+
+
+def _refuse_reuse(substrate: Substrate, content: bytes) -> None:
+    """One map file passed off as QC of several substrates, unless said to be shared."""
+    digest = sha256_of(content)
+    other = (QcMeasurement.objects.filter(raw_sha256=digest, voided_at__isnull=True)
+             .exclude(substrate=substrate).select_related("substrate").first())
+    if other is not None:
+        raise refusal(FILE_FIELD, f"This file (sha256 {digest[:12]}…) is already the QC of "
+                                  f"{other.substrate.code} ({other.code}); a map measures one "
+                                  "substrate.  If it really is one measurement of several "
+                                  "substrates, say so with shared_measurement.", "file_reused")
 
 
 
@@ -276,13 +290,15 @@ def qc_measurement_import(*, actor: User | None, request: QcImportRequest | None
     substrate = Substrate.objects.get(pk=request.substrate.pk)
     analyte = _check_acquisition(request)
     _check_substrates_usable([substrate], role="a QC substrate", on_date=request.measured_on,
-                             field="substrate")
+                             field="substrate", date_field="measured_on")
     _check_reference(request, analyte)
     _check_values(ReferenceAnalyte, {
         "surface_density_per_nm2": request.coverage(analyte).surface_density_per_nm2})
     limits = limit_set_for(substrate, analyte)
     data = read_upload(request.content, request.filename)
     _refuse_reimport(QcMeasurement.objects.filter(substrate=substrate), request.content)
+    if not request.shared_measurement:
+        _refuse_reuse(substrate, request.content)
     band = analyse(data, band_center_cm1=analyte.qc_band_cm1,
                    band_window_cm1=analyte.qc_band_window_cm1, power_mW=request.power_mW,
                    integration_s=request.integration_s, accumulations=request.accumulations,
@@ -295,7 +311,8 @@ def qc_measurement_import(*, actor: User | None, request: QcImportRequest | None
     reasons = qc_judge(limits=limits, band_center_cm1=analyte.qc_band_cm1,
                        band_position_cm1=band.band_position_cm1, snr=band.snr,
                        rsd_percent=band.rsd_percent,
-                       enhancement_factor=factor.value if factor else None)
+                       enhancement_factor=factor.value if factor else None,
+                       n_points=band.n_points)
     if band.band_limit_note:
         reasons.append(f"The band fit is not a measurement: {band.band_limit_note}.")
     measurement = QcMeasurement(
