@@ -292,8 +292,9 @@ def qc_measurement_import(*, actor: User | None, request: QcImportRequest | None
     _check_substrates_usable([substrate], role="a QC substrate", on_date=request.measured_on,
                              field="substrate", date_field="measured_on")
     _check_reference(request, analyte)
-    _check_values(ReferenceAnalyte, {
-        "surface_density_per_nm2": request.coverage(analyte).surface_density_per_nm2})
+    _check_values(ReferenceAnalyte, {"surface_density_per_nm2": (
+        analyte.surface_density_per_nm2 if request.surface_density_per_nm2 is None
+        else request.surface_density_per_nm2)})
     limits = limit_set_for(substrate, analyte)
     data = read_upload(request.content, request.filename)
     _refuse_reimport(QcMeasurement.objects.filter(substrate=substrate), request.content)
