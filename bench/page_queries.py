@@ -7,6 +7,8 @@ so a page costs the same number of queries with ten records or a hundred thousan
 
 from __future__ import annotations
 
+import heapq
+import math
 from dataclasses import dataclass
 from datetime import date, timedelta
 
@@ -32,7 +34,7 @@ UNIT_SUFFIXES = (
 # Fields shown elsewhere on the page (files, lineage) or too bulky for a table.
 HIDDEN_FIELDS = {"id", "code", "version", "notes", "point_values", "ef_inputs", "limits_used",
                  "failure_reasons", "breaches", "created_by", "updated_by", "created_at",
-                 "updated_at"}
+                 "updated_at", "stale_reason"}
 
 
 VOID_FIELDS = {"voided_at", "voided_by", "void_reason"}
@@ -46,9 +48,23 @@ def unit_of(field_name: str) -> tuple[str, str]:
     return "", field_name
 
 
+INVALID_NUMBER = "invalid value"
+
+
 def _shown(value):
-    """Floats to six significant figures: stored results carry float noise, not precision."""
-    return format(value, ".6g") if isinstance(value, float) else value
+    """Floats to six significant figures: stored results carry float noise, not precision.
+
+    A number that is not finite (which the services and the database refuse, so only a
+    fault could put one there) shows as ``invalid value`` rather than breaking the page.
+    """
+    if not isinstance(value, float):
+        return value
+    return format(value, ".6g") if math.isfinite(value) else INVALID_NUMBER
+
+
+def _stale(field, record) -> bool:
+    """A computed figure of a record whose figures are marked stale (its inputs changed)."""
+    return bool(getattr(record, "stale_reason", "")) and not field.editable
 
 
 @dataclass(frozen=True)
@@ -81,6 +97,8 @@ def field_rows(record) -> list[FieldRow]:
             label = bare_name.replace("_", " ")
         value = getattr(record, f"get_{field.name}_display")() if field.choices \
             else _shown(getattr(record, field.name))
+        if _stale(field, record) and value not in (None, ""):
+            value, unit = f"stale (last worked out as {value} {unit}".rstrip() + ")", ""
         rows.append(FieldRow(label, value, unit))
     return rows
 

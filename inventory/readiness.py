@@ -57,7 +57,8 @@ class Readiness:
 
 # What the inventory reasons read of each ancestor; the check loads only these columns (a
 # provider that reads another field of an ancestor costs a query for it).
-ANCESTOR_FIELDS = ("status", "expires_on", "voided_at", "void_reason", "made_on")
+ANCESTOR_FIELDS = ("status", "expires_on", "voided_at", "void_reason", "made_on",
+                   "stale_reason")
 
 
 @dataclass
@@ -157,6 +158,14 @@ def _void_reasons(context: ReadinessContext) -> list[Reason]:
     return reasons
 
 
+def _stale_reasons(context: ReadinessContext) -> list[Reason]:
+    """Figures upstream that no longer follow from their amended inputs are not passed."""
+    return [Reason("figures_stale", f"Upstream {record._meta.verbose_name} {record.code} has "
+                                    f"stale figures: {record.stale_reason}", record.code)
+            for record in context.ancestry.records.values()
+            if getattr(record, "stale_reason", "")]
+
+
 def _flag_reasons(context: ReadinessContext) -> list[Reason]:
     codes = [context.substrate.code, *context.ancestry.depth]
     open_flags = Flag.objects.filter(target_code__in=codes, state=Flag.State.OPEN,
@@ -199,6 +208,7 @@ def substrate_check_readiness(code: str, *, on_date: date | None = None) -> Read
         *_linker_reasons(context, rules),
         *_colloid_reasons(context),
         *_upstream_reasons(context),
+        *_stale_reasons(context),
         *_flag_reasons(context),
     ]
     for provider in _providers():

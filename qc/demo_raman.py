@@ -81,5 +81,6 @@ def load_raman_demo(scenario: DemoScenario) -> None:
         qc_measurement_import(actor=maker, substrate=substrate, analyte_lot=lot, filename=name,
                               content=content, measured_on=day(1), reference=reference,
                               surface_density_rel_u=0.2, notes="Invented demo map.",
-                              **MAP_SETTINGS)
+                              # One invented file stands for several substrates' maps.
+                              shared_measurement=True, **MAP_SETTINGS)
         scenario.substrates[substrate_name] = Substrate.objects.get(pk=substrate.pk)

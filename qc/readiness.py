@@ -4,13 +4,16 @@ Plugged in through ``settings.SERSLEDGER_READINESS_PROVIDERS`` as
 ``"qc.readiness.qc_reasons"``.  QC is required for a product kind (substrate stage) when the
 lab has a limit set for it; the latest QC measurement at the substrate's current stage, made
 on or before the day checked, decides; a QC import still being analysed blocks
-readiness until it is judged.  Three queries at most.
+readiness until it is judged; a colloid upstream whose UV-vis figures are stale (its metal
+was amended) is reported too.  Four queries at most.
 """
 
 from __future__ import annotations
 
+from inventory.models import NanoparticleBatch
 from inventory.readiness import ReadinessContext, Reason
 
+from .models.colloid import UvVisRecord
 from .models.imports import QcImport
 from .models.raman import QcLimitSet, QcMeasurement
 
@@ -18,7 +21,12 @@ __all__ = ["qc_reasons"]
 
 
 def qc_reasons(context: ReadinessContext) -> list[Reason]:
-    """``qc_pending``, ``qc_missing``, ``qc_failed`` or ``qc_stale`` for ``context.substrate``, or nothing."""
+    """Stale colloid figures upstream, then ``qc_pending``, ``qc_missing``, ``qc_failed``
+    or ``qc_stale``."""
+    return [*_stale_colloid_reasons(context), *_qc_measurement_reasons(context)]
+
+
+def _qc_measurement_reasons(context: ReadinessContext) -> list[Reason]:
     substrate = context.substrate
     limits = {limit.analyte_id: limit
               for limit in QcLimitSet.objects.filter(product_kind=substrate.stage)}
@@ -52,3 +60,14 @@ def qc_reasons(context: ReadinessContext) -> list[Reason]:
         return [Reason("qc_stale", f"The latest QC {latest.code} is {age_days} days old; QC "
                                    f"stays valid for {valid_days} days.", latest.code)]
     return []
+
+
+def _stale_colloid_reasons(context: ReadinessContext) -> list[Reason]:
+    """A colloid upstream whose UV-vis figures went stale (its metal was amended)."""
+    batches = [batch.pk for batch in context.ancestry.of_kind(NanoparticleBatch)]
+    if not batches:
+        return []
+    stale = (UvVisRecord.objects.filter(batch_id__in=batches, voided_at__isnull=True)
+             .exclude(stale_reason="").only("code", "stale_reason").order_by("code"))
+    return [Reason("figures_stale", f"UV-vis record {record.code} has stale figures: "
+                                    f"{record.stale_reason}", record.code) for record in stale]

@@ -18,13 +18,18 @@ from django_filters.fields import IsoDateTimeField
 from drf_spectacular.utils import extend_schema
 from rest_framework import exceptions, mixins, permissions, status, viewsets
 from rest_framework.decorators import action
+from rest_framework.exceptions import ErrorDetail
+from rest_framework.exceptions import ValidationError as DRFValidationError
 from rest_framework.response import Response
 
 from inventory.roles import ADMINISTRATOR, MAKER, REVIEWER, VIEWER, require_role
 
-from .pagination import Keyset
+from .pagination import CURSOR_PARAM, PAGE_SIZE_PARAM, Keyset
 from .parsers import JsonParser
 from .serializers import Amend, RejectSign, ReleaseSign, Void, read_plan
+
+# Query parameters every list takes besides its own filters.
+LIST_PARAMETERS = ("search", "ordering", CURSOR_PARAM, PAGE_SIZE_PARAM, "format")
 
 
 class HasRole(permissions.BasePermission):
@@ -177,7 +182,18 @@ class RecordViewSet(RoleMixin, mixins.ListModelMixin, mixins.RetrieveModelMixin,
         # and building the filter set cost about a sixth of a detail request's CPU.
         if (self.lookup_url_kwarg or self.lookup_field) in self.kwargs:
             return queryset
+        if getattr(self, "action", None) == "list":
+            self.refuse_unknown_parameters()
         return super().filter_queryset(queryset)
+
+    def refuse_unknown_parameters(self) -> None:
+        """A misspelt or unknown filter would silently return the whole list: refuse it."""
+        known = {*LIST_PARAMETERS, *getattr(self.filterset_class, "base_filters", {})}
+        unknown = sorted(set(self.request.query_params) - known)
+        if unknown:
+            raise DRFValidationError({name: [ErrorDetail(
+                f"'{name}' is not a filter of this list; it takes: {', '.join(sorted(known))}.",
+                code="unknown_filter")] for name in unknown})
 
     def get_object(self):
         if self.lookup_field == "code":

@@ -22,6 +22,7 @@ from django.core.exceptions import (
     SuspiciousOperation,
 )
 from django.core.exceptions import ValidationError as DjangoValidationError
+from django.db import IntegrityError
 from django.db.models import CheckConstraint, F, Q
 from django.http import Http404, JsonResponse
 from django.views import defaults
@@ -29,6 +30,7 @@ from rest_framework import exceptions, serializers
 from rest_framework.views import exception_handler as drf_exception_handler
 
 from inventory.codes import RecordNotFound
+from inventory.integrity import integrity_refusal
 
 _WHOLE_REQUEST = {None, NON_FIELD_ERRORS, "non_field_errors"}
 
@@ -94,6 +96,8 @@ def _from_django(error: DjangoValidationError) -> exceptions.ValidationError:
 
 
 def _translate(exc: Exception) -> Exception:
+    if isinstance(exc, IntegrityError):  # past the services (a race, a bug): name the field
+        return _from_django(integrity_refusal(exc))
     if isinstance(exc, DjangoValidationError):
         return _from_django(exc)
     if isinstance(exc, PermissionDenied):

@@ -62,6 +62,7 @@ _DIMENSIONLESS = {
     "aggregation_index_change": "dimensionless",
     "snr": "dimensionless (signal-to-noise ratio)",
     "min_snr": "dimensionless (signal-to-noise ratio)",
+    "min_map_points": "count (points of a map)",
     "enhancement_factor": "dimensionless",
     "enhancement_factor_u": "dimensionless (standard uncertainty of the enhancement factor)",
     "min_enhancement_factor": "dimensionless",

@@ -33,6 +33,9 @@ class StampedRecord(models.Model):
         related_name="+",
     )
     version = models.PositiveIntegerField(default=1, editable=False)
+    # Finite, physical range of each number and date (inventory.models.ranges): checked by
+    # the services before saving and by the CHECK constraints each kind builds from it.
+    RANGES: ClassVar[dict] = {}
     # Every create and change of every concrete subclass, with who, when and the reason
     # (django-simple-history; read through inventory.selectors.record_get_history).
     # Reasons are sentences (a QC failure summary can be long): text, not varchar(100).
@@ -51,6 +54,10 @@ class CodedRecord(StampedRecord):
     """
 
     CODE_PREFIX: ClassVar[str] = ""
+    # What ``record_amend`` may change, declared by each kind (one place per kind): plain
+    # values the maker typed.  Codes, states, expiry, owners, links to other records and
+    # computed figures are never listed; tests/integrity/test_amend_whitelist.py checks.
+    AMENDABLE_FIELDS: ClassVar[frozenset[str]] = frozenset({"notes"})
 
     code = models.CharField(max_length=24, unique=True, editable=False)
     notes = models.TextField(blank=True)

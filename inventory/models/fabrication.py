@@ -6,12 +6,49 @@ from django.db import models
 from django.db.models import F, Q
 
 from .base import CodedRecord, LifecycleRecord
+from .ranges import PastDate, Span, finite, positive, range_constraints
+
+HOURS_PER_YEAR = 366 * 24
+# A bench slide or wafer piece is at most a few hundred cm².
+AREA_CM2 = positive(1_000, "cm²")
+TEMPLATE_RANGES = {
+    "slide_area_cm2": AREA_CM2, "coverage_percent": Span(0, 100, "%"),
+    "suspension_volume_uL": positive(1e6, "µL"), "made_on": PastDate(),
+    "spheres_per_cm2": positive(1e14, "per cm²", computed=True),
+    # The densest solids are about 22.6 g/cm³ (osmium).
+    "sphere_density_g_cm3": positive(25, "g/cm³"),
+    "suspension_excess_factor": Span(1, 100),
+    "suspension_volume_computed_uL": positive(1e9, "µL", computed=True),
+}
+DEPOSITION_RUN_RANGES = {
+    "electrons_per_atom": Span(1, 8), "current_efficiency": positive(1),
+    "setpoint_potential_V": Span(-10, 10, "V"), "setpoint_current_mA": Span(-1e4, 1e4, "mA"),
+    "electrode_area_cm2": AREA_CM2, "target_height_over_diameter": positive(10),
+    "made_on": PastDate(),
+    "charge_C": positive(1e5, "C", computed=True),
+    "metal_volume_cm3": positive(1e3, "cm³", computed=True),
+    "equivalent_thickness_nm": positive(1e9, "nm", computed=True),
+    "film_height_nm": Span(0, 1e9, "nm", computed=True),
+    "height_over_diameter": Span(0, 1e6, computed=True),
+    "sphere_diameter_nm": Span(10, 50_000, "nm"),
+    "charge_start_s": finite(1e9, "s"), "charge_end_s": finite(1e9, "s"),
+}
+SUBSTRATE_RANGES = {"area_cm2": AREA_CM2, "made_on": PastDate()}
+LINKER_LAYER_RANGES = {"concentration_mM": positive(1e5, "mM"),
+                       "immersion_h": positive(HOURS_PER_YEAR, "h"), "made_on": PastDate()}
+COLLOID_RANGES = {"volume_mL": positive(1e5, "mL"), "target_diameter_nm": positive(1e4, "nm"),
+                  "made_on": PastDate()}
+ATTACHMENT_RANGES = {"immersion_min": positive(HOURS_PER_YEAR * 60, "min"),
+                     "made_on": PastDate()}
 
 
 class TemplateAssembly(LifecycleRecord):
     """A sphere monolayer laid on a metal-coated base slide."""
 
     CODE_PREFIX = "TPL"
+    RANGES = TEMPLATE_RANGES
+    AMENDABLE_FIELDS = frozenset(("method", "slide_area_cm2", "coverage_percent",
+                                  "suspension_volume_uL", "made_on", "notes", "storage"))
 
     class Method(models.TextChoices):
         INTERFACE_TRANSFER = "interface_transfer", "Air–water interface transfer"
@@ -40,23 +77,7 @@ class TemplateAssembly(LifecycleRecord):
         indexes = [models.Index(fields=["status", "expires_on"],
                                 name="template_status_expiry")]
         constraints = [
-            models.CheckConstraint(
-                name="template_area_positive", condition=Q(slide_area_cm2__gt=0)
-            ),
-            models.CheckConstraint(
-                name="template_suspension_volume_positive",
-                condition=Q(suspension_volume_uL__isnull=True) | Q(suspension_volume_uL__gt=0),
-            ),
-            models.CheckConstraint(
-                name="template_excess_factor_at_least_one",
-                condition=Q(suspension_excess_factor__isnull=True)
-                | Q(suspension_excess_factor__gte=1),
-            ),
-            models.CheckConstraint(
-                name="template_coverage_range",
-                condition=Q(coverage_percent__isnull=True)
-                | (Q(coverage_percent__gte=0) & Q(coverage_percent__lte=100)),
-            ),
+            *range_constraints("template", TEMPLATE_RANGES),
         ]
 
 
@@ -69,6 +90,9 @@ class DepositionRun(CodedRecord):
     """
 
     CODE_PREFIX = "DEP"
+    # The area is re-read into the figures from the kept file when amended.
+    AMENDABLE_FIELDS = frozenset(("electrode_area_cm2", "notes"))
+    RANGES = DEPOSITION_RUN_RANGES
 
     class Mode(models.TextChoices):
         POTENTIOSTATIC = "potentiostatic", "Constant potential"
@@ -110,31 +134,23 @@ class DepositionRun(CodedRecord):
     charge_end_s = models.FloatField(null=True, blank=True, editable=False)
     time_unit = models.CharField(max_length=8, blank=True, editable=False)
     current_unit = models.CharField(max_length=8, blank=True, editable=False)
+    # Why the figures above no longer follow from the current inputs (an input was amended
+    # and the file could not be re-read); empty while they are current.
+    stale_reason = models.TextField(blank=True, editable=False)
 
     class Meta:
         constraints = [
-            models.CheckConstraint(name="deposition_electrons_positive",
-                                   condition=Q(electrons_per_atom__gt=0)),
-            models.CheckConstraint(name="deposition_target_positive",
-                                   condition=Q(target_height_over_diameter__isnull=True)
-                                   | Q(target_height_over_diameter__gt=0)),
             models.CheckConstraint(name="deposition_flat_film_has_no_ratio",
                                    condition=Q(template__isnull=False)
                                    | Q(height_over_diameter__isnull=True)),
-            models.CheckConstraint(name="deposition_charge_positive",
-                                   condition=Q(charge_C__isnull=True) | Q(charge_C__gt=0)),
             models.CheckConstraint(name="deposition_window_ordered",
                                    condition=Q(charge_start_s__isnull=True)
                                    | Q(charge_end_s__isnull=True)
                                    | Q(charge_end_s__gt=F("charge_start_s"))),
-            models.CheckConstraint(name="deposition_area_positive",
-                                   condition=Q(electrode_area_cm2__gt=0)),
-            models.CheckConstraint(name="deposition_efficiency_fraction",
-                                   condition=Q(current_efficiency__gt=0)
-                                   & Q(current_efficiency__lte=1)),
             models.CheckConstraint(name="deposition_template_or_flat_slide",
                                    condition=Q(template__isnull=False)
                                    | Q(base_slide_lot__isnull=False)),
+            *range_constraints("deposition", DEPOSITION_RUN_RANGES),
         ]
 
 
@@ -142,6 +158,8 @@ class Substrate(LifecycleRecord):
     """One usable piece: the unit that experiments consume."""
 
     CODE_PREFIX = "SUB"
+    RANGES = SUBSTRATE_RANGES
+    AMENDABLE_FIELDS = frozenset(("piece_label", "area_cm2", "made_on", "notes", "storage"))
 
     class Stage(models.TextChoices):
         FILM = "film", "Structured film"
@@ -166,8 +184,7 @@ class Substrate(LifecycleRecord):
             models.CheckConstraint(name="substrate_from_run_or_purchase",
                                    condition=Q(deposition_run__isnull=False)
                                    | Q(purchased_lot__isnull=False)),
-            models.CheckConstraint(name="substrate_area_positive",
-                                   condition=Q(area_cm2__isnull=True) | Q(area_cm2__gt=0)),
+            *range_constraints("substrate", SUBSTRATE_RANGES),
         ]
 
 
@@ -175,6 +192,8 @@ class LinkerLayer(CodedRecord):
     """A self-assembled thiol monolayer step on one or more substrates."""
 
     CODE_PREFIX = "LNK"
+    RANGES = LINKER_LAYER_RANGES
+    AMENDABLE_FIELDS = frozenset(("concentration_mM", "immersion_h", "made_on", "notes"))
 
     linker_lot = models.ForeignKey("inventory.ReagentLot", on_delete=models.PROTECT,
                                    related_name="linker_layers")
@@ -187,12 +206,7 @@ class LinkerLayer(CodedRecord):
 
     class Meta:
         constraints = [
-            models.CheckConstraint(
-                name="linker_concentration_positive", condition=Q(concentration_mM__gt=0)
-            ),
-            models.CheckConstraint(
-                name="linker_immersion_positive", condition=Q(immersion_h__gt=0)
-            ),
+            *range_constraints("linker", LINKER_LAYER_RANGES),
         ]
 
 
@@ -200,6 +214,9 @@ class NanoparticleBatch(LifecycleRecord):
     """A colloid made in the lab; its UV-vis records live in the qc app."""
 
     CODE_PREFIX = "NPB"
+    RANGES = COLLOID_RANGES
+    AMENDABLE_FIELDS = frozenset(("metal", "synthesis_method", "volume_mL",
+                                  "target_diameter_nm", "made_on", "notes", "storage"))
 
     class Method(models.TextChoices):
         CITRATE = "citrate", "Citrate reduction"
@@ -221,10 +238,7 @@ class NanoparticleBatch(LifecycleRecord):
                                 name="colloid_status_expiry")]
         verbose_name_plural = "nanoparticle batches"
         constraints = [
-            models.CheckConstraint(name="colloid_volume_positive", condition=Q(volume_mL__gt=0)),
-            models.CheckConstraint(name="colloid_target_size_positive",
-                                   condition=Q(target_diameter_nm__isnull=True)
-                                   | Q(target_diameter_nm__gt=0)),
+            *range_constraints("colloid", COLLOID_RANGES),
         ]
 
 
@@ -232,6 +246,8 @@ class ParticleAttachment(CodedRecord):
     """Particles from one colloid batch bound onto a linker-modified substrate."""
 
     CODE_PREFIX = "PAT"
+    RANGES = ATTACHMENT_RANGES
+    AMENDABLE_FIELDS = frozenset(("immersion_min", "made_on", "notes"))
 
     substrate = models.ForeignKey("inventory.Substrate", on_delete=models.PROTECT,
                                   related_name="particle_attachments")
@@ -242,6 +258,5 @@ class ParticleAttachment(CodedRecord):
 
     class Meta:
         constraints = [
-            models.CheckConstraint(name="attachment_immersion_positive",
-                                   condition=Q(immersion_min__gt=0)),
+            *range_constraints("attachment", ATTACHMENT_RANGES),
         ]

@@ -3,9 +3,11 @@
 from __future__ import annotations
 
 from django.db import models
-from django.db.models import Q
 
 from .base import StampedRecord
+from .ranges import positive, range_constraints
+
+TOLERANCE_RANGES = {"max_abs_deviation_height_over_diameter": positive(10)}
 
 
 class DepositionTolerance(StampedRecord):
@@ -15,6 +17,8 @@ class DepositionTolerance(StampedRecord):
     one (blank ``metal``).  ``is_example`` marks values shipped with the demo, which a lab
     must replace with its own.
     """
+
+    RANGES = TOLERANCE_RANGES
 
     metal = models.CharField(max_length=4, blank=True,
                              help_text="Element symbol; blank for every metal.")
@@ -26,8 +30,7 @@ class DepositionTolerance(StampedRecord):
     class Meta:
         constraints = [
             models.UniqueConstraint(fields=["metal"], name="one_deposition_tolerance_per_metal"),
-            models.CheckConstraint(name="deposition_tolerance_positive",
-                                   condition=Q(max_abs_deviation_height_over_diameter__gt=0)),
+            *range_constraints("deposition_tolerance", TOLERANCE_RANGES),
         ]
 
     def __str__(self) -> str:

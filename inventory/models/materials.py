@@ -6,12 +6,28 @@ from django.db import models
 from django.db.models import F, Q
 
 from .base import CodedRecord, LifecycleRecord, StampedRecord
+from .ranges import PastDate, Span, positive, range_constraints
+
+REAGENT_LOT_RANGES = {
+    "received_on": PastDate(), "opened_on": PastDate(), "prepared_on": PastDate(),
+    "quantity": Span(0, 1e9, "(the lot's unit)"),
+    # Neat liquids are about 10–55 mol/L; a stock above 100 mol/L is a typing error.
+    "concentration_mM": positive(1e5, "mM"),
+}
+# Colloidal template spheres run from tens of nanometres to tens of micrometres.
+SPHERE_LOT_RANGES = {
+    "nominal_diameter_nm": Span(10, 50_000, "nm"), "size_cv_percent": Span(0, 100, "%"),
+    "solids_percent_w_v": positive(100, "% w/v"), "volume_mL": positive(1e5, "mL"),
+    "received_on": PastDate(), "opened_on": PastDate(),
+}
+SHELF_LIFE_RULE_RANGES = {"shelf_life_days": Span(1, 36_500, "days")}
 
 
 class StorageLocation(CodedRecord):
     """A fridge, desiccator, box or shelf."""
 
     CODE_PREFIX = "LOC"
+    AMENDABLE_FIELDS = frozenset(("name", "kind", "room", "notes"))
 
     class Kind(models.TextChoices):
         FRIDGE = "fridge", "Fridge (2–8 °C)"
@@ -51,6 +67,10 @@ class ReagentLot(LifecycleRecord):
     """
 
     CODE_PREFIX = "RGT"
+    RANGES = REAGENT_LOT_RANGES
+    AMENDABLE_FIELDS = frozenset(("name", "supplier", "supplier_lot", "received_on", "opened_on",
+                                  "prepared_on", "quantity", "quantity_unit", "concentration_mM",
+                                  "ghs_hazard_codes", "notes", "storage"))
 
     name = models.CharField(max_length=160)
     kind = models.CharField(max_length=24, choices=ReagentKind.choices, db_index=True)
@@ -80,14 +100,7 @@ class ReagentLot(LifecycleRecord):
                 condition=Q(opened_on__isnull=True) | Q(received_on__isnull=True)
                 | Q(opened_on__gte=F("received_on")),
             ),
-            models.CheckConstraint(
-                name="reagent_quantity_non_negative",
-                condition=Q(quantity__isnull=True) | Q(quantity__gte=0),
-            ),
-            models.CheckConstraint(
-                name="reagent_concentration_positive",
-                condition=Q(concentration_mM__isnull=True) | Q(concentration_mM__gt=0),
-            ),
+            *range_constraints("reagent", REAGENT_LOT_RANGES),
         ]
 
     def __str__(self) -> str:
@@ -98,6 +111,10 @@ class SphereLot(LifecycleRecord):
     """Template spheres as received: material, nominal size, size spread and solids content."""
 
     CODE_PREFIX = "SPH"
+    RANGES = SPHERE_LOT_RANGES
+    AMENDABLE_FIELDS = frozenset(("material", "nominal_diameter_nm", "size_cv_percent",
+                                  "solids_percent_w_v", "supplier", "supplier_lot",
+                                  "received_on", "opened_on", "volume_mL", "notes", "storage"))
 
     class Material(models.TextChoices):
         POLYSTYRENE = "polystyrene", "Polystyrene"
@@ -119,14 +136,7 @@ class SphereLot(LifecycleRecord):
         indexes = [models.Index(fields=["status", "expires_on"],
                                 name="spherelot_status_expiry")]
         constraints = [
-            models.CheckConstraint(name="sphere_diameter_positive",
-                                   condition=Q(nominal_diameter_nm__gt=0)),
-            models.CheckConstraint(name="sphere_solids_range",
-                                   condition=Q(solids_percent_w_v__gt=0)
-                                   & Q(solids_percent_w_v__lte=100)),
-            models.CheckConstraint(name="sphere_cv_non_negative",
-                                   condition=Q(size_cv_percent__isnull=True)
-                                   | Q(size_cv_percent__gte=0)),
+            *range_constraints("sphere", SPHERE_LOT_RANGES),
             models.CheckConstraint(name="sphere_opened_after_received",
                                    condition=Q(opened_on__isnull=True)
                                    | Q(opened_on__gte=F("received_on"))),
@@ -158,6 +168,8 @@ class ShelfLifeRule(StampedRecord):
         OPENED = "opened", "Date opened"
         PREPARED = "prepared", "Date prepared"
 
+    RANGES = SHELF_LIFE_RULE_RANGES
+
     record_kind = models.CharField(max_length=24, choices=RecordKind.choices)
     reagent_kind = models.CharField(max_length=24, choices=ReagentKind.choices, blank=True)
     shelf_life_days = models.PositiveIntegerField()
@@ -169,7 +181,7 @@ class ShelfLifeRule(StampedRecord):
         constraints = [
             models.UniqueConstraint(fields=["record_kind", "reagent_kind"],
                                     name="one_shelf_life_rule_per_kind"),
-            models.CheckConstraint(name="shelf_life_positive", condition=Q(shelf_life_days__gt=0)),
+            *range_constraints("shelf_life", SHELF_LIFE_RULE_RANGES),
             models.CheckConstraint(
                 name="reagent_kind_only_for_reagents",
                 condition=Q(reagent_kind="") | Q(record_kind="reagentlot"),

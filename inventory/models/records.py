@@ -7,18 +7,26 @@ from django.db import models
 from django.db.models import F, Q
 
 from .base import CodedRecord
+from .ranges import PastDate, range_constraints
+
+DATASET_RANGES = {"acquired_on": PastDate()}
 
 
 class Dataset(CodedRecord):
     """Data produced on one or more substrates, with its files' SHA-256 digests."""
 
     CODE_PREFIX = "DS"
+    RANGES = DATASET_RANGES
+    AMENDABLE_FIELDS = frozenset(("title", "instrument", "operator", "acquired_on", "notes"))
 
     title = models.CharField(max_length=200)
     instrument = models.CharField(max_length=120, blank=True)
     operator = models.CharField(max_length=120, blank=True)
     acquired_on = models.DateField()
     substrates = models.ManyToManyField("inventory.Substrate", related_name="datasets")
+
+    class Meta:
+        constraints = range_constraints("dataset", DATASET_RANGES)
 
 
 class DatasetFile(models.Model):

@@ -5,7 +5,13 @@ the same way everywhere.  Errors are ``ValidationError`` keyed by field with a s
 Split by topic; import from ``inventory.services``.
 """
 
-from .audit import amendable_fields, record_amend, record_reject, record_release, record_void
+from .audit import (
+    amendable_fields,
+    record_amend,
+    record_reject,
+    record_release,
+    record_void,
+)
 from .deposition import (
     deposition_run_attach_chronoamperogram,
     deposition_run_check_target,

@@ -9,11 +9,13 @@ from pathlib import PurePosixPath
 
 from django.conf import settings
 from django.contrib.auth.models import AbstractBaseUser
+from django.core.exceptions import ValidationError
 from django.db.models import FileField, Model
 from django.utils import timezone
 
 from ..codes import code_next
 from ..errors import refusal
+from ..integrity import constraints_refusal
 from ..lifecycle import check_usable
 from ..models import (
     CodedRecord,
@@ -24,6 +26,7 @@ from ..models import (
     StampedRecord,
     Substrate,
 )
+from ..models.ranges import PastDate
 from ..shelf_life import refresh_expiry
 
 User = AbstractBaseUser
@@ -43,14 +46,74 @@ def _stamp_history(record: StampedRecord, *, actor: User | None, reason: str) ->
     record._change_reason = reason or None
 
 
+def _check_values(model: type[Model], values: dict) -> None:
+    """Refuse a number or date outside ``model.RANGES``, naming the field and the range.
+
+    NaN and infinities are outside every range.  A computed figure out of range is refused
+    too (its message points at the inputs), so nothing non-finite is ever saved.  Services
+    call this on their parameters before any computation, and ``_check_fields`` on every
+    record before it is saved.
+    """
+    today = _today()
+    ranges = getattr(model, "RANGES", {})
+    for name, value in values.items():
+        span = ranges.get(name)
+        if value is None or span is None:
+            continue
+        label = model._meta.get_field(name).verbose_name
+        if isinstance(span, PastDate):
+            if not span.holds(value, today):
+                code = "future_date" if value > today else "out_of_range"
+                raise refusal(name, f"The {label} {value.isoformat()} is outside the allowed "
+                                    f"range: {span.describe(today)}.", code)
+        elif not span.holds(value):
+            if span.computed:
+                raise refusal(name, f"The {label} computed from the inputs came out "
+                                    f"{float(value):g}, outside {span.describe()}; check the "
+                                    "numbers it is computed from.", "computed_out_of_range")
+            raise refusal(name, f"The {label} {float(value):g} is outside the allowed range: "
+                                f"{span.describe()}.", "out_of_range")
+
+
+def _check_ranges(record: Model) -> None:
+    """``_check_values`` for every ranged field of ``record``."""
+    model = type(record)
+    _check_values(model, {name: getattr(record, name) for name in getattr(model, "RANGES", {})})
+
+
+def _check_fields(record: Model) -> None:
+    """Every field's own cleaning (text to numbers and dates), then its range.
+
+    Before expiry is derived (a date in the year 9999 would overflow it) and before the
+    constraints are checked (a constraint checked with NaN on SQLite reads it as NULL).
+    """
+    record.clean_fields()
+    _check_ranges(record)
+
+
+def _full_clean(record: Model) -> None:
+    """``full_clean``, with a violated constraint reported under the field it guards."""
+    try:
+        record.full_clean()
+    except ValidationError as error:
+        raise constraints_refusal(record, error) from None
+
+
+def _validate(record: Model) -> None:
+    """``_check_fields``, then every constraint (``full_clean``): for rows without expiry."""
+    _check_fields(record)
+    _full_clean(record)
+
+
 def _save_new(record: CodedRecord, *, actor: User | None, reason: str = "") -> CodedRecord:
-    """Give ``record`` its code, check every field and constraint, and insert it."""
+    """Give ``record`` its code, check every field, range and constraint, and insert it."""
     record.code = code_next(record.CODE_PREFIX)
     record.created_by = actor
     record.updated_by = actor
+    _check_fields(record)
     if isinstance(record, LifecycleRecord):
         refresh_expiry(record)
-    record.full_clean()
+    _full_clean(record)
     _stamp_history(record, actor=actor, reason=reason)
     record.save()
     return record
@@ -60,9 +123,10 @@ def _save_changed(record: StampedRecord, *, actor: User | None, reason: str = ""
     """Save a change with a new version; the history row keeps who, when and ``reason``."""
     record.updated_by = actor
     record.version += 1
+    _check_fields(record)
     if isinstance(record, LifecycleRecord):
         refresh_expiry(record)
-    record.full_clean()
+    _full_clean(record)
     _stamp_history(record, actor=actor, reason=reason)
     record.save()
 
@@ -89,17 +153,17 @@ def _require_not_future(day: date, *, field: str) -> None:
 
 
 def _check_substrates_usable(substrates: Sequence[Substrate], *, role: str, on_date: date,
-                             field: str = "substrates") -> None:
+                             field: str = "substrates", date_field: str = "made_on") -> None:
+    """Each substrate usable on ``on_date`` and made by then; ``date_field`` is the name of
+    the caller's date parameter (``measured_on``, ``acquired_on``), which a refusal names."""
     if not substrates:
         raise refusal(field, "Choose at least one substrate.", "required")
     for substrate in substrates:
         check_usable(substrate, role=role, on_date=on_date, field=field)
         if on_date < substrate.made_on:
-            raise refusal(
-                "made_on",
-                f"{substrate.code} was made on {substrate.made_on.isoformat()}, after this step.",
-                "date_order",
-            )
+            raise refusal(date_field, f"{substrate.code} was made on "
+                                      f"{substrate.made_on.isoformat()}, after this step.",
+                          "date_order")
 
 
 # Instrument exports the readers understand: text tables and JCAMP-DX (IUPAC).

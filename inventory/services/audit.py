@@ -26,17 +26,16 @@ from ..errors import refusal
 from ..lifecycle import check_transition
 from ..models import CodedRecord, LifecycleRecord, LineageEdge, Signature, Status
 from ..roles import MAKER, REVIEWER, require_role
-from ..signatures import REJECT_MEANINGS, RELEASE_MEANINGS, SignatureIntent, record_content_digest
-from ._common import User, _require_not_future, _save_changed
+from ..signatures import (
+    REJECT_MEANINGS,
+    RELEASE_MEANINGS,
+    SignatureIntent,
+    record_content_digest,
+)
+from ._common import User, _check_fields, _require_not_future, _save_changed
+from .derived import refresh_derived
 from .lifecycle import _transition, check_not_self_release, check_not_voided, lock
 
-# Fields an amendment may change: plain values the maker typed, and where it is kept.
-# Codes, statuses, links to inputs (the lineage) and computed figures are never amended.
-AMENDABLE_RELATIONS = frozenset({"storage"})
-# Inputs of stored computations: changing one would leave the figures beside it stale, so
-# the correction is a new record (and the old one voided) instead.
-FEEDS_A_COMPUTATION = frozenset({"slide_area_cm2", "suspension_excess_factor",
-                                 "sphere_density_g_cm3"})
 
 
 @lru_cache(maxsize=8)
@@ -146,20 +145,13 @@ def record_void(*, actor: User | None, record: CodedRecord, reason: str) -> Code
 
 
 def amendable_fields(model: type[CodedRecord]) -> frozenset[str]:
-    """The fields of ``model`` that ``record_amend`` accepts.
+    """The fields of ``model`` that ``record_amend`` accepts: its ``AMENDABLE_FIELDS``.
 
-    A record whose numbers were computed from an instrument file (it has a file field) only
-    takes notes and storage: its figures and acquisition settings belong to the file.
+    Each kind declares them beside its fields; a flag, for one, takes only notes (its state
+    changes through ``flag_resolve``), and a record computed from an instrument file only
+    notes: its figures and acquisition settings belong to the file.
     """
-    fields = model._meta.concrete_fields
-    if any(isinstance(field, models.FileField) for field in fields):
-        return frozenset(f.name for f in fields if f.name in ("notes", *AMENDABLE_RELATIONS))
-    return frozenset(
-        field.name for field in fields
-        if field.editable and not field.primary_key and field.name not in ("code", "status")
-        and field.name not in FEEDS_A_COMPUTATION
-        and (not field.is_relation or field.name in AMENDABLE_RELATIONS)
-    )
+    return model.AMENDABLE_FIELDS
 
 
 # A lineage edge carries the date of the step that made it (LineageEdge.used_on).  A step
@@ -229,12 +221,17 @@ def record_amend(*, actor: User | None, record: CodedRecord, changes: dict[str, 
         raise refusal("reason", f"{locked.code} is {getattr(locked, 'status', 'signed')}; give "
                                 "a reason for the amendment.", "reason_required")
     old_date = _step_date(locked)
+    old_values = {name: getattr(locked, name) for name in changes}
     for name, value in changes.items():
         setattr(locked, name, value)
+    _check_fields(locked)  # typed text to dates and numbers, each inside its range
+    changed = {name: (old, getattr(locked, name)) for name, old in old_values.items()
+               if getattr(locked, name) != old}
     new_date = _step_date(locked)
     if new_date is not None and new_date != old_date:
         _require_not_future(new_date, field=step_date_field(locked))
     _save_changed(locked, actor=actor, reason=reason.strip() or "amended")
     if old_date is not None and new_date is not None and new_date != old_date:
         _follow_step_date(locked, old_date, new_date)
+    refresh_derived(actor=actor, record=locked, changed=changed)
     return locked

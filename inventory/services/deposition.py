@@ -28,7 +28,7 @@ from inventory.physics.errors import AnalysisInputError
 from ..errors import refusal
 from ..models import DepositionRun, DepositionTolerance, Flag
 from ..roles import ADMINISTRATOR, MAKER, require_role
-from ._common import User, _check_upload, _save_changed, _stamp_history
+from ._common import User, _check_upload, _save_changed, _stamp_history, _validate
 from .records import flag_raise, sha256_of
 
 #: Used only when the lab has recorded no DepositionTolerance: a built-in default of this
@@ -96,7 +96,7 @@ def deposition_tolerance_set(
     tolerance.is_example = is_example
     tolerance.rationale = rationale
     tolerance.updated_by = actor
-    tolerance.full_clean()
+    _validate(tolerance)
     _stamp_history(tolerance, actor=actor, reason=rationale)
     tolerance.save()
     return tolerance
@@ -250,10 +250,15 @@ def _parse_and_analyse(run: DepositionRun, filename: str, content: bytes, *,
 
 
 def _store(run: DepositionRun, prepared: _Prepared, *, actor) -> None:
-    parsed, analysis = prepared.parsed, prepared.analysis
     run.chronoamperogram.save(prepared.filename, ContentFile(prepared.content), save=False)
     run.chronoamperogram_sha256 = prepared.digest
     run.chronoamperogram_name = prepared.filename
+    _set_figures(run, prepared.parsed, prepared.analysis)
+    _save_changed(run, actor=actor)
+
+
+def _set_figures(run: DepositionRun, parsed: Chronoamperogram,
+                 analysis: DepositionAnalysis) -> None:
     run.charge_C = analysis.charge_C
     run.metal_volume_cm3 = analysis.metal_volume_cm3
     run.equivalent_thickness_nm = analysis.equivalent_thickness_nm
@@ -265,7 +270,39 @@ def _store(run: DepositionRun, prepared: _Prepared, *, actor) -> None:
     run.charge_end_s = analysis.end_s
     run.time_unit = parsed.time_unit
     run.current_unit = parsed.current_unit
-    _save_changed(run, actor=actor)
+    run.stale_reason = ""
+
+
+def deposition_run_recompute(*, actor: User | None, run: DepositionRun, why: str) -> None:
+    """Work a run's figures out again from its kept file after an input was amended.
+
+    Called in the amending transaction (``inventory.services.derived``), with the window,
+    units and sign the figures came from.  The run's history says ``why``; if the new h/D
+    is off target the usual flag is raised.  A file that cannot be read any more leaves the
+    figures marked stale with the reason instead, which readiness reports.
+    """
+    run = DepositionRun.objects.select_for_update(of=("self",)).select_related(
+        "template__sphere_lot").get(pk=run.pk)
+    if not run.chronoamperogram_sha256:
+        return
+    try:
+        with run.chronoamperogram.open("rb") as stored:
+            content = stored.read()
+        if sha256_of(content) != run.chronoamperogram_sha256:
+            raise OSError("the stored file no longer matches its SHA-256 digest")
+        parsed, analysis = _parse_and_analyse(
+            run, run.chronoamperogram_name, content, time_unit=run.time_unit,
+            current_unit=run.current_unit, cathodic_sign=run.cathodic_sign,
+            start_s=run.charge_start_s, end_s=run.charge_end_s)
+    except (OSError, ValueError, ValidationError) as error:
+        run.stale_reason = f"{why}; the figures could not be worked out again ({error})."
+        _save_changed(run, actor=actor, reason=f"figures stale: {why}")
+        return
+    before = run.height_over_diameter
+    _set_figures(run, parsed, analysis)
+    _save_changed(run, actor=actor, reason=f"figures recomputed: {why}")
+    if run.height_over_diameter != before:
+        _compare_and_flag(run, analysis, actor=actor)
 
 
 def _deviation(run: DepositionRun) -> float | None:

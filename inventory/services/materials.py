@@ -27,6 +27,7 @@ from ._common import (
     _save_changed,
     _save_new,
     _stamp_history,
+    _validate,
 )
 
 
@@ -129,7 +130,7 @@ def shelf_life_rule_set(
     rule.is_example = is_example
     rule.rationale = rationale
     rule.updated_by = actor
-    rule.full_clean()
+    _validate(rule)
     _stamp_history(rule, actor=actor, reason=rationale)
     rule.save()
     if record_kind in LIFECYCLE_KINDS:

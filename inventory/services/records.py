@@ -39,7 +39,8 @@ def dataset_register(
     """Record data made on substrates; files are stored with their SHA-256 digests."""
     require_role(actor, MAKER, action="Registering a dataset")
     _require_not_future(acquired_on, field="acquired_on")
-    _check_substrates_usable(substrates, role="a measured substrate", on_date=acquired_on)
+    _check_substrates_usable(substrates, role="a measured substrate", on_date=acquired_on,
+                             date_field="acquired_on")
     for name, content in files:
         _check_upload(content, field="files", filename=name, extensions=None)
     digests = [sha256_of(content) for _, content in files]

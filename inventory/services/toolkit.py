@@ -10,6 +10,7 @@ names (checked by tests/test_private_imports.py).
 from ._common import User
 from ._common import _check_substrates_usable as check_substrates_usable
 from ._common import _check_upload as check_upload
+from ._common import _check_values as check_values
 from ._common import _files_removed_if_failed as files_removed_if_failed
 from ._common import _link as link
 from ._common import _require_kind as require_kind
@@ -17,6 +18,7 @@ from ._common import _require_not_future as require_not_future
 from ._common import _save_changed as save_changed
 from ._common import _save_new as save_new
 from ._common import _stamp_history as stamp_history
+from ._common import _validate as validate
 from .lifecycle import _transition as transition
 from .lifecycle import lock
 
@@ -24,6 +26,7 @@ __all__ = [
     "User",
     "check_substrates_usable",
     "check_upload",
+    "check_values",
     "files_removed_if_failed",
     "link",
     "lock",
@@ -33,4 +36,5 @@ __all__ = [
     "save_new",
     "stamp_history",
     "transition",
+    "validate",
 ]

@@ -35,6 +35,23 @@ _DECIMAL_COMMA_CELL = re.compile(r"[-+]?\d*,\d+(?:[eE][-+]?\d+)?")
 _DELIMITER_NAMES = {",": "comma", "\t": "tab", ";": "semicolon", None: "whitespace"}
 _JCAMP_SUFFIXES = (".jdx", ".dx", ".jcamp", ".jcm")
 
+# Sane sizes of an instrument export (common practice): a CCD row has a few thousand pixels,
+# so even a stitched spectrum in a wide map row stays far below MAX_COLUMNS; a 16-bit
+# detector reads at most 65 535 counts per pixel and readout, so a cell beyond
+# MAX_ABS_VALUE (shifts, positions and summed counts alike) is not a measurement.
+MAX_COLUMNS = 65_536
+MAX_ABS_VALUE = 1e12
+
+
+def _refuse_wide_rows(texts: list[str], numbers: list[int], delimiter: str | None) -> None:
+    """Refuse a row of more than ``MAX_COLUMNS`` cells before anything parses it."""
+    for text, number in zip(texts, numbers, strict=True):
+        cells = (text.count(delimiter) + 1) if delimiter else len(text.split())
+        if cells > MAX_COLUMNS:
+            raise AnalysisInputError(
+                f"{cells} columns; an export row has at most {MAX_COLUMNS}", line=number
+            )
+
 
 def decode_text(data: str | bytes) -> str:
     """Return file contents as text: UTF-16 with its byte-order mark, else UTF-8, else latin-1."""
@@ -132,6 +149,7 @@ def _parse_block(
     texts: list[str], numbers: list[int], delimiter: str | None, n_columns: int | None
 ) -> tuple[np.ndarray, bool]:
     """Parse data lines into a (rows, columns) float array; say if decimal commas were used."""
+    _refuse_wide_rows(texts, numbers, delimiter)
     decimal_comma = delimiter != "," and any("," in t for t in texts)
     rows = [t.replace(",", ".") for t in texts] if decimal_comma else texts
     try:
@@ -150,6 +168,14 @@ def _parse_block(
         row, column = np.argwhere(bad)[0]
         raise AnalysisInputError(
             f"cell {column + 1} is not a finite number ({block[row, column]})",
+            line=numbers[row],
+        )
+    huge = np.abs(block) > MAX_ABS_VALUE
+    if huge.any():
+        row, column = np.argwhere(huge)[0]
+        raise AnalysisInputError(
+            f"cell {column + 1} is {block[row, column]:g}; a value in an instrument export "
+            f"is at most {MAX_ABS_VALUE:g} in size",
             line=numbers[row],
         )
     return block, decimal_comma
@@ -314,6 +340,7 @@ def read_map_wide(data: str | bytes) -> RamanMap:
     lines = _content_lines(decode_text(data))
     header_text, header_line = lines.texts[0], lines.numbers[0]
     delimiter = _detect_delimiter(header_text)
+    _refuse_wide_rows([header_text], [header_line], delimiter)
     decimal_comma = delimiter != "," and "," in header_text
     cells = _split(
         header_text.replace(",", ".") if decimal_comma else header_text, delimiter

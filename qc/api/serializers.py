@@ -84,6 +84,10 @@ class QcImport(_Acquisition):
     surface_area_assumed_one = serializers.BooleanField(
         default=False, help_text="Assume a factor of 1 (the metal area is not known); "
                                  "recorded as 'assumed 1' with the EF.")
+    shared_measurement = serializers.BooleanField(
+        default=False, help_text="True when this one file really measured several substrates "
+                                 "(otherwise a file already the QC of another substrate is "
+                                 "refused).")
 
 
 class ReferenceImport(_Acquisition):
@@ -110,6 +114,9 @@ class QcLimitSetDefine(ServiceSerializer):
     max_rsd_percent = FiniteFloat(required=False, allow_null=True, help_text="Largest RSD "
                                   "of the band height over a map.")
     min_snr = FiniteFloat(required=False, allow_null=True)
+    min_map_points = serializers.IntegerField(
+        min_value=2, max_value=1_000_000, default=25,
+        help_text="Fewest map points that can show uniformity (a smaller map fails it).")
     is_example = serializers.BooleanField(default=False)
     rationale = serializers.CharField(required=False, allow_blank=True)
     intensity_measure = serializers.ChoiceField(

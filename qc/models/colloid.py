@@ -10,6 +10,38 @@ from django.db import models
 from django.db.models import F, Q
 
 from inventory.models import CodedRecord, StampedRecord
+from inventory.models.ranges import PastDate, Span, finite, positive, range_constraints
+
+# UV-vis(-NIR) spectrometers cover about 175–3300 nm (common practice).
+WAVELENGTH_NM = Span(150, 3300, "nm")
+SIZE_NM = positive(1e4, "nm")
+COLLOID_LIMIT_RANGES = {
+    "peak_min_nm": WAVELENGTH_NM, "peak_max_nm": WAVELENGTH_NM,
+    "fwhm_max_nm": positive(1000, "nm"), "peak_shift_max_nm": positive(500, "nm"),
+    "absorbance_loss_max_fraction": positive(1), "aggregation_index_max": positive(100),
+    "size_tolerance_percent": positive(100, "%"),
+}
+UVVIS_RANGES = {
+    "measured_on": PastDate(),
+    # Stock colloids are diluted at most about 1:10⁴ for a reading; cells are 0.01–10 cm.
+    "dilution_factor": Span(1, 1e4), "path_length_cm": Span(0.001, 10, "cm"),
+    "point_count": Span(2, 1e6), "wavelength_min_nm": WAVELENGTH_NM,
+    "wavelength_max_nm": WAVELENGTH_NM, "peak_nm": WAVELENGTH_NM,
+    "peak_absorbance_1cm": finite(1e9), "fwhm_nm": Span(0, 3300, "nm", computed=True),
+    "half_width_blue_nm": finite(1e4, "nm"), "half_width_red_nm": finite(1e4, "nm"),
+    "absorbance_450_1cm": finite(1e9), "ratio_spr_450": finite(), "aggregation_index": finite(),
+    "haiss_ratio_diameter_nm": SIZE_NM, "haiss_peak_diameter_nm": SIZE_NM,
+    "silver_table_diameter_nm": SIZE_NM, "diameter_nm": SIZE_NM,
+    "number_per_mL": positive(1e25, "per mL", computed=True),
+    "molar_concentration_M": positive(10, "mol/L", computed=True),
+    "mie_median_diameter_nm": SIZE_NM, "mie_geometric_sigma": Span(1, 100, computed=True),
+    "mie_number_per_mL": Span(0, 1e25, "per mL", computed=True),
+    "mie_rms_residual": finite(), "mie_relative_residual": finite(),
+    "mie_fit_min_nm": WAVELENGTH_NM, "mie_fit_max_nm": WAVELENGTH_NM,
+    "size_difference_percent": finite(), "age_days": Span(0, 36_500, "days"),
+    "peak_shift_nm": finite(1e4, "nm"), "absorbance_loss_fraction": finite(),
+    "broadening_nm": finite(1e4, "nm"), "aggregation_index_change": finite(),
+}
 
 __all__ = ["ColloidLimitSet", "ColloidMetal", "SilverCalibration", "UvVisRecord"]
 
@@ -26,6 +58,8 @@ class ColloidLimitSet(StampedRecord):
     own.  ``flag_size_disagreement`` makes a Mie-versus-calibration size difference beyond
     the tolerance an open flag rather than only a note on the record.
     """
+
+    RANGES = COLLOID_LIMIT_RANGES
 
     metal = models.CharField(max_length=4, choices=ColloidMetal.choices, unique=True)
     peak_min_nm = models.FloatField()
@@ -45,18 +79,7 @@ class ColloidLimitSet(StampedRecord):
                 name="colloid_peak_window_ordered",
                 condition=Q(peak_min_nm__gt=0) & Q(peak_min_nm__lt=F("peak_max_nm")),
             ),
-            models.CheckConstraint(
-                name="colloid_limits_positive",
-                condition=Q(fwhm_max_nm__gt=0)
-                & Q(peak_shift_max_nm__gt=0)
-                & Q(aggregation_index_max__gt=0)
-                & Q(size_tolerance_percent__gt=0),
-            ),
-            models.CheckConstraint(
-                name="colloid_loss_fraction_range",
-                condition=Q(absorbance_loss_max_fraction__gt=0)
-                & Q(absorbance_loss_max_fraction__lte=1),
-            ),
+            *range_constraints("colloid_limit", COLLOID_LIMIT_RANGES),
         ]
 
     def __str__(self) -> str:
@@ -99,6 +122,7 @@ class UvVisRecord(CodedRecord):
     """
 
     CODE_PREFIX = "UV"
+    RANGES = UVVIS_RANGES
 
     batch = models.ForeignKey("inventory.NanoparticleBatch", on_delete=models.PROTECT,
                               related_name="uvvis_records")
@@ -192,6 +216,9 @@ class UvVisRecord(CodedRecord):
                                   on_delete=models.PROTECT, related_name="records")
     limits_note = models.CharField(max_length=300, blank=True)
     breaches = models.JSONField(default=list, blank=True)
+    # Why the figures no longer follow from the batch as it is now recorded (its metal was
+    # amended): they need the spectrum imported again.  Empty while current.
+    stale_reason = models.TextField(blank=True, editable=False)
 
     class Meta:
         ordering = ["batch", "measured_on", "id"]
@@ -199,14 +226,5 @@ class UvVisRecord(CodedRecord):
             models.UniqueConstraint(
                 fields=["batch", "raw_sha256"], name="uvvis_file_once_per_batch"
             ),
-            models.CheckConstraint(
-                name="uvvis_dilution_at_least_one", condition=Q(dilution_factor__gte=1)
-            ),
-            models.CheckConstraint(name="uvvis_path_positive", condition=Q(path_length_cm__gt=0)),
-            models.CheckConstraint(name="uvvis_age_non_negative", condition=Q(age_days__gte=0)),
-            models.CheckConstraint(name="uvvis_sized_or_said_why",
-                                   condition=Q(peak_nm__isnull=False) | ~Q(size_methods_note="")),
-            models.CheckConstraint(name="uvvis_mie_size_or_bound",
-                                   condition=Q(mie_median_diameter_nm__isnull=False)
-                                   | Q(mie_diameter_bound_nm__isnull=False)),
+            *range_constraints("uvvis", UVVIS_RANGES),
         ]

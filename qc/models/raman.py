@@ -11,6 +11,52 @@ from django.db import models
 from django.db.models import Q
 
 from inventory.models import CodedRecord, StampedRecord, Substrate
+from inventory.models.ranges import PastDate, Span, finite, positive, range_constraints
+
+# Raman shifts of molecular bands lie within ±4000 cm⁻¹; excitation lasers run from deep UV
+# (about 200 nm) to the near infrared (about 1100 nm) (common practice).
+SHIFT_CM1 = Span(-5000, 5000, "cm⁻¹")
+ANALYTE_RANGES = {
+    "qc_band_cm1": positive(5000, "cm⁻¹"), "qc_band_window_cm1": positive(2000, "cm⁻¹"),
+    "reference_band_cm1": positive(5000, "cm⁻¹"),
+    # A close-packed thiol monolayer holds about 4–7 molecules per nm² (from memory).
+    "surface_density_per_nm2": positive(20, "per nm²"),
+}
+ACQUISITION_RANGES = {
+    "measured_on": PastDate(), "laser_nm": Span(200, 2000, "nm"),
+    "power_mW": positive(5000, "mW"), "integration_s": positive(86_400, "s"),
+    "accumulations": Span(1, 10_000), "band_center_cm1": SHIFT_CM1,
+    "band_window_cm1": positive(2000, "cm⁻¹"),
+    "band_position_cm1": Span(-5000, 5000, "cm⁻¹", computed=True),
+    "band_fwhm_cm1": finite(1e6, "cm⁻¹"), "normalised_height_counts_per_mW_s": finite(),
+    "normalised_height_u_counts_per_mW_s": finite(),
+    "normalised_area_counts_cm1_per_mW_s": finite(),
+    "normalised_area_u_counts_cm1_per_mW_s": finite(), "snr": finite(),
+    "spikes_removed": Span(0, 1e9),
+}
+REFERENCE_RANGES = {
+    **ACQUISITION_RANGES,
+    "concentration_mol_L": positive(60, "mol/L"), "effective_height_um": positive(1e5, "µm"),
+    "effective_area_um2": positive(1e8, "µm²"), "concentration_rel_u": Span(0, 10),
+    "effective_height_rel_u": Span(0, 10),
+}
+QC_LIMIT_RANGES = {
+    "min_enhancement_factor": positive(1e15), "max_rsd_percent": positive(1000, "%"),
+    "min_snr": positive(1e6), "band_position_tolerance_cm1": positive(500, "cm⁻¹"),
+    "valid_days": Span(1, 3650, "days"), "min_map_points": Span(2, 1e6),
+}
+QC_MEASUREMENT_RANGES = {
+    **ACQUISITION_RANGES,
+    "map_nx": Span(1, 10_000), "map_ny": Span(1, 10_000), "map_step_um": positive(1e5, "µm"),
+    "n_points": Span(1, 1e7, computed=True), "median_height_counts_per_mW_s": finite(),
+    "rsd_percent": Span(0, 1e6, "%", computed=True), "fraction_within_20_percent": Span(0, 1),
+    # The largest single-molecule enhancement factors reported are about 10¹⁴ (from memory).
+    "enhancement_factor": positive(1e20, computed=True),
+    "enhancement_factor_u": Span(0, 1e21, computed=True),
+    "log10_enhancement_factor": finite(100), "log10_enhancement_factor_u": finite(100),
+    # Real over projected metal area: 1 for a flat film, up to a few hundred for rough metal.
+    "surface_area_factor": Span(1, 1000), "surface_area_factor_u": Span(0, 1000),
+}
 
 __all__ = ["IntensityMeasure", "QcLimitSet", "QcMeasurement", "ReferenceAnalyte",
            "ReferenceMeasurement"]
@@ -26,6 +72,8 @@ class ReferenceAnalyte(StampedRecord):
     reference measurement, when adsorption shifts it.
     ``lots`` are the reagent lots (kind reference analyte) that hold this molecule.
     """
+
+    RANGES = ANALYTE_RANGES
 
     name = models.CharField(max_length=120, unique=True)
     band_positions_cm1 = models.JSONField(default=list)
@@ -44,11 +92,7 @@ class ReferenceAnalyte(StampedRecord):
 
     class Meta:
         constraints = [
-            models.CheckConstraint(name="analyte_band_positive", condition=Q(qc_band_cm1__gt=0)),
-            models.CheckConstraint(name="analyte_window_positive",
-                                   condition=Q(qc_band_window_cm1__gt=0)),
-            models.CheckConstraint(name="analyte_density_positive",
-                                   condition=Q(surface_density_per_nm2__gt=0)),
+            *range_constraints("analyte", ANALYTE_RANGES),
         ]
 
     def __str__(self) -> str:
@@ -94,16 +138,6 @@ class _Acquisition(models.Model):
         abstract = True
 
 
-def _acquisition_constraints(prefix: str) -> list[models.BaseConstraint]:
-    return [
-        models.CheckConstraint(name=f"{prefix}_laser_positive", condition=Q(laser_nm__gt=0)),
-        models.CheckConstraint(name=f"{prefix}_power_positive", condition=Q(power_mW__gt=0)),
-        models.CheckConstraint(name=f"{prefix}_time_positive", condition=Q(integration_s__gt=0)),
-        models.CheckConstraint(name=f"{prefix}_accumulations_positive",
-                               condition=Q(accumulations__gte=1)),
-    ]
-
-
 class ReferenceMeasurement(_Acquisition, CodedRecord):
     """Non-enhanced Raman of the analyte at a known concentration, for enhancement factors.
 
@@ -113,6 +147,7 @@ class ReferenceMeasurement(_Acquisition, CodedRecord):
     """
 
     CODE_PREFIX = "REF"
+    RANGES = REFERENCE_RANGES
 
     concentration_mol_L = models.FloatField()
     effective_height_um = models.FloatField()
@@ -122,13 +157,7 @@ class ReferenceMeasurement(_Acquisition, CodedRecord):
 
     class Meta:
         constraints = [
-            *_acquisition_constraints("reference"),
-            models.CheckConstraint(name="reference_concentration_positive",
-                                   condition=Q(concentration_mol_L__gt=0)),
-            models.CheckConstraint(name="reference_height_positive",
-                                   condition=Q(effective_height_um__gt=0)),
-            models.CheckConstraint(name="reference_area_positive",
-                                   condition=Q(effective_area_um2__gt=0)),
+            *range_constraints("reference", REFERENCE_RANGES),
         ]
 
 
@@ -148,6 +177,8 @@ class QcLimitSet(StampedRecord):
     ``is_example`` marks shipped demo values that a lab must replace with its own.
     """
 
+    RANGES = QC_LIMIT_RANGES
+
     product_kind = models.CharField(max_length=12, choices=Substrate.Stage.choices)
     analyte = models.ForeignKey(ReferenceAnalyte, on_delete=models.PROTECT,
                                 related_name="limit_sets")
@@ -156,6 +187,8 @@ class QcLimitSet(StampedRecord):
     min_snr = models.FloatField(null=True, blank=True)
     band_position_tolerance_cm1 = models.FloatField()
     valid_days = models.PositiveIntegerField()
+    # A map of fewer points fails the uniformity limit: its RSD says nothing.
+    min_map_points = models.PositiveIntegerField(default=25)
     is_example = models.BooleanField(default=False)
     rationale = models.TextField(blank=True)
     intensity_measure = models.CharField(max_length=8, choices=IntensityMeasure.choices,
@@ -167,17 +200,7 @@ class QcLimitSet(StampedRecord):
                                    condition=Q(intensity_measure__in=IntensityMeasure.values)),
             models.UniqueConstraint(fields=["product_kind", "analyte"],
                                     name="one_limit_set_per_kind_and_analyte"),
-            models.CheckConstraint(name="limit_ef_positive",
-                                   condition=Q(min_enhancement_factor__isnull=True)
-                                   | Q(min_enhancement_factor__gt=0)),
-            models.CheckConstraint(name="limit_rsd_positive",
-                                   condition=Q(max_rsd_percent__isnull=True)
-                                   | Q(max_rsd_percent__gt=0)),
-            models.CheckConstraint(name="limit_snr_positive",
-                                   condition=Q(min_snr__isnull=True) | Q(min_snr__gt=0)),
-            models.CheckConstraint(name="limit_tolerance_positive",
-                                   condition=Q(band_position_tolerance_cm1__gt=0)),
-            models.CheckConstraint(name="limit_valid_days_positive", condition=Q(valid_days__gt=0)),
+            *range_constraints("limit", QC_LIMIT_RANGES),
         ]
 
     def __str__(self) -> str:
@@ -190,8 +213,8 @@ class QcLimitSet(StampedRecord):
             "analyte": self.analyte.name, "min_enhancement_factor": self.min_enhancement_factor,
             "max_rsd_percent": self.max_rsd_percent, "min_snr": self.min_snr,
             "band_position_tolerance_cm1": self.band_position_tolerance_cm1,
-            "valid_days": self.valid_days, "is_example": self.is_example,
-            "intensity_measure": self.intensity_measure,
+            "valid_days": self.valid_days, "min_map_points": self.min_map_points,
+            "is_example": self.is_example, "intensity_measure": self.intensity_measure,
         }
 
 
@@ -207,6 +230,7 @@ class QcMeasurement(_Acquisition, CodedRecord):
     """
 
     CODE_PREFIX = "QCM"
+    RANGES = QC_MEASUREMENT_RANGES
 
     substrate = models.ForeignKey("inventory.Substrate", on_delete=models.PROTECT,
                                   related_name="qc_measurements")
@@ -246,23 +270,11 @@ class QcMeasurement(_Acquisition, CodedRecord):
         ordering = ["-measured_on", "-id"]
         indexes = [models.Index(fields=["substrate", "product_kind", "measured_on"])]
         constraints = [
-            *_acquisition_constraints("qc"),
-            models.CheckConstraint(name="qc_map_grid_positive",
-                                   condition=(Q(map_nx__isnull=True) | Q(map_nx__gt=0))
-                                   & (Q(map_ny__isnull=True) | Q(map_ny__gt=0))
-                                   & (Q(map_step_um__isnull=True) | Q(map_step_um__gt=0))),
-            models.CheckConstraint(name="qc_surface_area_factor_range",
-                                   condition=Q(surface_area_factor__isnull=True)
-                                   | (Q(surface_area_factor__gte=1)
-                                      & Q(surface_area_factor__lte=1000))),
+            *range_constraints("qc", QC_MEASUREMENT_RANGES),
             models.CheckConstraint(name="qc_ef_has_surface_area_origin",
                                    condition=Q(enhancement_factor__isnull=True)
                                    | (Q(surface_area_factor__isnull=False)
                                       & ~Q(surface_area_origin=""))),
             models.CheckConstraint(name="qc_measurement_measure_known",
                                    condition=Q(intensity_measure__in=IntensityMeasure.values)),
-            models.CheckConstraint(name="qc_fraction_range",
-                                   condition=Q(fraction_within_20_percent__isnull=True)
-                                   | (Q(fraction_within_20_percent__gte=0)
-                                      & Q(fraction_within_20_percent__lte=1))),
         ]

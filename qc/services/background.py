@@ -92,7 +92,8 @@ def qc_measurement_submit(*, actor: User | None, request: QcImportRequest | None
         return qc_measurement_import(actor=actor, request=request)
     checked = qc_import_check(actor=actor, request=request)
     read_upload_checks(request)
-    refuse_qc_reimport(checked.substrate, request.content)
+    refuse_qc_reimport(checked.substrate, request.content,
+                       shared=request.shared_measurement)
     digest = sha256_of(request.content)
     _refuse_pending_duplicate(checked.substrate, digest)
     pending = QcImport(created_by=actor, substrate=checked.substrate,
@@ -161,7 +162,8 @@ def qc_import_run(pending_id, *, worker: str | None = None) -> str | None:
             if locked.measurement_id is not None or locked.claimed_by != worker:
                 return None  # another worker took over after our lease ran out and finished
             checked = qc_import_check(actor=actor, request=request)  # inputs re-read, locked
-            refuse_qc_reimport(checked.substrate, request.content)
+            refuse_qc_reimport(checked.substrate, request.content,
+                               shared=request.shared_measurement)
             measurement = qc_import_record(actor=actor, request=request, checked=checked,
                                            is_map=is_map, band=band)
             locked.measurement = measurement

@@ -31,12 +31,14 @@ from inventory.roles import ADMINISTRATOR, MAKER, require_role
 from inventory.services import flag_raise, sha256_of
 from inventory.services.toolkit import User
 from inventory.services.toolkit import check_upload as _check_upload
+from inventory.services.toolkit import check_values as _check_values
 from inventory.services.toolkit import files_removed_if_failed as _files_removed_if_failed
 from inventory.services.toolkit import link as _link
 from inventory.services.toolkit import require_not_future as _require_not_future
 from inventory.services.toolkit import save_changed as _save_changed
 from inventory.services.toolkit import save_new as _save_new
 from inventory.services.toolkit import stamp_history as _stamp_history
+from inventory.services.toolkit import validate as _validate
 from qc.analysis import gold_haiss, silver_calibration
 from qc.analysis.colloid_stability import (
     ColloidSnapshot,
@@ -114,7 +116,7 @@ def colloid_limit_set_set(
     limits.is_example = is_example
     limits.rationale = rationale
     limits.updated_by = actor
-    limits.full_clean()
+    _validate(limits)
     _stamp_history(limits, actor=actor, reason=rationale)
     limits.save()
     return limits
@@ -149,7 +151,7 @@ def silver_calibration_record(
     table = SilverCalibration(name=name, provenance=provenance,
                               rows=rows,
                               created_by=actor, updated_by=actor)
-    table.full_clean()
+    _validate(table)
     _stamp_history(table, actor=actor, reason=provenance)
     table.save()
     return table
@@ -190,6 +192,8 @@ def uvvis_record_import(
     if batch.metal not in ColloidMetal.values:
         raise refusal("batch", f"{batch.code} is a {batch.metal} colloid; UV-vis sizing covers "
                                "silver (Ag) and gold (Au) only.", "unsupported_metal")
+    _check_values(UvVisRecord, {"measured_on": measured_on, "dilution_factor": dilution_factor,
+                                "path_length_cm": path_length_cm})
     digest = sha256_of(content)
     existing = UvVisRecord.objects.filter(batch=batch, raw_sha256=digest).first()
     if existing is not None:
@@ -572,3 +576,20 @@ def _flag_breaches(actor, batch: NanoparticleBatch, record: UvVisRecord,
         breach["flag_code"], breach["flag_raised"] = flag.code, True
         flags.append(flag)
     return flags
+
+
+def uvvis_mark_stale_on_amend(*, actor: User | None, record, changed: dict, why: str) -> None:
+    """``SERSLEDGER_AMEND_HOOKS``: a colloid's metal decides its UV-vis figures.
+
+    Gold is sized by Haiss et al. (2007), silver by a calibration table; the Mie fit's
+    optical constants and the limit set are the metal's too.  Working them out again needs
+    the spectrum re-imported, so an amended metal marks every live record of the batch stale
+    with the reason (readiness then reports it) rather than leaving old-metal numbers current.
+    """
+    if not isinstance(record, NanoparticleBatch) or "metal" not in changed:
+        return
+    for uvvis in UvVisRecord.objects.select_for_update().filter(batch=record,
+                                                                voided_at__isnull=True):
+        uvvis.stale_reason = (f"{why}; its sizes, concentration and limits were worked out "
+                              "for the old metal: import the spectrum again.")
+        _save_changed(uvvis, actor=actor, reason=f"figures stale: {why}")

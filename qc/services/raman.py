@@ -24,6 +24,7 @@ from inventory.roles import MAKER, require_role
 from inventory.services import flag_raise, record_release, record_transition, sha256_of
 from inventory.services.toolkit import User, lock
 from inventory.services.toolkit import check_substrates_usable as _check_substrates_usable
+from inventory.services.toolkit import check_values as _check_values
 from inventory.services.toolkit import files_removed_if_failed as _files_removed_if_failed
 from inventory.services.toolkit import link as _link
 from inventory.services.toolkit import require_kind as _require_kind
@@ -105,6 +106,8 @@ class QcImportRequest(_Acquisition):
     surface_area_source: str = ""
     surface_area_assumed_one: bool = False
     film_height_rel_u: float = FILM_HEIGHT_REL_U_DEFAULT
+    # One file that really measured several substrates (else a reused file is refused).
+    shared_measurement: bool = False
 
     def coverage(self, analyte: ReferenceAnalyte, substrate: Substrate) -> SurfaceCoverage:
         """Surface coverage for the EF: the analyte's monolayer density unless given, and
@@ -178,6 +181,18 @@ def _refuse_reimport(earlier, content: bytes) -> None:
         raise refusal(FILE_FIELD, f"This file (sha256 {digest[:12]}…) was already imported as "
                                   f"{same.code} on {same.measured_on.isoformat()}.",
                       "duplicate_file")
+
+
+def _refuse_reuse(substrate: Substrate, content: bytes) -> None:
+    """One map file passed off as QC of several substrates, unless said to be shared."""
+    digest = sha256_of(content)
+    other = (QcMeasurement.objects.filter(raw_sha256=digest, voided_at__isnull=True)
+             .exclude(substrate=substrate).select_related("substrate").first())
+    if other is not None:
+        raise refusal(FILE_FIELD, f"This file (sha256 {digest[:12]}…) is already the QC of "
+                                  f"{other.substrate.code} ({other.code}); a map measures one "
+                                  "substrate.  If it really is one measurement of several "
+                                  "substrates, say so with shared_measurement.", "file_reused")
 
 
 
@@ -269,8 +284,11 @@ def qc_import_check(*, actor: User | None, request: QcImportRequest) -> CheckedQ
     substrate = Substrate.objects.get(pk=request.substrate.pk)
     analyte = _check_acquisition(request)
     _check_substrates_usable([substrate], role="a QC substrate", on_date=request.measured_on,
-                             field="substrate")
+                             field="substrate", date_field="measured_on")
     _check_reference(request, analyte)
+    _check_values(ReferenceAnalyte, {"surface_density_per_nm2": (
+        analyte.surface_density_per_nm2 if request.surface_density_per_nm2 is None
+        else request.surface_density_per_nm2)})
     return CheckedQcImport(substrate, analyte, limit_set_for(substrate, analyte))
 
 
@@ -293,9 +311,13 @@ def qc_import_analyse(request: QcImportRequest, checked: CheckedQcImport, *,
     return isinstance(data, RamanMap), band
 
 
-def refuse_qc_reimport(substrate: Substrate, content: bytes) -> None:
-    """The same file twice on one substrate would count one measurement twice."""
+def refuse_qc_reimport(substrate: Substrate, content: bytes, *, shared: bool = False) -> None:
+    """The same file twice on one substrate would count one measurement twice, and one map
+    passed off as QC of several substrates would vouch for pieces it never measured
+    (unless the maker says it is one shared measurement)."""
     _refuse_reimport(QcMeasurement.objects.filter(substrate=substrate), content)
+    if not shared:
+        _refuse_reuse(substrate, content)
 
 
 def qc_import_record(*, actor: User | None, request: QcImportRequest,
@@ -311,7 +333,8 @@ def qc_import_record(*, actor: User | None, request: QcImportRequest,
     reasons = qc_judge(limits=limits, band_center_cm1=analyte.qc_band_cm1,
                        band_position_cm1=band.band_position_cm1, snr=band.snr,
                        rsd_percent=band.rsd_percent,
-                       enhancement_factor=factor.value if factor else None)
+                       enhancement_factor=factor.value if factor else None,
+                       n_points=band.n_points)
     if band.band_limit_note:
         reasons.append(f"The band fit is not a measurement: {band.band_limit_note}.")
     measurement = QcMeasurement(
@@ -357,7 +380,8 @@ def qc_measurement_import(*, actor: User | None, request: QcImportRequest | None
     request = request or QcImportRequest(**parameters)
     checked = qc_import_check(actor=actor, request=request)
     read_upload_checks(request)
-    refuse_qc_reimport(checked.substrate, request.content)
+    refuse_qc_reimport(checked.substrate, request.content,
+                       shared=request.shared_measurement)
     is_map, band = qc_import_analyse(request, checked, progress=progress)
     if progress:
         progress("judging")

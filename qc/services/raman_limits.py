@@ -16,6 +16,7 @@ from inventory.roles import ADMINISTRATOR, require_role
 from inventory.services.toolkit import User
 from inventory.services.toolkit import require_kind as _require_kind
 from inventory.services.toolkit import stamp_history as _stamp_history
+from inventory.services.toolkit import validate as _validate
 
 from ..models.raman import QcLimitSet, ReferenceAnalyte
 
@@ -44,7 +45,7 @@ def reference_analyte_define(
         qc_band_window_cm1=qc_band_window_cm1, reference_band_cm1=reference_band_cm1,
         surface_density_per_nm2=surface_density_per_nm2,
         surface_density_source=surface_density_source, created_by=actor, updated_by=actor)
-    analyte.full_clean()
+    _validate(analyte)
     _stamp_history(analyte, actor=actor, reason="")
     analyte.save()
     analyte.lots.set(lots)
@@ -58,6 +59,7 @@ def qc_limit_set_define(
     min_enhancement_factor: float | None = None, max_rsd_percent: float | None = None,
     min_snr: float | None = None, is_example: bool = False, rationale: str = "",
     intensity_measure: str = "height",
+    min_map_points: int = 25,
 ) -> QcLimitSet:
     """Create or replace the limits for one product kind tested with one analyte.
 
@@ -71,13 +73,14 @@ def qc_limit_set_define(
     values = dict(band_position_tolerance_cm1=band_position_tolerance_cm1,
                   valid_days=valid_days, min_enhancement_factor=min_enhancement_factor,
                   max_rsd_percent=max_rsd_percent, min_snr=min_snr, is_example=is_example,
-                  rationale=rationale, intensity_measure=intensity_measure)
+                  rationale=rationale, intensity_measure=intensity_measure,
+                  min_map_points=min_map_points)
     for name, value in values.items():
         setattr(limits, name, value)
     limits.updated_by = actor
     if limits.pk:
         limits.version += 1
-    limits.full_clean()
+    _validate(limits)
     _stamp_history(limits, actor=actor, reason=rationale)
     limits.save()
     return limits
@@ -85,10 +88,12 @@ def qc_limit_set_define(
 
 def qc_judge(*, limits: QcLimitSet, band_center_cm1: float, band_position_cm1: float,
              snr: float, rsd_percent: float | None,
-             enhancement_factor: float | None) -> list[str]:
+             enhancement_factor: float | None, n_points: int = 1) -> list[str]:
     """Every reason the figures fail the limits; empty when they pass.
 
-    Limits are inclusive: a value exactly at a limit passes.
+    Limits are inclusive: a value exactly at a limit passes.  A map (``rsd_percent`` given)
+    with fewer than the lab's ``min_map_points`` says nothing about uniformity, so it fails
+    the uniformity limit whatever its RSD.
     """
     reasons = []
     offset = abs(band_position_cm1 - band_center_cm1)
@@ -99,6 +104,10 @@ def qc_judge(*, limits: QcLimitSet, band_center_cm1: float, band_position_cm1: f
     if limits.min_snr is not None and not snr >= limits.min_snr:
         reasons.append(f"S/N {snr:.1f} is below the minimum {limits.min_snr:g}.")
     if limits.max_rsd_percent is not None and rsd_percent is not None \
+            and n_points < limits.min_map_points:
+        reasons.append(f"A map of {n_points} points cannot show uniformity; the lab's "
+                       f"minimum is {limits.min_map_points} points.")
+    elif limits.max_rsd_percent is not None and rsd_percent is not None \
             and not rsd_percent <= limits.max_rsd_percent:
         reasons.append(f"Uniformity RSD {rsd_percent:.1f} % exceeds the maximum "
                        f"{limits.max_rsd_percent:g} %.")

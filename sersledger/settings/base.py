@@ -190,6 +190,12 @@ SERSLEDGER_READINESS_PROVIDERS = [
 
 # Extra rules a release must pass, as dotted paths to ``check(record) -> note or None``
 # that raise ValidationError to refuse (inventory.services.record_release).
+# Called in the transaction of every amendment with the fields that changed, to recompute or
+# mark stale the figures another app derived from them (inventory.services.derived).
+SERSLEDGER_AMEND_HOOKS = [
+    "qc.services.colloid.uvvis_mark_stale_on_amend",
+]
+
 SERSLEDGER_RELEASE_CHECKS = [
     "qc.services.raman.substrate_release_check",
 ]

@@ -65,14 +65,13 @@ def test_parse_errors_use_the_same_shape(chain, clients):
 
 
 def test_model_constraint_refusal_is_reported_for_the_request(chain, clients):
-    # solids above 100 % breaks the sphere_solids_range check constraint (full_clean).
+    # solids above 100 % is outside the field's range (inventory.models.ranges).
     response = clients["maker"].post("/api/v1/sphere-lots/", {
         "material": "silica", "nominal_diameter_nm": 400, "solids_percent_w_v": 120,
         "received_on": chain.day(1).isoformat()}, format="json")
     assert response.status_code == 400
     [error] = response.json()["errors"]
-    # Django reports a check constraint without a field; the API names the field it guards.
-    assert error["field"] == "solids_percent_w_v" and "sphere_solids_range" in error["message"]
+    assert error["field"] == "solids_percent_w_v" and "at most 100 % w/v" in error["message"]
 
 
 def test_unknown_code_and_wrong_kind_are_404_in_the_error_shape(chain, clients):

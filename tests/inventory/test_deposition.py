@@ -191,7 +191,7 @@ def test_tolerance_must_be_positive_and_for_a_known_metal(chain):
     with pytest.raises(ValidationError) as error:
         chain.s.deposition_tolerance_set(actor=None,
                                          max_abs_deviation_height_over_diameter=0)
-    assert "deposition_tolerance_positive" in str(error.value)
+    assert set(error.value.error_dict) == {"max_abs_deviation_height_over_diameter"}
     with pytest.raises(ValidationError) as error:
         chain.s.deposition_tolerance_set(actor=None, metal="Xx",
                                          max_abs_deviation_height_over_diameter=0.1)

@@ -162,7 +162,8 @@ def test_reasons_read_only_the_ancestor_fields_the_check_loads(chain):
     """Ancestors are loaded with ANCESTOR_FIELDS only; a reason reading another field would
     cost one query per ancestor.  Here every inventory reason about ancestors fires, and the
     count is exactly: substrate, lineage walk, one query per record kind reached, flags,
-    shelf-life rules, and the providers' own (qc: its limits)."""
+    shelf-life rules, and the providers' own (qc: its limits, and the stale UV-vis figures of
+    the colloid upstream)."""
     chain.s.shelf_life_rule_set(actor=None, record_kind="linkerlayer", shelf_life_days=1,
                                 counted_from="made")
     batch = chain.batch(release=False)
@@ -175,4 +176,4 @@ def test_reasons_read_only_the_ancestor_fields_the_check_loads(chain):
         result = substrate_check_readiness(substrate.code)
     assert {"colloid_not_released", "linker_layer_too_old", "voided",
             "upstream_rejected"} <= set(codes(result))
-    assert len(captured) == 2 + len(kinds) + 2 + 1
+    assert len(captured) == 2 + len(kinds) + 2 + 1 + 1

@@ -75,7 +75,8 @@ def _qc(chain, substrate, lot, reference, filename):
     return qc_measurement_import(actor=chain.maker, substrate=substrate, analyte_lot=lot,
                                  filename=filename, content=fixture_bytes("raman", filename),
                                  measured_on=chain.day(1), reference=reference,
-                                 surface_area_assumed_one=True, **MAP_SETTINGS)
+                                 surface_area_assumed_one=True, shared_measurement=True,
+                                 **MAP_SETTINGS)
 
 
 def build_lab(chain, users) -> Lab:

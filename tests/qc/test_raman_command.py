@@ -26,7 +26,8 @@ def _run(world, substrate, path, *extra, area=("--assume-surface-area-one",)):
     call_command("import_qc", substrate.code, str(path), "--analyte-lot", world.lot.code,
                  "--laser-nm", "785", "--power-mw", "5", "--integration-s", "2",
                  "--reference", world.reference.code,
-                 "--measured-on", world.chain.day(1).isoformat(), *area, *extra, stdout=out)
+                 "--measured-on", world.chain.day(1).isoformat(), "--shared-measurement",
+                 *area, *extra, stdout=out)
     return out.getvalue()
 
 

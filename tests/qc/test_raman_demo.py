@@ -79,7 +79,7 @@ def test_a_dataset_on_a_failed_substrate_gets_a_review_notice(demo):
     failed = qc_measurement_import(
         actor=None, substrate=ready_b, analyte_lot=demo.lots["analyte"], filename="again.csv",
         content=(FIXTURES / "nonuniform_substrate_map.csv").read_bytes(),
-        measured_on=demo.today, **MAP_SETTINGS)
+        measured_on=demo.today, shared_measurement=True, **MAP_SETTINGS)
     notices = datasets_needing_review(category="qc")
     assert [(n.dataset_code, n.flagged_record_code) for n in notices] == [
         (dataset.code, ready_b.code)]

@@ -117,6 +117,10 @@ class QcMeasurementForm(_RamanForm):
               "an upper bound and says so)", required=False)
     surface_density_rel_u = number("Relative standard uncertainty of the monolayer density "
                                    "(fraction)", initial=0.0)
+    shared_measurement = forms.BooleanField(
+        required=False, label="This one file measured several substrates",
+        help_text="Tick only if so: a file already the QC of another substrate is otherwise "
+                  "refused.")
 
     def add_choices(self):
         self.fields["substrate"] = CodeChoiceField(

@@ -47,6 +47,9 @@ class Command(BaseCommand):
                             help="where the entered surface-area factor comes from")
         parser.add_argument("--assume-surface-area-one", action="store_true",
                             help="assume a surface-area factor of 1 (recorded as assumed)")
+        parser.add_argument("--shared-measurement", action="store_true",
+                            help="this one file measured several substrates (a file already "
+                                 "the QC of another substrate is otherwise refused)")
         parser.add_argument("--user", help="username recorded as the actor")
         parser.add_argument("--json", action="store_true", help="print one JSON object")
 
@@ -76,13 +79,13 @@ class Command(BaseCommand):
                 objective=options["objective"], reference=reference,
                 surface_area_factor=options["surface_area_factor"],
                 surface_area_source=options["surface_area_source"],
-                surface_area_assumed_one=options["assume_surface_area_one"])
+                surface_area_assumed_one=options["assume_surface_area_one"],
+                shared_measurement=options["shared_measurement"])
         summary = qc_measurement_summary(measurement)
         if options["json"]:
             self.stdout.write(json.dumps(summary, indent=2))
         else:
             self._print(summary)
-
 
     def _print(self, summary: dict) -> None:
         verdict = "PASS" if summary["passed"] else "FAIL"
