@@ -32,6 +32,7 @@ INSTALLED_APPS = [
     "inventory",
     "qc",
     "insight",
+    "exchange",
 ]
 
 MIDDLEWARE = [
