@@ -134,7 +134,24 @@ class ImportContext:
         self.source = ""
         self.new_keys: dict[tuple[str, str], str] = {}  # (kind, key) -> code, this file
         self.rows_by_key: dict[str, int] = {}
+        self.rows_by_lot: dict[tuple, int] = {}
         self._saved_keys: dict[str, dict[str, str]] = {}
+        self._lot_numbers: dict[tuple, str] | None = None
+
+    def lot_numbers(self) -> dict[tuple, str]:
+        """(supplier, supplier lot) -> code of the kind's lots, read once per run."""
+        if self._lot_numbers is None:
+            fields = self.kind.lot_number
+            self._lot_numbers = {tuple(row[:-1]): row[-1] for row in
+                                 self.kind.model.objects.values_list(*fields, "code")}
+        return self._lot_numbers
+
+    def remember(self, key: str, record, values: dict) -> None:
+        code = getattr(record, "code", None)
+        if key and code:
+            self.new_keys[(self.kind.name, key)] = code
+        if code and self.kind.lot_number and self._lot_numbers is not None:
+            self._lot_numbers[tuple(values.get(n) or "" for n in self.kind.lot_number)] = code
 
     def code_for(self, kind_name: str, key: str) -> str | None:
         """The record a lab's key or code stands for: this file, earlier imports, our codes."""
@@ -222,8 +239,8 @@ def _find_existing(kind: Kind, values: dict, key: str, ctx: ImportContext):
         except CellError:
             pass
     if kind.lot_number and values.get(kind.lot_number[-1]):
-        match = {name: values.get(name) or "" for name in kind.lot_number}
-        return kind.model.objects.filter(**match).first()
+        code = ctx.lot_numbers().get(tuple(values.get(name) or "" for name in kind.lot_number))
+        return None if code is None else kind.model.objects.get(code=code)
     return None
 
 
@@ -275,6 +292,13 @@ def _apply_row(kind: Kind, row, plans: list[ColumnPlan], ctx: ImportContext,
                                    f"ID '{key}'", "duplicate"))
         else:
             ctx.rows_by_key[key] = row.number
+    lot_number = tuple(values.get(n) or "" for n in kind.lot_number)
+    if kind.lot_number and lot_number[-1]:
+        first = ctx.rows_by_lot.setdefault(lot_number, row.number)
+        if first != row.number:
+            errors.append(RowError(row.number, _error_column(kind, plans, kind.lot_number[-1]),
+                                   f"duplicate: row {first} has the same lot number "
+                                   f"'{lot_number[-1]}'", "duplicate"))
     if errors:
         report.errors.extend(errors)
         return
@@ -300,8 +324,7 @@ def _apply_row(kind: Kind, row, plans: list[ColumnPlan], ctx: ImportContext,
     except CellError as error:
         report.errors.append(RowError(row.number, "", error.message, error.code))
         return
-    if key and getattr(record, "code", None):
-        ctx.new_keys[(kind.name, key)] = record.code
+    ctx.remember(key, record, values)
     {"create": report.created, "change": report.changed,
      "unchanged": report.unchanged}[outcome.action].append(outcome)
 

@@ -51,8 +51,8 @@ def max_bytes() -> int:
 def read_sheet(content: bytes, *, file_name: str, sheet_name: str | None = None) -> Sheet:
     """The first visible worksheet (or ``sheet_name``) of an xlsx, or a CSV, as rows."""
     if len(content) > max_bytes():
-        raise refusal("file", f"{file_name} is {len(content) / 1e6:.1f} MB; the limit is "
-                              f"{max_bytes() / 1e6:.0f} MB. Split the sheet into parts.",
+        raise refusal("file", f"{file_name} is {len(content) / 2**20:.1f} MB; the limit is "
+                              f"{max_bytes() / 2**20:.0f} MB. Split the sheet into parts.",
                       "file_too_large")
     if not content.strip():
         raise refusal("file", f"{file_name} is empty.", "empty_sheet")
