@@ -228,6 +228,15 @@ def _same(old, new) -> bool:
     return str(old) == str(new) if not isinstance(old, date) else old == new
 
 
+def _parents_agree(kind: Kind, record, values: dict) -> bool:
+    for column in kind.columns:
+        given = values.get(column.field)
+        if column.type == "ref" and given is not None:
+            if getattr(record, f"{column.field}_id", None) != given.pk:
+                return False
+    return True
+
+
 def _find_existing(kind: Kind, values: dict, key: str, ctx: ImportContext):
     if kind.find is not None:
         found = kind.find(values, ctx)
@@ -235,9 +244,13 @@ def _find_existing(kind: Kind, values: dict, key: str, ctx: ImportContext):
             return found
     if key:
         try:
-            return ctx.resolve(kind.name, key)
+            record = ctx.resolve(kind.name, key)
         except CellError:
-            pass
+            record = None
+        # A code from another site's export can name a different record here: it matches
+        # only if the parent columns the row gives agree with the record's.
+        if record is not None and _parents_agree(kind, record, values):
+            return record
     if kind.lot_number and values.get(kind.lot_number[-1]):
         code = ctx.lot_numbers().get(tuple(values.get(name) or "" for name in kind.lot_number))
         return None if code is None else kind.model.objects.get(code=code)

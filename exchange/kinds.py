@@ -392,6 +392,9 @@ def _purchased_piece(values, ctx):
     (piece,) = services.substrate_receive(actor=ctx.actor, purchased_lot=values["purchased_lot"],
                                           pieces=1, received_on=values["made_on"])
     changes = {name: values[name] for name in ("area_cm2", "notes") if values.get(name)}
+    number = _piece_number(values.get("piece_label") or "")
+    if number and piece.piece_label != f"{values['purchased_lot'].code}/{number}":
+        changes["piece_label"] = f"{values['purchased_lot'].code}/{number}"
     if changes:
         piece = services.record_amend(actor=ctx.actor, record=piece, changes=changes,
                                       reason=ctx.source, expected_version=piece.version)
