@@ -153,6 +153,8 @@ SERSLEDGER_EXPORT_MAX_ROWS = 50_000
 # exchange digest: stock expiring within this many days; colloids re-measured this often.
 SERSLEDGER_EXPIRY_WARNING_DAYS = 14
 SERSLEDGER_COLLOID_REMEASURE_DAYS = 7
+# The digest's sender; development prints mail to the console, production sends by SMTP.
+DEFAULT_FROM_EMAIL = os.environ.get("SERSLEDGER_FROM_EMAIL", "sersledger@localhost")
 
 # Extra readiness reasons contributed by other apps, as dotted paths to callables
 # ``provider(substrate, ancestry) -> list[Reason]``.  Inventory never imports them directly.
