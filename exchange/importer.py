@@ -82,8 +82,13 @@ class ColumnPlan:
 
 
 def plan_columns(kind: Kind, headers: list[str], *, file_name: str,
-                 overrides: dict[str, str] | None = None) -> tuple[list[ColumnPlan], list[str]]:
-    """Which header fills which column (known variants, then the lab's saved mapping)."""
+                 overrides: dict[str, str] | None = None,
+                 ) -> tuple[list[ColumnPlan], list[str], list[str]]:
+    """Which header fills which column (known variants, then the lab's saved mapping).
+
+    Returns the plans, the headers not recognised, and the required columns no header
+    gives; a required column missing with nothing left to map is refused outright.
+    """
     variants = {variant: column for column in kind.columns for variant in header_variants(column)}
     saved = dict(ColumnMapping.objects.filter(kind=kind.name).values_list("header", "field"))
     saved.update(overrides or {})
@@ -107,11 +112,10 @@ def plan_columns(kind: Kind, headers: list[str], *, file_name: str,
         taken[column.field] = header
         plans.append(ColumnPlan(index, header, column, _header_factor(column, header, file_name)))
     missing = [c.header for c in kind.columns if c.required and c.field not in taken]
-    if missing:
-        raise refusal("file", f"{file_name}: no column for {', '.join(missing)}"
-                              + (f" (columns not recognised: {', '.join(unmapped)}; map them)"
-                                 if unmapped else "") + ".", "missing_column")
-    return plans, unmapped
+    if missing and not unmapped:
+        raise refusal("file", f"{file_name}: no column for {', '.join(missing)}.",
+                      "missing_column")
+    return plans, unmapped, missing
 
 
 def _header_factor(column: Column, header: str, file_name: str) -> float:
@@ -369,11 +373,17 @@ def import_sheet(*, kind: str, content: bytes, file_name: str, actor, commit: bo
     if len(sheet.rows) > MAX_ROWS:
         raise refusal("file", f"{file_name} has {len(sheet.rows)} rows; import at most "
                               f"{MAX_ROWS} at a time.", "too_many_rows")
-    plans, unmapped = plan_columns(spec, sheet.headers, file_name=file_name, overrides=mapping)
+    plans, unmapped, missing = plan_columns(spec, sheet.headers, file_name=file_name,
+                                            overrides=mapping)
     digest = hashlib.sha256(content).hexdigest()
     report = ImportReport(kind=kind, file_name=file_name, sha256=digest, rows=len(sheet.rows),
                           columns={p.header: p.column.field for p in plans},
                           unmapped_headers=unmapped)
+    if missing:
+        report.errors.append(RowError(1, "", f"no column gives {', '.join(missing)}; say which "
+                                             f"of {', '.join(unmapped)} does (map the columns)",
+                                      "missing_column"))
+        return report
     ctx = ImportContext(spec, actor, file_name=file_name, sha256=digest)
     with transaction.atomic():
         for row in sheet.rows:

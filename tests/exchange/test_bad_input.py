@@ -131,7 +131,14 @@ def test_a_viewer_cannot_import(viewer, today):
 
 
 def test_a_missing_required_column_is_refused_naming_it(maker, today):
+    content = csv_bytes([["Material", "Solids (%)", "Received on"],
+                         ["polystyrene", 10, "2026-05-01"]])
+    assert "Nominal diameter (nm)" in refused(content, "lots.csv", actor=maker)["file"][0]
+
+
+def test_a_missing_column_with_unknown_headers_asks_for_a_mapping(maker, today):
     content = csv_bytes([["Material", "Solids (%)", "Received on", "Colour"],
                          ["polystyrene", 10, "2026-05-01", "white"]])
-    message = refused(content, "lots.csv", actor=maker)["file"][0]
-    assert "Nominal diameter (nm)" in message and "Colour" in message
+    (error,) = run(content, "lots.csv", actor=maker).errors
+    assert (error.row, error.code) == (1, "missing_column")
+    assert "Nominal diameter (nm)" in error.reason and "Colour" in error.reason
