@@ -16,7 +16,7 @@ own pagination handling and know nothing of the project's units.
 from __future__ import annotations
 
 from django.conf import settings
-from rest_framework.renderers import BaseRenderer
+from rest_framework.renderers import BaseRenderer, JSONRenderer
 
 from inventory.api.units import unit_of
 
@@ -53,11 +53,9 @@ def _cell_text(item) -> str:
 
 
 def as_table(data) -> tuple[list[str], list[list]]:
-    """API data (a page, a list, one record or an error body) as headers and rows."""
+    """API data (a page, a list or one record) as headers and rows."""
     if isinstance(data, dict) and "results" in data and isinstance(data["results"], list):
         records = data["results"]
-    elif isinstance(data, dict) and isinstance(data.get("errors"), list):
-        records = data["errors"]
     elif isinstance(data, list):
         records = data
     else:
@@ -82,6 +80,10 @@ class _TableRenderer(BaseRenderer):
             return b""
         context = renderer_context or {}
         response, view = context.get("response"), context.get("view")
+        if response is not None and response.status_code >= 400:
+            # A refusal keeps the one error shape, as JSON, whatever table was asked for.
+            response["Content-Type"] = "application/json"
+            return JSONRenderer().render(data)
         if response is not None:
             name = getattr(view, "basename", None) or "records"
             response["Content-Disposition"] = f'attachment; filename="{name}.{self.format}"'

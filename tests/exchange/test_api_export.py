@@ -65,9 +65,9 @@ def test_an_export_holds_every_matching_row_up_to_the_cap(api, lots, settings):
     assert len(read_csv(response)) == 3 and "X-Export-Truncated" not in response
 
 
-def test_json_stays_the_default_and_errors_keep_their_shape_in_csv(api, lots):
+def test_json_stays_the_default_and_a_refusal_stays_json_in_the_one_error_shape(api, lots):
     assert api.get("/api/v1/sphere-lots/")["Content-Type"] == "application/json"
     response = api.get("/api/v1/sphere-lots/?format=csv&cursor=not-ours")
-    assert response.status_code == 400
-    (error,) = read_csv(response)
+    assert response.status_code == 400 and response["Content-Type"] == "application/json"
+    (error,) = response.json()["errors"]
     assert error["field"] == "cursor" and "Start again" in error["message"]
