@@ -22,7 +22,8 @@ UNITS: dict[str, tuple[str, float]] = {
     "m_conc": ("concentration", 1.0),
     "h": ("time", 3600.0), "min": ("time", 60.0), "s": ("time", 1.0),
     "v": ("potential", 1.0), "mv": ("potential", 1e-3),
-    "ma": ("current", 1e-3), "a": ("current", 1.0), "µa": ("current", 1e-6), "ua": ("current", 1e-6),
+    "ma": ("current", 1e-3), "a": ("current", 1.0), "µa": ("current", 1e-6),
+    "ua": ("current", 1e-6),
     "%": ("percent", 1.0), "c": ("charge", 1.0), "mc": ("charge", 1e-3),
 }
 # Concentration symbols clash with lengths (mM vs mm, µM vs µm) only in lower case.

@@ -20,9 +20,17 @@ from django.db import transaction
 from inventory.codes import RecordNotFound, record_get
 from inventory.errors import refusal
 from inventory.roles import MAKER, require_role
-from inventory.services import record_amend, amendable_fields
+from inventory.services import amendable_fields, record_amend
 
-from .cells import CellError, conversion, read_choice, read_date, read_number, read_text, split_header
+from .cells import (
+    CellError,
+    conversion,
+    read_choice,
+    read_date,
+    read_number,
+    read_text,
+    split_header,
+)
 from .kinds import KINDS, Column, Kind, header_variants, normalise
 from .models import ColumnMapping, SheetKey
 from .provenance import sheet_source, source_text
@@ -235,9 +243,9 @@ def _same(old, new) -> bool:
 def _parents_agree(kind: Kind, record, values: dict) -> bool:
     for column in kind.columns:
         given = values.get(column.field)
-        if column.type == "ref" and given is not None:
-            if getattr(record, f"{column.field}_id", None) != given.pk:
-                return False
+        if column.type == "ref" and given is not None \
+                and getattr(record, f"{column.field}_id", None) != given.pk:
+            return False
     return True
 
 

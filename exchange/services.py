@@ -17,8 +17,8 @@ from django.utils import timezone
 from inventory.errors import refusal
 from inventory.models import NanoparticleBatch, Substrate
 from inventory.roles import MAKER, VIEWER, require_role
-from inventory.services._common import User, _require_not_future, _stamp_history
 from inventory.services.lifecycle import check_not_voided
+from inventory.services.toolkit import User, require_not_future, stamp_history
 from qc.analysis.uvvis import PlasmonBand
 from qc.services.colloid import uvvis_sizes_from_band
 
@@ -37,7 +37,7 @@ def _check_figures(figures: dict[str, float | None], *, parent, day: date,
     for field, value in figures.items():
         if value is not None and not math.isfinite(value):
             raise refusal(field, f"{value} is not a finite number.", "not_finite")
-    _require_not_future(day, field=date_field)
+    require_not_future(day, field=date_field)
     check_not_voided(parent)
     if day < parent.made_on:
         raise refusal(date_field, f"{parent.code} was made on {parent.made_on.isoformat()}, "
@@ -48,7 +48,7 @@ def _save(record, *, actor: User | None, reason: str) -> None:
     record.created_by = record.created_by or actor
     record.updated_by = actor
     record.full_clean()
-    _stamp_history(record, actor=actor, reason=reason)
+    stamp_history(record, actor=actor, reason=reason)
     record.save()
 
 

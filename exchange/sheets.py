@@ -137,7 +137,7 @@ def _read_xlsx(content: bytes, *, file_name: str, sheet_name: str | None) -> She
             row.problems.append((column, f"cells {where} are merged; unmerge them and write the "
                                          "value in every row.", "merged_cells"))
         rows.append(row)
-    for column, where in merged.get(1, ()):
+    for _column, where in merged.get(1, ()):
         raise refusal("file", f"{file_name}: header cells {where} are merged; give each "
                               "column its own name.", "merged_cells")
     _mark_formulas_without_values(content, file_name, values.title, rows)
