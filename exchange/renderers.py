@@ -15,25 +15,9 @@ own pagination handling and know nothing of the project's units.
 
 from __future__ import annotations
 
-from django.conf import settings
 from rest_framework.renderers import BaseRenderer, JSONRenderer
 
-from inventory.api.units import unit_of
-
-from .exporting import CSV_CONTENT_TYPE, XLSX_CONTENT_TYPE, table_bytes
-
-DEFAULT_EXPORT_MAX_ROWS = 50_000
-
-
-def export_row_cap() -> int:
-    return getattr(settings, "SERSLEDGER_EXPORT_MAX_ROWS", DEFAULT_EXPORT_MAX_ROWS)
-
-
-def column_name(key: str) -> str:
-    """``film_height_nm`` -> ``film_height_nm (nm)``; the leaf name decides the unit."""
-    unit = unit_of(key.rsplit(".", 1)[-1])
-    short = None if unit is None else unit.split(" (", 1)[0]
-    return key if short in (None, "none") else f"{key} ({short})"
+from inventory.tables import XLSX_CONTENT_TYPE, column_name, export_row_cap, table_bytes
 
 
 def _flatten(value, prefix: str, out: dict) -> None:
@@ -109,4 +93,4 @@ class XLSXRenderer(_TableRenderer):
     file_format = "xlsx"
 
 
-__all__ = ["CSVRenderer", "XLSXRenderer", "CSV_CONTENT_TYPE", "as_table", "column_name"]
+__all__ = ["CSVRenderer", "XLSXRenderer", "as_table"]
