@@ -7,18 +7,9 @@ import io
 
 import openpyxl
 import pytest
-from django.test import Client
-
-from tests.conftest import PASSWORDS
 
 pytestmark = pytest.mark.django_db
 
-
-@pytest.fixture
-def client_as(maker):
-    client = Client()
-    assert client.login(username="maker", password=PASSWORDS["maker"])
-    return client
 
 
 def test_stock_exports_the_listed_kind_and_location(client_as, chain):

@@ -18,12 +18,6 @@ from .sheets import csv_bytes
 pytestmark = pytest.mark.django_db
 
 
-@pytest.fixture
-def client_as(maker):
-    client = Client()
-    assert client.login(username="maker", password=PASSWORDS["maker"])
-    return client
-
 
 def upload(client, rows, name="lots.csv", kind="sphere_lots"):
     return client.post("/sheets/upload/", {"kind": kind, "sheet": SimpleUploadedFile(
