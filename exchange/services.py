@@ -30,13 +30,26 @@ from .models import (
     SheetUvVisReading,
 )
 
+# field -> (lowest, highest, unit): the ranges the models' CHECK constraints hold, said here
+# first so a refusal names the field (a constraint error names none).
+RANGES = {
+    "enhancement_factor": (1.0, 1e15, ""), "rsd_percent": (0.0, 1000.0, " %"),
+    "laser_nm": (200.0, 2000.0, " nm"), "uvvis_peak_nm": (300.0, 1100.0, " nm"),
+    "uvvis_path_length_cm": (1e-3, 10.0, " cm"), "uvvis_dilution_factor": (1.0, 1e6, ""),
+}
+
 
 def _check_figures(figures: dict[str, float | None], *, parent, day: date,
                    date_field: str) -> None:
-    """Finite numbers, a day not in the future, not before the parent was made, parent live."""
+    """Finite numbers in range, a day not in the future nor before the parent was made."""
     for field, value in figures.items():
         if value is not None and not math.isfinite(value):
             raise refusal(field, f"{value} is not a finite number.", "not_finite")
+        if value is not None and field in RANGES:
+            low, high, unit = RANGES[field]
+            if not low <= value <= high:
+                raise refusal(field, f"{value:g}{unit} is outside {low:g}–{high:g}{unit}.",
+                              "out_of_range")
     require_not_future(day, field=date_field)
     check_not_voided(parent)
     if day < parent.made_on:
@@ -69,9 +82,9 @@ def sheet_uvvis_reading_record(
                     "uvvis_dilution_factor": dilution_factor,
                     "uvvis_path_length_cm": path_length_cm},
                    parent=batch, day=measured_on, date_field="uvvis_measured_on")
-    if dilution_factor < 1 or path_length_cm <= 0:
-        field = "uvvis_dilution_factor" if dilution_factor < 1 else "uvvis_path_length_cm"
-        raise refusal(field, "Dilution is at least 1 and the path length positive.", "bad_value")
+    if peak_absorbance <= 0 or (absorbance_450 is not None and absorbance_450 <= 0):
+        field = "uvvis_peak_absorbance" if peak_absorbance <= 0 else "uvvis_absorbance_450"
+        raise refusal(field, "An absorbance of a colloid is above zero.", "out_of_range")
     scale = dilution_factor / path_length_cm
     a_peak = peak_absorbance * scale
     a_450 = None if absorbance_450 is None else absorbance_450 * scale
