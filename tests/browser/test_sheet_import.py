@@ -22,7 +22,7 @@ def test_upload_a_sheet_fix_the_row_error_and_confirm(page, sign_in, screenshot,
     bad.write_bytes(csv_bytes([HEADER, ["PS-1", "polystyrene", 600, 10, "PS600-118", received],
                                ["PS-2", "silica", "about 450", 5, "SI450-7", received]]))
     sign_in(chain.maker, "maker")
-    page.goto("/sheets/")
+    page.get_by_role("navigation", name="Tasks").get_by_role("link", name="Sheets").click()
     page.get_by_label("Records in the sheet").select_option(label="Sphere lots")
     page.get_by_label("Sheet (.xlsx or .csv)").set_input_files(str(bad))
     page.get_by_role("button", name="Check the sheet").click()
