@@ -13,6 +13,7 @@ import hashlib
 import math
 from dataclasses import asdict, dataclass, field
 from datetime import date
+from decimal import Decimal
 
 from django.core.exceptions import PermissionDenied, ValidationError
 from django.db import transaction
@@ -234,6 +235,8 @@ def _validation_errors(error: ValidationError, row: int, kind: Kind,
 def _same(old, new) -> bool:
     if old in (None, "") and new in (None, ""):
         return True
+    if isinstance(old, Decimal):
+        old = float(old)
     if isinstance(old, (int, float)) and isinstance(new, (int, float)) \
             and not isinstance(old, bool):
         return math.isclose(float(old), float(new), rel_tol=1e-9, abs_tol=1e-12)

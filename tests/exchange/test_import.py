@@ -129,3 +129,16 @@ def test_parent_lot_columns_make_lineage_and_a_missing_parent_is_a_row_error(mak
     parents = set(LineageEdge.objects.filter(child_code=template.code)
                   .values_list("parent_code", flat=True))
     assert parents == {SphereLot.objects.get().code, slides.code}
+
+
+def test_reimporting_an_exported_reagent_sheet_changes_nothing(maker, chain):
+    from exchange.exporting import kind_sheet
+    from exchange.kinds import KINDS
+
+    chain.s.reagent_lot_receive(actor=maker, name="Gold-coated slides", kind="base_slide",
+                                received_on=chain.day(5), quantity=25, quantity_unit="slides",
+                                supplier="Invented Optics", supplier_lot="GS-1")
+    content = kind_sheet(KINDS["reagent_lots"], file_format="csv")
+    report = import_sheet(kind="reagent_lots", content=content, file_name="r.csv", actor=maker,
+                          commit=False)
+    assert report.ok and len(report.unchanged) == 1 and not report.changed, report.changed
