@@ -5,12 +5,10 @@ from __future__ import annotations
 import pytest
 from django.test import Client
 
-from tests.conftest import PASSWORDS
-
 
 @pytest.fixture
 def client_as(maker):
-    """A browser-less client signed in as the maker."""
+    """A browser-less client signed in as the maker (sign-in itself is tested elsewhere)."""
     client = Client()
-    assert client.login(username="maker", password=PASSWORDS["maker"])
+    client.force_login(maker)
     return client

@@ -11,7 +11,6 @@ from django.test import Client
 
 from exchange.models import ColumnMapping
 from inventory.models import SphereLot
-from tests.conftest import PASSWORDS
 
 from .sheets import csv_bytes
 
@@ -64,9 +63,8 @@ def test_someone_else_cannot_confirm_my_upload(client_as, today, django_user_mod
 
     page = upload(client_as, [["Material", "Diameter (nm)", "Solids (%)", "Received on"],
                               ["polystyrene", 600, 10, "2026-05-01"]])
-    user_with_role(django_user_model, "maker", "other")
     other = Client()
-    other.login(username="other", password=PASSWORDS["maker"])
+    other.force_login(user_with_role(django_user_model, "maker", "other"))
     assert other.post(f"/sheets/{page.context['upload'].pk}/confirm/").status_code == 404
 
 
