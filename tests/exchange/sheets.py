@@ -31,7 +31,7 @@ def xlsx_bytes(rows: list[list], edit=None) -> bytes:
 def with_saved_formula_results(content: bytes, results: dict[str, object]) -> bytes:
     """Write the result a spreadsheet program would have saved beside each formula.
 
-    openpyxl writes formulas without results (``<v />``); a workbook saved by a spreadsheet
+    openpyxl writes formulas without results (an empty ``<v>``); a workbook saved by a spreadsheet
     program carries them (ECMA-376 Part 1, §18.3.1.96: ``<v>`` holds the cell's value).
     """
     import re
@@ -45,7 +45,8 @@ def with_saved_formula_results(content: bytes, results: dict[str, object]) -> by
             if item.filename == "xl/worksheets/sheet1.xml":
                 text = data.decode()
                 for cell, value in results.items():
-                    text = re.sub(rf'(<c r="{cell}"[^>]*><f>[^<]*</f>)<v />',
+                    # openpyxl writes an empty <v /> or <v></v> (with lxml installed).
+                    text = re.sub(rf'(<c r="{cell}"[^>]*><f>[^<]*</f>)(<v ?/>|<v></v>)',
                                   rf"\g<1><v>{value}</v>", text)
                 data = text.encode()
             target.writestr(item, data)
