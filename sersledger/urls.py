@@ -8,6 +8,7 @@ urlpatterns = [
     path("accounts/logout/", auth_views.LogoutView.as_view(), name="logout"),
     path("api/v1/", include("sersledger.api_urls")),
     path("", include("insight.urls")),
+    path("", include("exchange.urls")),
     path("", include("bench.urls")),
 ]
 

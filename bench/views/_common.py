@@ -5,10 +5,11 @@ from __future__ import annotations
 from urllib.parse import urlsplit
 
 from django.core.paginator import Paginator
-from django.http import Http404
+from django.http import Http404, HttpResponse
 from django.urls import Resolver404, resolve
 
 from inventory.codes import RecordNotFound, record_get
+from inventory.tables import CONTENT_TYPES, record_table, table_bytes
 
 PAGE_SIZE = 25
 
@@ -25,6 +26,22 @@ def int_param(request, name: str, default: int, *, low: int = 0, high: int = 365
 def paginate(request, rows, *, param: str = "page"):
     """One page of ``rows`` (queryset or list) by the ``?page=`` number (last page if beyond)."""
     return Paginator(rows, PAGE_SIZE).get_page(request.GET.get(param))
+
+
+def table_download(request, name: str, rows) -> HttpResponse | None:
+    """The list as a file when ``?format=csv`` or ``?format=xlsx`` asks for it, else None.
+
+    ``rows`` is the page's own filtered queryset, so the file holds what the page lists
+    (every row, up to ``SERSLEDGER_EXPORT_MAX_ROWS``), with units in the column names.
+    """
+    file_format = request.GET.get("format")
+    if file_format not in CONTENT_TYPES:
+        return None
+    headers, table = record_table(rows)
+    response = HttpResponse(table_bytes(headers, table, file_format=file_format, title=name),
+                            content_type=CONTENT_TYPES[file_format])
+    response["Content-Disposition"] = f'attachment; filename="{name}.{file_format}"'
+    return response
 
 
 def record_or_404(code: str):

@@ -11,7 +11,7 @@ from django.utils import timezone
 from bench import page_queries
 from inventory.models import Substrate
 
-from ._common import PAGE_SIZE, int_param, paginate
+from ._common import PAGE_SIZE, int_param, paginate, table_download
 
 DASHBOARD_DAYS = 14
 DASHBOARD_ROWS = 25  # the rest is one click away on Stock; an uncapped list was too slow
@@ -53,14 +53,17 @@ def stock(request):
     if kind not in dict(kinds):
         kind = "substrate"
     location = request.GET.get("location", "").strip()
+    shelf = page_queries.shelf_records(kind, today, location_code=location)
+    download = table_download(request, f"stock-{kind}", shelf)
+    if download is not None:
+        return download
     after = _expiring_after(request.GET.get("eafter", ""))
     expiring, next_after, expiring_total = page_queries.expiring_page(
         days, after=after, limit=PAGE_SIZE, on_date=today)
     context = {
         "today": today, "days": days, "kinds": kinds, "kind": kind, "location": location,
         "summary": page_queries.shelf_summary(today),
-        "shelf": paginate(request, page_queries.shelf_records(kind, today,
-                                                              location_code=location)),
+        "shelf": paginate(request, shelf),
         "expiring": expiring, "expiring_total": expiring_total,
         "expiring_capped": expiring_total > page_queries.EXPIRING_COUNT_CAP,
         "expiring_from_start": after is None,

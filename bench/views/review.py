@@ -23,7 +23,7 @@ from django.utils.http import url_has_allowed_host_and_scheme
 from django.views.decorators.http import require_POST
 
 from bench import page_queries, plots
-from bench.views._common import int_param, paginate, record_or_404
+from bench.views._common import int_param, paginate, record_or_404, table_download
 from inventory.models import Flag, LifecycleRecord, NanoparticleBatch, Status, Substrate
 from inventory.physics.chronoamperogram import parse_chronoamperogram
 from inventory.roles import REVIEWER, require_role
@@ -82,7 +82,11 @@ def review(request):
     kind = request.GET.get("kind", "substrate")
     if kind not in {c.kind for c in counts}:
         kind = "substrate"
-    queue = paginate(request, page_queries.quarantine_records(kind))
+    waiting = page_queries.quarantine_records(kind)
+    download = table_download(request, f"review-{kind}", waiting)
+    if download is not None:
+        return download
+    queue = paginate(request, waiting)
     items = list(queue.object_list)
     latest_qc = _latest_qc_by_substrate(items) if kind == "substrate" else {}
     latest_uv = _latest_uvvis_by_batch(items) if kind == "nanoparticlebatch" else {}

@@ -170,6 +170,10 @@ class Keyset(BasePagination):
         return replace_query_param(url, CURSOR_PARAM, encode_cursor(self.keys, self.last_values))
 
     def _page_size(self, request) -> int:
+        # A table export (exchange.renderers) takes every matching row up to its cap.
+        export_cap = getattr(getattr(request, "accepted_renderer", None), "export_row_cap", None)
+        if export_cap:
+            return export_cap
         raw = request.query_params.get(PAGE_SIZE_PARAM)
         if raw is None:
             return self.page_size

@@ -593,3 +593,26 @@ def uvvis_mark_stale_on_amend(*, actor: User | None, record, changed: dict, why:
         uvvis.stale_reason = (f"{why}; its sizes, concentration and limits were worked out "
                               "for the old metal: import the spectrum again.")
         _save_changed(uvvis, actor=actor, reason=f"figures stale: {why}")
+
+
+# Fields _store_calibration fills, offered to callers sizing a band read elsewhere.
+SIZING_FIELDS = ("diameter_nm", "diameter_method", "number_per_mL", "molar_concentration_M",
+                 "concentration_note", "calibration_source")
+
+
+def uvvis_sizes_from_band(*, metal: str, band: PlasmonBand) -> dict:
+    """Size and concentration of a band measured elsewhere (e.g. typed in a lab's sheet).
+
+    Runs the very calibration a spectrum import runs (``_store_calibration``: Haiss et al.
+    2007 for gold, the active silver table for silver) on an unsaved record and returns its
+    sizing fields, so a sheet's peak and absorbances are sized exactly like a file's.
+    """
+    if metal not in ColloidMetal.values:
+        raise refusal("metal", f"UV-vis sizing covers silver (Ag) and gold (Au) only, not "
+                               f"{metal}.", "unsupported_metal")
+    record = UvVisRecord()
+    try:
+        _store_calibration(record, metal, band)
+    except AnalysisInputError as error:
+        raise refusal(error.field or "peak_nm", error.message, "bad_value") from None
+    return {name: getattr(record, name) for name in SIZING_FIELDS}

@@ -34,6 +34,7 @@ INSTALLED_APPS = [
     "inventory",
     "qc",
     "insight",
+    "exchange",
 ]
 
 # Background work (big QC maps) on Django's task interface (the django-tasks backport of
@@ -182,6 +183,14 @@ FILE_UPLOAD_HANDLERS = ["django.core.files.uploadhandler.MemoryFileUploadHandler
                         "django.core.files.uploadhandler.TemporaryFileUploadHandler"]
 SERSLEDGER_MAX_UPLOAD_BYTES = int(os.environ.get("SERSLEDGER_MAX_UPLOAD_MB", "500")) * 1024 * 1024
 
+# exchange: an API or page export holds at most this many rows (more: narrow the filters).
+SERSLEDGER_EXPORT_MAX_ROWS = 50_000
+# exchange digest: stock expiring within this many days; colloids re-measured this often.
+SERSLEDGER_EXPIRY_WARNING_DAYS = 14
+SERSLEDGER_COLLOID_REMEASURE_DAYS = 7
+# The digest's sender; development prints mail to the console, production sends by SMTP.
+DEFAULT_FROM_EMAIL = os.environ.get("SERSLEDGER_FROM_EMAIL", "sersledger@localhost")
+
 # Extra readiness reasons contributed by other apps, as dotted paths to callables
 # ``provider(substrate, ancestry) -> list[Reason]``.  Inventory never imports them directly.
 SERSLEDGER_READINESS_PROVIDERS = [
@@ -225,7 +234,12 @@ REST_FRAMEWORK = {
     # (inventory.api.parsers: DRF's JSON parser refusing deep nesting and NUL characters)
     "DEFAULT_PARSER_CLASSES": ["inventory.api.parsers.JsonParser"],
     # JSON out, errors included; people read the API through the Swagger UI at /api/v1/docs/.
-    "DEFAULT_RENDERER_CLASSES": ["rest_framework.renderers.JSONRenderer"],
+    # ?format=csv / ?format=xlsx or an Accept header gives a list as a table (exchange).
+    "DEFAULT_RENDERER_CLASSES": [
+        "rest_framework.renderers.JSONRenderer",
+        "exchange.renderers.CSVRenderer",
+        "exchange.renderers.XLSXRenderer",
+    ],
     "DEFAULT_PAGINATION_CLASS": "inventory.api.pagination.Keyset",
     "DEFAULT_SCHEMA_CLASS": "drf_spectacular.openapi.AutoSchema",
     # One error body everywhere: {"errors": [{"field", "message", "code"}]}.

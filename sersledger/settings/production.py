@@ -51,7 +51,8 @@ X_FRAME_OPTIONS = "DENY"
 # share it.  Each line carries the request's id (django-log-request-id), also sent back in
 # the X-Request-ID header, so a person reporting a failed page can quote it.
 # ADMINS="Name <person@lab.example>, other@lab.example" mails each server error to them
-# through EMAIL_HOST (EMAIL_PORT, EMAIL_HOST_USER, EMAIL_HOST_PASSWORD, EMAIL_USE_TLS).
+# (as manage.py send_digest mails the daily digest, exchange) through EMAIL_HOST
+# (EMAIL_PORT, EMAIL_HOST_USER, EMAIL_HOST_PASSWORD, EMAIL_USE_TLS).
 LOG_DIR = DATA_DIR / "logs"
 LOG_DIR.mkdir(parents=True, exist_ok=True)
 ADMINS = [(name, address) for name, address in getaddresses([os.environ.get("ADMINS", "")])

@@ -1,0 +1,409 @@
+"""Dry run and import of one sheet of one record kind: all rows or none.
+
+Both run every row through its kind's service inside one transaction, each row in its own
+savepoint so one bad row does not hide the next one's problems.  A dry run (and an import
+that met any row error) then rolls the whole transaction back; an import without errors
+commits it.  So a dry run reports exactly what the services would refuse, including a
+parent lot that an earlier row of the same file creates, and nothing is ever half saved.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import math
+from dataclasses import asdict, dataclass, field
+from datetime import date
+from decimal import Decimal
+
+from django.core.exceptions import PermissionDenied, ValidationError
+from django.db import transaction
+
+from inventory.codes import RecordNotFound, record_get
+from inventory.errors import refusal
+from inventory.roles import MAKER, require_role
+from inventory.services import amendable_fields, record_amend
+
+from .cells import (
+    CellError,
+    conversion,
+    read_choice,
+    read_date,
+    read_number,
+    read_text,
+    split_header,
+)
+from .kinds import KINDS, Column, Kind, header_variants, normalise
+from .models import ColumnMapping, SheetKey
+from .provenance import sheet_source, source_text
+from .sheets import Sheet, read_sheet
+
+MAX_ROWS = 50_000
+REF_SEPARATORS = (";", ",", "\n")
+
+
+@dataclass
+class RowError:
+    row: int
+    column: str
+    reason: str
+    code: str
+
+
+@dataclass
+class RowOutcome:
+    row: int
+    action: str  # create | change | unchanged
+    key: str
+    code: str = ""
+    changes: list[str] = field(default_factory=list)
+
+
+@dataclass
+class ImportReport:
+    kind: str
+    file_name: str
+    sha256: str
+    rows: int = 0
+    created: list[RowOutcome] = field(default_factory=list)
+    changed: list[RowOutcome] = field(default_factory=list)
+    unchanged: list[RowOutcome] = field(default_factory=list)
+    errors: list[RowError] = field(default_factory=list)
+    columns: dict[str, str] = field(default_factory=dict)  # header -> field
+    unmapped_headers: list[str] = field(default_factory=list)
+    committed: bool = False
+
+    @property
+    def ok(self) -> bool:
+        return not self.errors
+
+    def as_dict(self) -> dict:
+        data = asdict(self)
+        data["ok"] = self.ok
+        return data
+
+
+@dataclass(frozen=True)
+class ColumnPlan:
+    index: int
+    header: str
+    column: Column
+    factor: float  # from the header's unit to the column's
+
+
+def plan_columns(kind: Kind, headers: list[str], *, file_name: str,
+                 overrides: dict[str, str] | None = None,
+                 ) -> tuple[list[ColumnPlan], list[str], list[str]]:
+    """Which header fills which column (known variants, then the lab's saved mapping).
+
+    Returns the plans, the headers not recognised, and the required columns no header
+    gives; a required column missing with nothing left to map is refused outright.
+    """
+    variants = {variant: column for column in kind.columns for variant in header_variants(column)}
+    saved = dict(ColumnMapping.objects.filter(kind=kind.name).values_list("header", "field"))
+    saved.update(overrides or {})
+    plans, unmapped, taken = [], [], {}
+    for index, header in enumerate(headers):
+        if not header:
+            continue
+        key = normalise(header)
+        if key in saved:
+            column = kind.column(saved[key]) if saved[key] else None
+            if column is None:
+                continue  # mapped to "ignore"
+        elif key in variants:
+            column = variants[key]
+        else:
+            unmapped.append(header)
+            continue
+        if column.field in taken:
+            raise refusal("file", f"{file_name}: columns '{taken[column.field]}' and "
+                                  f"'{header}' both give {column.header}.", "duplicate_column")
+        taken[column.field] = header
+        plans.append(ColumnPlan(index, header, column, _header_factor(column, header, file_name)))
+    missing = [c.header for c in kind.columns if c.required and c.field not in taken]
+    if missing and not unmapped:
+        raise refusal("file", f"{file_name}: no column for {', '.join(missing)}.",
+                      "missing_column")
+    return plans, unmapped, missing
+
+
+def _header_factor(column: Column, header: str, file_name: str) -> float:
+    _name, unit = split_header(header)
+    if column.type != "number" or column.unit is None or unit is None:
+        return 1.0
+    try:
+        return conversion(unit, column.unit)
+    except CellError as error:
+        raise refusal("file", f"{file_name}: column '{header}': {error.message}.",
+                      error.code) from None
+
+
+class ImportContext:
+    """What rows share during one run: the actor, the source, and the keys already seen."""
+
+    def __init__(self, kind: Kind, actor, *, file_name: str, sha256: str):
+        self.kind, self.actor = kind, actor
+        self.file_name, self.sha256 = file_name, sha256
+        self.source = ""
+        self.new_keys: dict[tuple[str, str], str] = {}  # (kind, key) -> code, this file
+        self.rows_by_key: dict[str, int] = {}
+        self.rows_by_lot: dict[tuple, int] = {}
+        self._saved_keys: dict[str, dict[str, str]] = {}
+        self._lot_numbers: dict[tuple, str] | None = None
+
+    def lot_numbers(self) -> dict[tuple, str]:
+        """(supplier, supplier lot) -> code of the kind's lots, read once per run."""
+        if self._lot_numbers is None:
+            fields = self.kind.lot_number
+            self._lot_numbers = {tuple(row[:-1]): row[-1] for row in
+                                 self.kind.model.objects.values_list(*fields, "code")}
+        return self._lot_numbers
+
+    def remember(self, key: str, record, values: dict) -> None:
+        code = getattr(record, "code", None)
+        if key and code:
+            self.new_keys[(self.kind.name, key)] = code
+        if code and self.kind.lot_number and self._lot_numbers is not None:
+            self._lot_numbers[tuple(values.get(n) or "" for n in self.kind.lot_number)] = code
+
+    def code_for(self, kind_name: str, key: str) -> str | None:
+        """The record a lab's key or code stands for: this file, earlier imports, our codes."""
+        key = key.strip()
+        if (kind_name, key) in self.new_keys:
+            return self.new_keys[(kind_name, key)]
+        if kind_name not in self._saved_keys:
+            self._saved_keys[kind_name] = dict(
+                SheetKey.objects.filter(kind=kind_name).values_list("key", "record_code"))
+        return self._saved_keys[kind_name].get(key)
+
+    def resolve(self, kind_name: str, key: str):
+        model = KINDS[kind_name].model
+        code = self.code_for(kind_name, key) or key.strip().upper()
+        try:
+            record = record_get(code)
+        except RecordNotFound:
+            record = None
+        if not isinstance(record, model):
+            raise CellError(f"no {KINDS[kind_name].label.lower()[:-1]} '{key}' in this file "
+                            "(above this row) or in the database", "parent_missing")
+        return record
+
+
+def _read_cell(plan: ColumnPlan, value, ctx: ImportContext):
+    column = plan.column
+    if value is None or (isinstance(value, str) and not value.strip()):
+        return [] if column.type == "refs" else None
+    if column.type == "number":
+        return read_number(value, unit=column.unit, header_factor=plan.factor)
+    if column.type == "integer":
+        return read_number(value, unit=None, integer=True)
+    if column.type == "date":
+        return read_date(value)
+    if column.type == "choice":
+        return read_choice(value, column.choices)
+    if column.type == "ref":
+        return ctx.resolve(column.ref, read_text(value))
+    if column.type == "refs":
+        text = read_text(value)
+        for separator in REF_SEPARATORS[1:]:
+            text = text.replace(separator, REF_SEPARATORS[0])
+        return [ctx.resolve(column.ref, part) for part in text.split(";") if part.strip()]
+    return read_text(value)
+
+
+def _error_column(kind: Kind, plans: list[ColumnPlan], field_name: str) -> str:
+    for plan in plans:
+        if plan.column.field == field_name:
+            return plan.header
+    column = kind.column(field_name)
+    return column.header if column else ("" if field_name == "__all__" else field_name)
+
+
+def _validation_errors(error: ValidationError, row: int, kind: Kind,
+                       plans: list[ColumnPlan]) -> list[RowError]:
+    if hasattr(error, "error_dict"):
+        found = []
+        for name, errors in error.error_dict.items():
+            for item in errors:
+                message = " ".join(item.messages)
+                found.append(RowError(row, _error_column(kind, plans, name), message,
+                                      item.code or "invalid"))
+        return found
+    return [RowError(row, "", " ".join(error.messages), error.code or "invalid")]
+
+
+def _same(old, new) -> bool:
+    if old in (None, "") and new in (None, ""):
+        return True
+    if isinstance(old, Decimal):
+        old = float(old)
+    if isinstance(old, (int, float)) and isinstance(new, (int, float)) \
+            and not isinstance(old, bool):
+        return math.isclose(float(old), float(new), rel_tol=1e-9, abs_tol=1e-12)
+    return str(old) == str(new) if not isinstance(old, date) else old == new
+
+
+def _parents_agree(kind: Kind, record, values: dict) -> bool:
+    for column in kind.columns:
+        given = values.get(column.field)
+        if column.type == "ref" and given is not None \
+                and getattr(record, f"{column.field}_id", None) != given.pk:
+            return False
+    return True
+
+
+def _find_existing(kind: Kind, values: dict, key: str, ctx: ImportContext):
+    if kind.find is not None:
+        found = kind.find(values, ctx)
+        if found is not None:
+            return found
+    if key:
+        try:
+            record = ctx.resolve(kind.name, key)
+        except CellError:
+            record = None
+        # A code from another site's export can name a different record here: it matches
+        # only if the parent columns the row gives agree with the record's.
+        if record is not None and _parents_agree(kind, record, values):
+            return record
+    if kind.lot_number and values.get(kind.lot_number[-1]):
+        code = ctx.lot_numbers().get(tuple(values.get(name) or "" for name in kind.lot_number))
+        return None if code is None else kind.model.objects.get(code=code)
+    return None
+
+
+def _update(kind: Kind, record, values: dict, plans: list[ColumnPlan], ctx) -> list[str]:
+    """Amend the compared fields that differ (through record_amend); list what changed."""
+    changes, labels = {}, []
+    for plan in plans:
+        column = plan.column
+        if not column.compare or column.field not in values:
+            continue
+        old = getattr(record, column.field, None)
+        new = values[column.field]
+        if not _same(old, new):
+            changes[column.field] = "" if new is None and column.type == "text" else new
+            labels.append(f"{column.header}: {old if old not in (None, '') else '—'} → "
+                          f"{new if new not in (None, '') else '—'}")
+    if changes:
+        allowed = amendable_fields(type(record))
+        for name in changes:
+            if name not in allowed:
+                raise refusal(name, f"{record.code} exists and its {name} cannot be changed "
+                                    "by an import.", "not_amendable")
+        record_amend(actor=ctx.actor, record=record, changes=changes, reason=ctx.source,
+                     expected_version=record.version)
+    return labels
+
+
+def _apply_row(kind: Kind, row, plans: list[ColumnPlan], ctx: ImportContext,
+               report: ImportReport) -> None:
+    errors = [RowError(row.number, _column_name(row, plans, index), message, code)
+              for index, message, code in row.problems]
+    values = {}
+    for plan in plans:
+        value = row.cells[plan.index] if plan.index < len(row.cells) else None
+        try:
+            values[plan.column.field] = _read_cell(plan, value, ctx)
+        except CellError as error:
+            errors.append(RowError(row.number, plan.header, error.message, error.code))
+    for plan in plans:
+        if plan.column.required and values.get(plan.column.field) in (None, "", []) \
+                and not any(e.column == plan.header for e in errors):
+            errors.append(RowError(row.number, plan.header, "required; the cell is empty",
+                                   "required"))
+    key = values.get("code") or ""
+    if key:
+        if key in ctx.rows_by_key:
+            errors.append(RowError(row.number, _error_column(kind, plans, "code"),
+                                   f"duplicate: row {ctx.rows_by_key[key]} has the same "
+                                   f"ID '{key}'", "duplicate"))
+        else:
+            ctx.rows_by_key[key] = row.number
+    lot_number = tuple(values.get(n) or "" for n in kind.lot_number)
+    if kind.lot_number and lot_number[-1]:
+        first = ctx.rows_by_lot.setdefault(lot_number, row.number)
+        if first != row.number:
+            errors.append(RowError(row.number, _error_column(kind, plans, kind.lot_number[-1]),
+                                   f"duplicate: row {first} has the same lot number "
+                                   f"'{lot_number[-1]}'", "duplicate"))
+    if errors:
+        report.errors.extend(errors)
+        return
+    ctx.source = source_text(file_name=ctx.file_name, sha256=ctx.sha256, row=row.number)
+    try:
+        with sheet_source(ctx.source), transaction.atomic():
+            existing = _find_existing(kind, values, key, ctx)
+            if existing is not None:
+                changes = _update(kind, existing, values, plans, ctx)
+                if kind.extra:
+                    changes += kind.extra(existing, values, ctx, False)
+                outcome = RowOutcome(row.number, "change" if changes else "unchanged", key,
+                                     getattr(existing, "code", ""), changes)
+                record = existing
+            else:
+                record = kind.create(values, ctx)
+                if kind.extra:
+                    kind.extra(record, values, ctx, True)
+                outcome = RowOutcome(row.number, "create", key, getattr(record, "code", ""))
+    except ValidationError as error:
+        report.errors.extend(_validation_errors(error, row.number, kind, plans))
+        return
+    except CellError as error:
+        report.errors.append(RowError(row.number, "", error.message, error.code))
+        return
+    ctx.remember(key, record, values)
+    {"create": report.created, "change": report.changed,
+     "unchanged": report.unchanged}[outcome.action].append(outcome)
+
+
+def _column_name(row, plans: list[ColumnPlan], index: int | None) -> str:
+    if index is None:
+        return ""
+    for plan in plans:
+        if plan.index == index:
+            return plan.header
+    return f"column {index + 1}"
+
+
+def import_sheet(*, kind: str, content: bytes, file_name: str, actor, commit: bool,
+                 mapping: dict[str, str] | None = None) -> ImportReport:
+    """Dry-run (``commit=False``) or import a sheet; refusals raise ValidationError.
+
+    ``mapping`` maps normalised headers to fields for this run only (the page saves the
+    lab's mapping with exchange.services.column_mapping_save first).
+    """
+    spec = KINDS.get(kind)
+    if spec is None:
+        raise refusal("kind", f"'{kind}' is not one of {', '.join(KINDS)}.", "unknown_kind")
+    try:
+        require_role(actor, MAKER, action="Importing a sheet")
+    except PermissionDenied as error:
+        raise refusal("user", str(error), "permission_denied") from None
+    sheet: Sheet = read_sheet(content, file_name=file_name)
+    if len(sheet.rows) > MAX_ROWS:
+        raise refusal("file", f"{file_name} has {len(sheet.rows)} rows; import at most "
+                              f"{MAX_ROWS} at a time.", "too_many_rows")
+    plans, unmapped, missing = plan_columns(spec, sheet.headers, file_name=file_name,
+                                            overrides=mapping)
+    digest = hashlib.sha256(content).hexdigest()
+    report = ImportReport(kind=kind, file_name=file_name, sha256=digest, rows=len(sheet.rows),
+                          columns={p.header: p.column.field for p in plans},
+                          unmapped_headers=unmapped)
+    if missing:
+        report.errors.append(RowError(1, "", f"no column gives {', '.join(missing)}; say which "
+                                             f"of {', '.join(unmapped)} does (map the columns)",
+                                      "missing_column"))
+        return report
+    ctx = ImportContext(spec, actor, file_name=file_name, sha256=digest)
+    with transaction.atomic():
+        for row in sheet.rows:
+            _apply_row(spec, row, plans, ctx, report)
+        if commit and report.ok:
+            SheetKey.objects.bulk_create(
+                [SheetKey(kind=k, key=key, record_code=code)
+                 for (k, key), code in ctx.new_keys.items()], ignore_conflicts=True)
+            report.committed = True
+        else:
+            transaction.set_rollback(True)
+    return report
