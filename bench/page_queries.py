@@ -7,7 +7,6 @@ so a page costs the same number of queries with ten records or a hundred thousan
 
 from __future__ import annotations
 
-import heapq
 import math
 from dataclasses import dataclass
 from datetime import date, timedelta

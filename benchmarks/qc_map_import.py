@@ -27,6 +27,7 @@ import statistics
 import subprocess
 import sys
 import time
+from functools import partial
 from pathlib import Path
 
 import numpy as np
@@ -123,7 +124,7 @@ def measure(sizes: list[int]) -> dict:
     from knox.models import AuthToken
     from rest_framework.test import APIClient
 
-    from inventory.models import ReagentLot, Substrate
+    from inventory.models import Substrate
     from qc.models import QcMeasurement, ReferenceMeasurement
 
     call_command("migrate", verbosity=0)
@@ -154,13 +155,14 @@ def measure(sizes: list[int]) -> dict:
                                 capture_output=True, text=True, check=True)
         done = json.loads(worker.stdout.strip().splitlines()[-1])
         measurement = QcMeasurement.objects.get(code=done["code"])
-        detail_ms = _median_ms(lambda: api.get(f"/api/v1/qc-measurements/{measurement.code}/"))
+        detail_url = f"/api/v1/qc-measurements/{measurement.code}/"
+        detail_ms = _median_ms(partial(api.get, detail_url))
         plot_url = f"/plots/raman/{measurement.code}.svg"
         start = time.perf_counter()
         first = pages.get(plot_url)
         plot_first_ms = (time.perf_counter() - start) * 1000
-        plot_cached_ms = _median_ms(lambda: pages.get(plot_url))
-        plot_304_ms = _median_ms(lambda: pages.get(plot_url, HTTP_IF_NONE_MATCH=first["ETag"]))
+        plot_cached_ms = _median_ms(partial(pages.get, plot_url))
+        plot_304_ms = _median_ms(partial(pages.get, plot_url, HTTP_IF_NONE_MATCH=first["ETag"]))
         array_mib = points * 1024 * 8 / 2 ** 20
         rows.append({
             "points": points, "file_mb": path.stat().st_size / 1e6, "upload_s": upload_s,

@@ -36,7 +36,8 @@ class DriftFinding:
 
     def as_dict(self) -> dict:
         return {"key": self.key, "metric": self.metric, "n": self.n, "signals": self.signals,
-                "rules": list(self.rules), "mean": self.mean, "centre": self.centre, "sigma": self.sigma,
+                "rules": list(self.rules), "mean": self.mean, "centre": self.centre,
+                "sigma": self.sigma,
                 "lower_limit": self.lower_limit, "upper_limit": self.upper_limit,
                 "evidence": list(self.evidence)}
 

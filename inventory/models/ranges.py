@@ -84,7 +84,8 @@ def finite(limit: float = 1e30, unit: str = "") -> Span:
     return Span(-limit, limit, unit, computed=True)
 
 
-def range_constraints(prefix: str, ranges: dict[str, Span | PastDate]) -> list[models.CheckConstraint]:
+def range_constraints(prefix: str,
+                      ranges: dict[str, Span | PastDate]) -> list[models.CheckConstraint]:
     """One CHECK constraint per field of ``ranges``, named ``{prefix}_{field}_range``.
 
     An empty (NULL) value passes: whether a field may be empty is the column's own NOT NULL.

@@ -37,7 +37,6 @@ from .derived import refresh_derived
 from .lifecycle import _transition, check_not_self_release, check_not_voided, lock
 
 
-
 @lru_cache(maxsize=8)
 def _import_checks(paths: tuple[str, ...]) -> list[Callable[[Any], str | None]]:
     return [import_string(path) for path in paths]

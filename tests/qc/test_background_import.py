@@ -11,8 +11,12 @@ from django.utils import timezone
 
 from inventory.readiness import substrate_check_readiness
 from qc.models import QcImport, QcMeasurement
-from qc.services import qc_imports_resume, qc_measurement_submit, substrate_release_check
-from qc.services import background
+from qc.services import (
+    background,
+    qc_imports_resume,
+    qc_measurement_submit,
+    substrate_release_check,
+)
 from tests.qc_lab import MAP_SETTINGS, RAMAN, QcLab
 
 GOOD = "good_substrate_map.csv"
@@ -30,7 +34,8 @@ def _submit(lab, substrate, name=GOOD, content=None, capture=None):
         return qc_measurement_submit(
             actor=lab.chain.maker, substrate=substrate, analyte_lot=lab.lot, filename=name,
             content=content if content is not None else (RAMAN / name).read_bytes(),
-            measured_on=lab.chain.day(1), reference=lab.reference, surface_area_assumed_one=True, **MAP_SETTINGS)
+            measured_on=lab.chain.day(1), reference=lab.reference, surface_area_assumed_one=True,
+            **MAP_SETTINGS)
 
 
 def _worker():

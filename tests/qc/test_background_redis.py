@@ -1,8 +1,8 @@
 """The same background import through Redis (RQ), as a lab on several machines runs it.
 
 Runs where a Redis server answers at ``SERSLEDGER_TEST_REDIS_URL`` (CI starts one on
-127.0.0.1:6379 and uses database 15, which nothing else uses); skipped elsewhere.  The RQ worker runs in this process (``SimpleWorker``,
-burst mode), so it sees the test's database.
+127.0.0.1:6379 and uses database 15, which nothing else uses); skipped elsewhere.  The RQ
+worker runs in this process (``SimpleWorker``, burst mode), so it sees the test's database.
 """
 
 from __future__ import annotations
@@ -39,7 +39,8 @@ def test_a_big_file_is_judged_by_an_rq_worker(chain, administrator, settings,
             actor=chain.maker, substrate=substrate, analyte_lot=lab.lot,
             filename="good_substrate_map.csv",
             content=(RAMAN / "good_substrate_map.csv").read_bytes(),
-            measured_on=chain.day(1), reference=lab.reference, surface_area_assumed_one=True, **MAP_SETTINGS)
+            measured_on=chain.day(1), reference=lab.reference, surface_area_assumed_one=True,
+            **MAP_SETTINGS)
     queue = django_rq.get_queue(queue_name, job_class=Job)
     assert queue.count == 1
     SimpleWorker([queue], connection=queue.connection, job_class=Job).work(burst=True)
