@@ -45,7 +45,7 @@ class Sheet:
 
 
 def max_bytes() -> int:
-    return settings.SERSLEDGER_MAX_UPLOAD_BYTES
+    return settings.SERSLEDGER_MAX_SHEET_BYTES
 
 
 def read_sheet(content: bytes, *, file_name: str, sheet_name: str | None = None) -> Sheet:

@@ -182,6 +182,8 @@ FILE_UPLOAD_MAX_MEMORY_SIZE = 5 * 1024 * 1024
 FILE_UPLOAD_HANDLERS = ["django.core.files.uploadhandler.MemoryFileUploadHandler",
                         "django.core.files.uploadhandler.TemporaryFileUploadHandler"]
 SERSLEDGER_MAX_UPLOAD_BYTES = int(os.environ.get("SERSLEDGER_MAX_UPLOAD_MB", "500")) * 1024 * 1024
+# A spreadsheet is read whole into memory (openpyxl), so sheets keep a smaller limit than maps.
+SERSLEDGER_MAX_SHEET_BYTES = int(os.environ.get("SERSLEDGER_MAX_SHEET_MB", "50")) * 1024 * 1024
 
 # exchange: an API or page export holds at most this many rows (more: narrow the filters).
 SERSLEDGER_EXPORT_MAX_ROWS = 50_000
