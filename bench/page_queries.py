@@ -67,6 +67,13 @@ def _stale(field, record) -> bool:
     return bool(getattr(record, "stale_reason", "")) and not field.editable
 
 
+# Labels a person reads, for fields whose own name is an abbreviation or a flag.
+HUMAN_LABELS = {"passed": "QC result", "snr": "signal-to-noise ratio",
+                "rsd_percent": "uniformity RSD", "ef": "enhancement factor"}
+# Stored as a fraction (0–1) though the name ends in "_percent" ("within 20 percent").
+FRACTIONS_SHOWN_AS_PERCENT = {"fraction_within_20_percent": "points within ±20 % of the median"}
+
+
 @dataclass(frozen=True)
 class FieldRow:
     label: str
@@ -91,8 +98,18 @@ def field_rows(record) -> list[FieldRow]:
             code = getattr(related, "code", "")
             rows.append(FieldRow(str(field.verbose_name), related, "", code))
             continue
+        if field.name in FRACTIONS_SHOWN_AS_PERCENT:
+            fraction = getattr(record, field.name)
+            rows.append(FieldRow(FRACTIONS_SHOWN_AS_PERCENT[field.name],
+                                 None if fraction is None else format(100 * fraction, ".0f"),
+                                 "%"))
+            continue
+        if isinstance(field, models.BooleanField) and field.name == "passed":
+            rows.append(FieldRow(HUMAN_LABELS["passed"],
+                                 "passed" if record.passed else "failed", ""))
+            continue
         unit, bare_name = unit_of(field.name)
-        label = str(field.verbose_name)
+        label = HUMAN_LABELS.get(field.name, str(field.verbose_name))
         if unit and label == field.name.replace("_", " "):  # not named by hand: drop the unit
             label = bare_name.replace("_", " ")
         value = getattr(record, f"get_{field.name}_display")() if field.choices \
@@ -115,15 +132,27 @@ def stored_files(record) -> list[StoredFile]:
     files = []
     if hasattr(record, "files") and hasattr(record.files, "all"):
         files += [StoredFile(f.original_name, f.sha256, f.size_bytes) for f in record.files.all()]
-    for name_field, digest_field in (("chronoamperogram_name", "chronoamperogram_sha256"),
-                                     ("raw_filename", "raw_sha256"),
-                                     ("raw_file_name", "raw_sha256")):
+    for name_field, digest_field, file_field in (
+            ("chronoamperogram_name", "chronoamperogram_sha256", "chronoamperogram"),
+            ("raw_filename", "raw_sha256", "raw_file"),
+            ("raw_file_name", "raw_sha256", "raw_file")):
         name, digest = getattr(record, name_field, ""), getattr(record, digest_field, "")
         if name and digest:
-            files.append(StoredFile(name, digest, None))
+            files.append(StoredFile(name, digest, _size(getattr(record, file_field, None))))
     if getattr(record, "blank_sha256", ""):
-        files.append(StoredFile(record.blank_file.name, record.blank_sha256, None))
+        files.append(StoredFile(record.blank_file.name, record.blank_sha256,
+                                _size(record.blank_file)))
     return files
+
+
+def _size(stored) -> int | None:
+    """Bytes of a stored file; None when no file is kept or the storage cannot say."""
+    if not stored:
+        return None
+    try:
+        return stored.size
+    except OSError:
+        return None
 
 
 # --------------------------------------------------------------------------------------
