@@ -6,7 +6,7 @@ from django.db import migrations, models
 class Migration(migrations.Migration):
 
     dependencies = [
-        ('inventory', '0004_history_reason_text'),
+        ('inventory', '0006_signature_no_truncate'),
     ]
 
     operations = [
