@@ -7,6 +7,7 @@ from django.shortcuts import render
 from django.urls import reverse
 
 from bench import labels, page_queries
+from bench.verdicts import qc_verdict
 from inventory import ghs
 from inventory.codes import RecordNotFound, record_get
 from inventory.models import (
@@ -61,7 +62,7 @@ def _qc_panel(record) -> dict:
                                         .order_by("-measured_on", "-id")[:20])}
     if isinstance(record, QcMeasurement):
         return {"laser_caution": True, "raman_plot": True, "figures": qc_figures(record),
-                "heatmap": record.has_heatmap}
+                "qc_verdict": qc_verdict(record), "heatmap": record.has_heatmap}
     if isinstance(record, ReferenceMeasurement):
         return {"laser_caution": True, "raman_plot": True}
     if isinstance(record, NanoparticleBatch):
