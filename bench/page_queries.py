@@ -196,6 +196,23 @@ def expiring_page(days: int, *, after=None, limit: int = 25,
     return page.items, page.next_after, min(total, EXPIRING_COUNT_CAP + 1)
 
 
+@dataclass(frozen=True)
+class BeyondWindow:
+    later: int  # active records expiring after the window
+    no_rule: int  # active records no shelf-life rule gives an expiry
+
+
+def expiring_beyond(days: int, *, on_date: date) -> BeyondWindow:
+    """What the "expiring within N days" list leaves out: two counts per record kind."""
+    horizon = on_date + timedelta(days=days)
+    later = no_rule = 0
+    for model in _lifecycle_models():
+        active = model.objects.filter(status__in=ACTIVE_STATUSES)
+        later += active.filter(expires_on__gt=horizon).count()
+        no_rule += active.filter(expires_on__isnull=True).count()
+    return BeyondWindow(later, no_rule)
+
+
 def _on_shelf(model, on_date: date):
     """Released and not expired (a record is usable on its expiry day)."""
     return model.objects.filter(Q(expires_on__isnull=True) | Q(expires_on__gte=on_date),

@@ -26,6 +26,7 @@ def home(request):
     context = {
         "today": today, "days": DASHBOARD_DAYS,
         "expiring": expiring, "expiring_total": expiring_total,
+        "beyond": page_queries.expiring_beyond(days, on_date=today),
         "open_flags": list(flags[:DASHBOARD_ROWS]), "open_flag_total": flags.count(),
         "quarantine": page_queries.quarantine_counts(),
         "quarantined_substrates": list(page_queries.quarantine_records("substrate")
@@ -65,5 +66,6 @@ def stock(request):
         "expiring_capped": expiring_total > page_queries.EXPIRING_COUNT_CAP,
         "expiring_from_start": after is None,
         "expiring_next": f"{next_after[0].isoformat()}~{next_after[1]}" if next_after else "",
+        "beyond": page_queries.expiring_beyond(days, on_date=today),
     }
     return render(request, "inventory/stock.html", context)

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from django.conf import settings
 from django.contrib.auth.decorators import login_required
 from django.shortcuts import render
 from django.urls import reverse
@@ -111,13 +112,20 @@ def _label(request, record) -> labels.Label:
 def record_label(request, code: str):
     record = record_or_404(code)
     return render(request, "inventory/labels.html",
-                  {"labels": [_label(request, record)], "missing": []})
+                  {"labels": [_label(request, record)], "missing": [], **_label_size()})
+
+
+def _label_size() -> dict:
+    width_mm, height_mm = settings.SERSLEDGER_LABEL_SIZE_MM
+    return {"label_width_mm": width_mm, "label_height_mm": height_mm}
 
 
 @login_required
 def label_sheet(request):
     """Several labels on one printable page: ``?codes=SUB-00001,SUB-00002``."""
-    codes = [c.strip().upper() for c in request.GET.get("codes", "").split(",") if c.strip()]
+    # ?codes=A,B from a typed list, or codes=A&codes=B from the stock list's ticked rows.
+    codes = [c.strip().upper() for given in request.GET.getlist("codes")
+             for c in given.split(",") if c.strip()]
     if len(codes) > MAX_LABELS:
         return render(request, "inventory/labels.html",
                       {"labels": [], "missing": [],
@@ -129,4 +137,5 @@ def label_sheet(request):
             found.append(_label(request, record_get(code)))
         except RecordNotFound:
             missing.append(code)
-    return render(request, "inventory/labels.html", {"labels": found, "missing": missing})
+    return render(request, "inventory/labels.html",
+                  {"labels": found, "missing": missing, **_label_size()})

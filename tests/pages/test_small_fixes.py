@@ -62,3 +62,19 @@ def test_a_refused_action_says_which_role_it_needs_and_who_holds_it(lab, login):
     holders = re.search(r'id="role-holders">([^<]*)<', page).group(1).split(", ")
     assert {user.username for role, user in lab.users.items() if role != "viewer"} <= \
         set(holders)
+
+
+def test_stock_list_rows_print_labels_and_the_days_filter_says_what_it_hides(lab, login):
+    client = login(lab, "viewer")
+    page = client.get(reverse("stock") + "?kind=substrate&days=0").content.decode()
+    assert f'name="codes" value="{lab.good.code}"' in page
+    assert "expire within (days)" in page
+    hidden = re.search(r'id="expiring-hidden">([^<]*)<', page).group(1)
+    # tests/pages/conftest.py gives substrates a 30-day rule: none expires today, so every
+    # active dated record is "after 0 days".
+    later = int(re.search(r"Not listed: (\d+) that expire after 0 days", hidden).group(1))
+    assert later >= 3
+    sheet = client.get(reverse("label_sheet"),
+                       {"codes": [lab.good.code, lab.bath.code]}).content.decode()
+    assert f'id="label-{lab.good.code}"' in sheet and f'id="label-{lab.bath.code}"' in sheet
+    assert "62 × 29 mm" in sheet
