@@ -26,7 +26,6 @@ def home(request):
     context = {
         "today": today, "days": DASHBOARD_DAYS,
         "expiring": expiring, "expiring_total": expiring_total,
-        "beyond": page_queries.expiring_beyond(days, on_date=today),
         "open_flags": list(flags[:DASHBOARD_ROWS]), "open_flag_total": flags.count(),
         "quarantine": page_queries.quarantine_counts(),
         "quarantined_substrates": list(page_queries.quarantine_records("substrate")
