@@ -78,3 +78,17 @@ def test_stock_list_rows_print_labels_and_the_days_filter_says_what_it_hides(lab
                        {"codes": [lab.good.code, lab.bath.code]}).content.decode()
     assert f'id="label-{lab.good.code}"' in sheet and f'id="label-{lab.bath.code}"' in sheet
     assert "62 × 29 mm" in sheet
+
+
+def test_audit_report_lists_every_file_and_downloads_as_pdf(lab, login):
+    client = login(lab, "viewer")
+    page = client.get(reverse("trace_report", args=[lab.dataset.code])).content.decode()
+    files = page.split('id="report-files"')[1].split("</table>")[0]
+    # The dataset's own file, registered in tests/pages/conftest.py; its digest by hashlib.
+    import hashlib
+    assert hashlib.sha256(b"shift,counts\n1000,12\n1001,13\n").hexdigest() in files
+    assert "good_substrate_map.csv" in files  # the QC map of the substrate it was measured on
+    pdf = client.get(reverse("trace_report_pdf", args=[lab.dataset.code]))
+    assert pdf["Content-Type"] == "application/pdf"
+    body = b"".join(pdf.streaming_content) if pdf.streaming else pdf.content
+    assert body.startswith(b"%PDF-") and len(body) > 2000
