@@ -7,7 +7,6 @@ so a page costs the same number of queries with ten records or a hundred thousan
 
 from __future__ import annotations
 
-import heapq
 import math
 from dataclasses import dataclass
 from datetime import date, timedelta
@@ -18,7 +17,7 @@ from django.db.models import Count, Q
 
 from inventory import selectors
 from inventory.models import Flag, LifecycleRecord, Status
-from inventory.selectors import ExpiringItem
+from inventory.selectors import ACTIVE_STATUSES, ExpiringItem
 from inventory.shelf_life import LIFECYCLE_KINDS
 
 # Unit shown beside a field, from the unit its name ends with (DESIGN: units in names).

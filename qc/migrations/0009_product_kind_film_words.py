@@ -6,7 +6,7 @@ from django.db import migrations, models
 class Migration(migrations.Migration):
 
     dependencies = [
-        ('qc', '0004_history_reason_text'),
+        ('qc', '0008_integrity_ranges_stale_map_points'),
     ]
 
     operations = [

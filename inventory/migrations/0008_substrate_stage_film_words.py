@@ -6,7 +6,7 @@ from django.db import migrations, models
 class Migration(migrations.Migration):
 
     dependencies = [
-        ('inventory', '0006_signature_no_truncate'),
+        ('inventory', '0007_integrity_ranges_stale'),
     ]
 
     operations = [
