@@ -17,7 +17,7 @@ from django.db.models import Count, Q
 
 from inventory import selectors
 from inventory.models import Flag, LifecycleRecord, Status
-from inventory.selectors import ExpiringItem
+from inventory.selectors import ACTIVE_STATUSES, ExpiringItem
 from inventory.shelf_life import LIFECYCLE_KINDS
 
 # Unit shown beside a field, from the unit its name ends with (DESIGN: units in names).
@@ -66,6 +66,13 @@ def _stale(field, record) -> bool:
     return bool(getattr(record, "stale_reason", "")) and not field.editable
 
 
+# Labels a person reads, for fields whose own name is an abbreviation or a flag.
+HUMAN_LABELS = {"passed": "QC result", "snr": "signal-to-noise ratio",
+                "rsd_percent": "uniformity RSD", "ef": "enhancement factor"}
+# Stored as a fraction (0–1) though the name ends in "_percent" ("within 20 percent").
+FRACTIONS_SHOWN_AS_PERCENT = {"fraction_within_20_percent": "points within ±20 % of the median"}
+
+
 @dataclass(frozen=True)
 class FieldRow:
     label: str
@@ -90,8 +97,18 @@ def field_rows(record) -> list[FieldRow]:
             code = getattr(related, "code", "")
             rows.append(FieldRow(str(field.verbose_name), related, "", code))
             continue
+        if field.name in FRACTIONS_SHOWN_AS_PERCENT:
+            fraction = getattr(record, field.name)
+            rows.append(FieldRow(FRACTIONS_SHOWN_AS_PERCENT[field.name],
+                                 None if fraction is None else format(100 * fraction, ".0f"),
+                                 "%"))
+            continue
+        if isinstance(field, models.BooleanField) and field.name == "passed":
+            rows.append(FieldRow(HUMAN_LABELS["passed"],
+                                 "passed" if record.passed else "failed", ""))
+            continue
         unit, bare_name = unit_of(field.name)
-        label = str(field.verbose_name)
+        label = HUMAN_LABELS.get(field.name, str(field.verbose_name))
         if unit and label == field.name.replace("_", " "):  # not named by hand: drop the unit
             label = bare_name.replace("_", " ")
         value = getattr(record, f"get_{field.name}_display")() if field.choices \
@@ -114,15 +131,27 @@ def stored_files(record) -> list[StoredFile]:
     files = []
     if hasattr(record, "files") and hasattr(record.files, "all"):
         files += [StoredFile(f.original_name, f.sha256, f.size_bytes) for f in record.files.all()]
-    for name_field, digest_field in (("chronoamperogram_name", "chronoamperogram_sha256"),
-                                     ("raw_filename", "raw_sha256"),
-                                     ("raw_file_name", "raw_sha256")):
+    for name_field, digest_field, file_field in (
+            ("chronoamperogram_name", "chronoamperogram_sha256", "chronoamperogram"),
+            ("raw_filename", "raw_sha256", "raw_file"),
+            ("raw_file_name", "raw_sha256", "raw_file")):
         name, digest = getattr(record, name_field, ""), getattr(record, digest_field, "")
         if name and digest:
-            files.append(StoredFile(name, digest, None))
+            files.append(StoredFile(name, digest, _size(getattr(record, file_field, None))))
     if getattr(record, "blank_sha256", ""):
-        files.append(StoredFile(record.blank_file.name, record.blank_sha256, None))
+        files.append(StoredFile(record.blank_file.name, record.blank_sha256,
+                                _size(record.blank_file)))
     return files
+
+
+def _size(stored) -> int | None:
+    """Bytes of a stored file; None when no file is kept or the storage cannot say."""
+    if not stored:
+        return None
+    try:
+        return stored.size
+    except OSError:
+        return None
 
 
 # --------------------------------------------------------------------------------------
@@ -164,6 +193,23 @@ def expiring_page(days: int, *, after=None, limit: int = 25,
                                         include_expired=True)[:EXPIRING_COUNT_CAP + 1].count()
                 for model in _lifecycle_models())
     return page.items, page.next_after, min(total, EXPIRING_COUNT_CAP + 1)
+
+
+@dataclass(frozen=True)
+class BeyondWindow:
+    later: int  # active records expiring after the window
+    no_rule: int  # active records no shelf-life rule gives an expiry
+
+
+def expiring_beyond(days: int, *, on_date: date) -> BeyondWindow:
+    """What the "expiring within N days" list leaves out: two counts per record kind."""
+    horizon = on_date + timedelta(days=days)
+    later = no_rule = 0
+    for model in _lifecycle_models():
+        active = model.objects.filter(status__in=ACTIVE_STATUSES)
+        later += active.filter(expires_on__gt=horizon).count()
+        no_rule += active.filter(expires_on__isnull=True).count()
+    return BeyondWindow(later, no_rule)
 
 
 def _on_shelf(model, on_date: date):

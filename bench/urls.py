@@ -12,6 +12,7 @@ urlpatterns = [
     path("trace/", views.trace, name="trace"),
     path("trace/<str:code>/graph/", views.trace_graph, name="trace_graph"),
     path("trace/<str:code>/report/", views.trace_report, name="trace_report"),
+    path("trace/<str:code>/report.pdf", views.trace_report_pdf, name="trace_report_pdf"),
     path("trace/<str:code>/prov/", views.trace_prov, name="trace_prov"),
     path("labels/", views.label_sheet, name="label_sheet"),
     path("r/<str:code>/", views.record_detail, name="record"),

@@ -222,6 +222,10 @@ def load_inventory_demo(*, today: date | None = None) -> DemoScenario:
         s.substrates[name] = piece
     s.substrates["old_linker"], s.substrates["old_linker_2"], s.substrates["older_bare"] = older
     s.substrates["flat_gold"], s.substrates["flat_bare"] = flat_pieces
+    # Left with a linker layer and no particles, so the particle form has a piece to try.
+    services.linker_layer_apply(
+        actor=maker, linker_lot=s.lots["linker"], substrates=[s.substrates["flat_bare"]],
+        concentration_mM=1.0, immersion_h=18, made_on=day(2), solvent_lot=s.lots["ethanol"])
 
     for name in ("ready_a", "ready_b", "old_linker", "old_linker_2", "flat_gold", "bare_film"):
         s.substrates[name] = release(Substrate.objects.get(pk=s.substrates[name].pk))

@@ -26,6 +26,23 @@ ROLE_DUTIES = {
 }
 
 
+class RoleRequired(PermissionDenied):
+    """A refusal for want of a role; carries the role so a page can say who holds it."""
+
+    def __init__(self, message: str, *, role: str):
+        super().__init__(message)
+        self.role = role
+
+
+def role_holders(role: str) -> list[str]:
+    """Usernames of the active people who hold ``role`` (directly or by a higher role)."""
+    from django.contrib.auth import get_user_model
+
+    names = ROLES[ROLES.index(role):]
+    return sorted(set(get_user_model().objects.filter(is_active=True)
+                      .filter(groups__name__in=names).values_list("username", flat=True)))
+
+
 def ensure_role_groups() -> list[Group]:
     """Create the four role groups if missing; returns them lowest first."""
     return [Group.objects.get_or_create(name=name)[0] for name in ROLES]
@@ -63,7 +80,6 @@ def require_role(user, role: str, *, action: str) -> None:
     if user is None:
         return
     if not user_has_role(user, role):
-        raise PermissionDenied(
-            f"{action} needs the {role} role; "
-            f"{user.get_username()} holds {', '.join(sorted(roles_of(user))) or 'none'}."
-        )
+        held = ", ".join(sorted(roles_of(user))) or "none"
+        raise RoleRequired(f"{action} needs the {role} role; {user.get_username()} holds {held}.",
+                           role=role)

@@ -12,8 +12,9 @@ urlpatterns = [
     path("", include("bench.urls")),
 ]
 
-# Under /api/ these answer the API's JSON error shape; elsewhere Django's pages.
+# Under /api/ these answer the API's JSON error shape; elsewhere the pages' own 400/404/500
+# templates (bench/templates), and a 403 page that names the role and who holds it.
 handler400 = "inventory.api.errors.bad_request"
-handler403 = "inventory.api.errors.permission_denied"
+handler403 = "bench.views.errors.forbidden"
 handler404 = "inventory.api.errors.page_not_found"
 handler500 = "inventory.api.errors.server_error"

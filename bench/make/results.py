@@ -59,9 +59,11 @@ def deposition_result(run: DepositionRun) -> Result:
         result.notes.append("No chronoamperogram was attached, so charge and film height are "
                             "not known yet.")
     else:
+        where = ("in a close-packed sphere template" if run.template_id else
+                 "as a flat film (no template: the height is the equivalent flat thickness)")
         result.notes.append(f"From {run.chronoamperogram_name} (SHA-256 "
-                            f"{run.chronoamperogram_sha256}); Faraday's law in a close-packed "
-                            "template (inventory.physics.electrodeposition).")
+                            f"{run.chronoamperogram_sha256}); Faraday's law {where} "
+                            "(inventory.physics.electrodeposition).")
     if check.tolerance is not None:
         result.notes.append(f"Tolerance ±{check.tolerance.max_abs_deviation_height_over_diameter:g}"
                             f" on h/D, from {check.tolerance.source}.")
@@ -169,8 +171,7 @@ def qc_result(measurement: QcMeasurement) -> Result:
                     reasons=list(m.failure_reasons))
     result.figures = qc_figures(m)
     m.substrate.refresh_from_db()
-    result.notes = [f"Substrate {m.substrate.code} is now {m.substrate.get_status_display()}.",
-                    f"File {m.raw_filename}, SHA-256 {m.raw_sha256}."]
+    result.notes = [substrate_after_qc(m), f"File {m.raw_filename}, SHA-256 {m.raw_sha256}."]
     if m.surface_area_origin.startswith("assumed"):
         result.notes.append("The surface-area factor was assumed to be 1: the EF is an upper "
                             "bound if the metal area exceeds the projected area.")
@@ -179,6 +180,17 @@ def qc_result(measurement: QcMeasurement) -> Result:
     if m.reference_id:
         result.links.append((m.reference.code, "the reference measurement"))
     return result
+
+
+def substrate_after_qc(m: QcMeasurement) -> str:
+    """What the QC meant for the substrate, in words."""
+    code, status = m.substrate.code, m.substrate.status
+    if status == "quarantine":
+        return (f"{code} passed QC and stays in quarantine until a reviewer releases it "
+                "(Review)." if m.passed else
+                f"{code} failed QC and stays in quarantine: it cannot be used until the flag "
+                "is resolved and a later QC passes.")
+    return f"{code} is {m.substrate.get_status_display().lower()}."
 
 
 def reference_result(reference: ReferenceMeasurement) -> Result:

@@ -14,4 +14,4 @@ from .review import (  # noqa: F401
     review,
     review_sign,
 )
-from .trace import trace, trace_graph, trace_prov, trace_report  # noqa: F401
+from .trace import trace, trace_graph, trace_prov, trace_report, trace_report_pdf  # noqa: F401

@@ -68,5 +68,6 @@ def stock(request):
         "expiring_capped": expiring_total > page_queries.EXPIRING_COUNT_CAP,
         "expiring_from_start": after is None,
         "expiring_next": f"{next_after[0].isoformat()}~{next_after[1]}" if next_after else "",
+        "beyond": page_queries.expiring_beyond(days, on_date=today),
     }
     return render(request, "inventory/stock.html", context)

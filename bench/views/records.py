@@ -2,11 +2,13 @@
 
 from __future__ import annotations
 
+from django.conf import settings
 from django.contrib.auth.decorators import login_required
 from django.shortcuts import render
 from django.urls import reverse
 
 from bench import labels, page_queries
+from bench.verdicts import qc_verdict
 from inventory import ghs
 from inventory.codes import RecordNotFound, record_get
 from inventory.models import (
@@ -61,7 +63,7 @@ def _qc_panel(record) -> dict:
                                         .order_by("-measured_on", "-id")[:20])}
     if isinstance(record, QcMeasurement):
         return {"laser_caution": True, "raman_plot": True, "figures": qc_figures(record),
-                "heatmap": record.has_heatmap}
+                "qc_verdict": qc_verdict(record), "heatmap": record.has_heatmap}
     if isinstance(record, ReferenceMeasurement):
         return {"laser_caution": True, "raman_plot": True}
     if isinstance(record, NanoparticleBatch):
@@ -110,13 +112,20 @@ def _label(request, record) -> labels.Label:
 def record_label(request, code: str):
     record = record_or_404(code)
     return render(request, "inventory/labels.html",
-                  {"labels": [_label(request, record)], "missing": []})
+                  {"labels": [_label(request, record)], "missing": [], **_label_size()})
+
+
+def _label_size() -> dict:
+    width_mm, height_mm = settings.SERSLEDGER_LABEL_SIZE_MM
+    return {"label_width_mm": width_mm, "label_height_mm": height_mm}
 
 
 @login_required
 def label_sheet(request):
     """Several labels on one printable page: ``?codes=SUB-00001,SUB-00002``."""
-    codes = [c.strip().upper() for c in request.GET.get("codes", "").split(",") if c.strip()]
+    # ?codes=A,B from a typed list, or codes=A&codes=B from the stock list's ticked rows.
+    codes = [c.strip().upper() for given in request.GET.getlist("codes")
+             for c in given.split(",") if c.strip()]
     if len(codes) > MAX_LABELS:
         return render(request, "inventory/labels.html",
                       {"labels": [], "missing": [],
@@ -128,4 +137,5 @@ def label_sheet(request):
             found.append(_label(request, record_get(code)))
         except RecordNotFound:
             missing.append(code)
-    return render(request, "inventory/labels.html", {"labels": found, "missing": missing})
+    return render(request, "inventory/labels.html",
+                  {"labels": found, "missing": missing, **_label_size()})

@@ -91,7 +91,9 @@ def review(request):
     latest_qc = _latest_qc_by_substrate(items) if kind == "substrate" else {}
     latest_uv = _latest_uvvis_by_batch(items) if kind == "nanoparticlebatch" else {}
     flags_on = _open_flag_codes([r.code for r in items])
+    # The day the lot was made or received, not the day it was typed in.
     rows = [{"record": r, "qc": latest_qc.get(r.pk), "uvvis": latest_uv.get(r.pk),
+             "made": getattr(r, "made_on", None) or getattr(r, "received_on", None),
              "flags": flags_on.get(r.code, [])} for r in items]
     flags = paginate(request, page_queries.open_flags(), param="fpage")
     context = {"counts": counts, "kind": kind, "queue": queue, "rows": rows, "flags": flags,

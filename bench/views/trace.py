@@ -2,17 +2,19 @@
 
 from __future__ import annotations
 
+import io
 import json
 
 from django.contrib.auth import get_user_model
 from django.contrib.auth.decorators import login_required
 from django.http import HttpResponse
 from django.shortcuts import render
+from django.template.loader import render_to_string
 
 from bench import page_queries, plots
 from bench.labels import made_on_of
 from inventory.codes import RecordNotFound, record_get
-from inventory.models import Flag, NanoparticleBatch, StatusChange, Substrate
+from inventory.models import DepositionRun, Flag, NanoparticleBatch, StatusChange, Substrate
 from inventory.prov import lineage_as_prov
 from inventory.selectors import record_get_ancestors, record_get_descendants
 from qc.models import QcMeasurement, UvVisRecord
@@ -81,6 +83,26 @@ def _people(records) -> dict:
 @login_required
 def trace_report(request, code: str):
     """A printable audit report: every record the root depends on, with its evidence."""
+    return render(request, "inventory/trace_report.html", _report_context(code))
+
+
+@login_required
+def trace_report_pdf(request, code: str):
+    """The same audit report as a PDF file (xhtml2pdf: pure Python, no system libraries)."""
+    from xhtml2pdf import pisa
+
+    context = _report_context(code)
+    html = render_to_string("inventory/trace_report_pdf.html", context, request=request)
+    pdf = io.BytesIO()
+    outcome = pisa.CreatePDF(html, dest=pdf, encoding="utf-8")
+    if outcome.err:
+        raise RuntimeError(f"PDF of the audit report of {code} failed ({outcome.err} errors)")
+    response = HttpResponse(pdf.getvalue(), content_type="application/pdf")
+    response["Content-Disposition"] = f'attachment; filename="audit-{context["record"].code}.pdf"'
+    return response
+
+
+def _report_context(code: str) -> dict:
     record = record_or_404(code)
     ancestry = record_get_ancestors(record)
     rows = lineage_rows(ancestry)
@@ -92,17 +114,22 @@ def trace_report(request, code: str):
     for row in [{"record": record}, *rows]:
         row["made_by"] = people.get(getattr(row["record"], "created_by_id", None))
         row["made_on"] = made_on_of(row["record"]) if row["record"] is not None else None
+    qc = list(QcMeasurement.objects.filter(substrate__in=substrates)
+              .select_related("substrate").order_by("substrate__code", "-measured_on"))
+    uvvis = list(UvVisRecord.objects.filter(batch__in=batches)
+                 .select_related("batch").order_by("batch__code", "measured_on"))
     context = {
         "record": record, "kind": record._meta.verbose_name, "rows": rows,
         "root_made_by": people.get(record.created_by_id),
-        "qc": QcMeasurement.objects.filter(substrate__in=substrates)
-        .select_related("substrate").order_by("substrate__code", "-measured_on"),
-        "uvvis": UvVisRecord.objects.filter(batch__in=batches)
-        .select_related("batch").order_by("batch__code", "measured_on"),
+        "qc": qc, "uvvis": uvvis,
+        "runs": [r for r in records if isinstance(r, DepositionRun)],
+        # Every file behind the result: the record's own, its inputs', and the measurements'.
+        "files": [(r.code, f) for r in [*records, *qc, *uvvis]
+                  for f in page_queries.stored_files(r)],
         "open_flags": Flag.objects.filter(target_code__in=codes, state=Flag.State.OPEN)
         .order_by("target_code", "code"),
         "status_changes": StatusChange.objects.filter(record_code__in=codes)
         .select_related("changed_by").order_by("record_code", "changed_at"),
         "signatures": [s for r in records for s in page_queries.record_signatures(r)],
     }
-    return render(request, "inventory/trace_report.html", context)
+    return context

@@ -162,7 +162,7 @@ class Substrate(LifecycleRecord):
     AMENDABLE_FIELDS = frozenset(("piece_label", "area_cm2", "made_on", "notes", "storage"))
 
     class Stage(models.TextChoices):
-        FILM = "film", "Structured film"
+        FILM = "film", "Metal film (on spheres or flat)"
         LINKER = "linker", "Film with linker layer"
         PARTICLES = "particles", "Film with bound particles"
         PURCHASED = "purchased", "Purchased substrate"

@@ -213,6 +213,9 @@ SERSLEDGER_RELEASE_CHECKS = [
 
 # A maker may not release (sign off) a record they made; a one-person lab can allow it.
 SERSLEDGER_ALLOW_SELF_RELEASE = False
+# Printed label size in millimetres (width, height): 62 × 29 fits the common continuous
+# label tape; a lab with other stock sets its own.
+SERSLEDGER_LABEL_SIZE_MM = (62, 29)
 
 # Further parts of the demo scenario from apps above qc, as dotted paths to callables
 # ``load(scenario)``, run by load_demo after the QC demo in the same transaction.

@@ -295,50 +295,37 @@ def test_writer_refuses_bad_arguments():
 
 
 # ---------------------------------------------------------------------------------------
-# The official JCAMP-DX test files: one Bruker spectrum in AFFN, PAC, SQZ and DIFDUP form
-# (JCAMP-DX test files, (C) ISAS Dortmund 1992–1995, P. Lampen; listed in their DX-DIR.TXT
-# as BRUKAFFN/BRUKPAC/BRUKSQZ/BRUKDIF.DX), as redistributed in the MIT-licensed `jcamp`
-# package's source distribution (version 1.3.2). fixtures/spectra/iupac_bruker_*_excerpt.dx
-# hold each file's first whole XYDATA lines (≥ 256 points); see fixtures/spectra/README.md.
+# One synthetic spectrum in AFFN, PAC, SQZ and DIFDUP form (fixtures/spectra/
+# synthetic_polystyrene_*.jdx), written by fixtures/spectra/encode_forms.py: a second,
+# minimal encoder of McDonald & Wilks 1988 that shares no code with qc.analysis.jcamp.
 # ---------------------------------------------------------------------------------------
 
-IUPAC_FORMS = ("affn", "pac", "sqz", "difdup")
-IUPAC_COMMON_POINTS = 256
+SYNTHETIC_FORMS = ("affn", "pac", "sqz", "difdup")
 
 
-def _iupac(form):
-    return read_jcamp((FIXTURES / f"iupac_bruker_{form}_excerpt.dx").read_text())
+def _synthetic_text(form):
+    return (FIXTURES / f"synthetic_polystyrene_{form}.jdx").read_text()
 
 
-@pytest.mark.parametrize("form", ["pac", "sqz"])
-def test_iupac_test_files_pac_and_sqz_decode_to_the_affn_ordinates(form):
-    # BRUKAFFN, BRUKPAC and BRUKSQZ hold the same integers (the test set's own intent);
-    # our reader must give identical values for the first 256 points of each.
-    affn, packed = _iupac("affn"), _iupac(form)
-    n = IUPAC_COMMON_POINTS
-    assert packed.x[-1] == affn.x[-1] == 24038.5  # FIRSTX of every file (descending axis)
-    np.testing.assert_array_equal(packed.y[-n:], affn.y[-n:])
-    # the excerpts' LASTX is written to 1e-6 Hz, so the rebuilt axes agree to that
-    np.testing.assert_allclose(packed.x[-n:], affn.x[-n:], rtol=0, atol=1e-5)
+@pytest.mark.parametrize("form", ["pac", "sqz", "difdup"])
+def test_compressed_forms_decode_to_the_affn_ordinates(form):
+    # All four files hold the same 560 integers (the encoder's intent); AFFN is plain numbers.
+    affn, packed = read_jcamp(_synthetic_text("affn")), read_jcamp(_synthetic_text(form))
+    assert packed.y.size == affn.y.size == 560
+    np.testing.assert_array_equal(packed.y, affn.y)
+    np.testing.assert_array_equal(packed.x, affn.x)
+    assert affn.x[0] == 560 and affn.x[-1] == 1678  # ##FIRSTX= and ##LASTX=
 
 
-def test_iupac_test_file_difdup_decodes_consistently():
-    # BRUKDIF.DX was exported separately (its FIRSTY is 2254931, BRUKAFFN's 2259260), so its
-    # integers are not identical to the AFFN file's. What the standard pins down: the first
-    # y equals ##FIRSTY=, and every line's y check value (its first y) equals the last y of
-    # the line before — read_jcamp refuses the file otherwise — and the spectrum is the
-    # same measurement as BRUKAFFN (here within 0.2 % of the largest |y| of the excerpt).
-    difdup, affn = _iupac("difdup"), _iupac("affn")
-    assert difdup.y.size == 263
-    assert difdup.y[-1] == 2254931  # FIRSTY of BRUKDIF.DX, at the first (highest) x
-    n = IUPAC_COMMON_POINTS
-    scale = np.max(np.abs(affn.y[-n:]))
-    assert np.max(np.abs(difdup.y[-n:] - affn.y[-n:])) < 2e-3 * scale
-    # Hand-decoded start of the first line "16383 B254931p506547j928560...":
-    # B254931 = SQZ +2254931; p506547 = DIF −7506547; j928560 = DIF −1928560.
-    np.testing.assert_array_equal(
-        difdup.y[::-1][:3], [2254931, 2254931 - 7506547, 2254931 - 7506547 - 1928560]
-    )
+def test_difdup_file_hand_decoded():
+    # Lines "560A000%s%Y" and "592A000%YJMK4Q5...", decoded by hand from the rules above:
+    # A000 = SQZ 1000; % = DIF 0, s = DUP 9 and Y = DUP 7 (16 zero steps); the next line
+    # repeats y = 1000 at x = 592 (the y check value), % Y = seven more zero steps (to
+    # x = 606), then J = +1, M = +4, K4 = +24, Q5 = +85.
+    spectrum = read_jcamp(_synthetic_text("difdup"))
+    by_x = dict(zip(spectrum.x.tolist(), spectrum.y.tolist(), strict=False))
+    assert all(by_x[x] == 1000 for x in range(560, 608, 2))
+    assert [by_x[x] for x in (608, 610, 612, 614)] == [1001, 1005, 1029, 1114]
 
 
 # ---------------------------------------------------------------------------------------
@@ -355,9 +342,9 @@ def _other_reader(text):
     return x[order], y[order]
 
 
-@pytest.mark.parametrize("form", IUPAC_FORMS)
-def test_independent_reader_agrees_on_the_iupac_test_files(form):
-    text = (FIXTURES / f"iupac_bruker_{form}_excerpt.dx").read_text()
+@pytest.mark.parametrize("form", SYNTHETIC_FORMS)
+def test_independent_reader_agrees_on_the_four_forms(form):
+    text = _synthetic_text(form)
     ours = read_jcamp(text)
     x, y = _other_reader(text)
     np.testing.assert_array_equal(ours.y, y)

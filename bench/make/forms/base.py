@@ -7,9 +7,11 @@ transaction and puts a service refusal beside the field it names.
 
 from __future__ import annotations
 
+import re
 from typing import ClassVar
 
 from django import forms
+from django.apps import apps
 from django.conf import settings
 from django.core.exceptions import NON_FIELD_ERRORS, ValidationError
 from django.utils import timezone
@@ -125,8 +127,6 @@ class MakeForm(forms.Form):
             if getattr(field, "defaults_to_today", False):
                 field.initial = self.today
                 field.widget.attrs.setdefault("max", self.today.isoformat())
-            if field.required:
-                field.widget.attrs.setdefault("required", True)
         for name, role in self.last_used.items():
             code = defaults.last_used_code(user, role=role)
             if code and self.fields[name].queryset.filter(code=code).exists():
@@ -170,7 +170,50 @@ class MakeForm(forms.Form):
             if target in self.fields:
                 self.add_error(target, errors)
             elif field == NON_FIELD_ERRORS:
-                self.add_error(None, errors)
+                self._add_constraint_errors(errors)
             else:
                 self.add_error(None, [f"{field}: {message}"
                                       for e in errors for message in e.messages])
+
+    def _add_constraint_errors(self, errors) -> None:
+        """A database CHECK refusal goes beside the field it constrains, in words.
+
+        ``full_clean`` reports a violated CheckConstraint form-wide by its name only; the
+        constraint's own condition says which field and bound, so the maker sees
+        "must be > 0" beside "Nominal diameter" instead of a constraint name.
+        """
+        for error in errors:
+            placed = False
+            for message in error.messages:
+                for field, rule in constraint_rules(message):
+                    if field in self.fields:
+                        self.add_error(field, f"Out of range: must be {rule}.")
+                        placed = True
+            if not placed:
+                self.add_error(None, error)
+
+
+LOOKUP_WORDS = {"gt": ">", "gte": "≥", "lt": "<", "lte": "≤", "exact": "="}
+
+
+def constraint_rules(message: str) -> list[tuple[str, str]]:
+    """(field, "> 0")-pairs of the CheckConstraint a Django violation message names."""
+    match = re.search(r"“([\w-]+)”", message)
+    if not match:
+        return []
+    for model in apps.get_models():
+        for constraint in model._meta.constraints:
+            if constraint.name == match.group(1) and hasattr(constraint, "condition"):
+                return list(_rules(constraint.condition))
+    return []
+
+
+def _rules(condition):
+    for child in getattr(condition, "children", ()):
+        if isinstance(child, tuple):
+            lookup, bound = child
+            field, _, op = lookup.partition("__")
+            if op in LOOKUP_WORDS and isinstance(bound, (int, float)):
+                yield field, f"{LOOKUP_WORDS[op]} {bound:g}"
+        else:
+            yield from _rules(child)

@@ -33,10 +33,16 @@ def notes_field() -> forms.CharField:
                            widget=forms.Textarea(attrs={"rows": 2}))
 
 
-def unit_choice(label: str, units) -> forms.ChoiceField:
+def unit_choice(label: str, units: dict[str, float]) -> forms.ChoiceField:
+    """One entry per unit: the reader's aliases (sec, secs, uA …) share a scale, so the menu
+    offers the first spelling of each scale, the micro sign for micro."""
+    by_scale: dict[float, str] = {}
+    for unit, scale in units.items():
+        if scale not in by_scale or unit.startswith("\u00b5"):
+            by_scale[scale] = unit
     return forms.ChoiceField(label=label, required=False,
                              choices=[("", "as the file's header says")]
-                             + [(unit, unit) for unit in units])
+                             + [(unit, unit) for unit in by_scale.values()])
 
 
 def lots_of(*kinds: str):
