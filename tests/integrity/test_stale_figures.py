@@ -208,3 +208,13 @@ def test_an_entered_surface_area_factor_does_not_depend_on_the_film(run_500nm, q
            nominal_diameter_nm=600)
     record = QcMeasurement.objects.get(pk=measured.pk)
     assert record.stale_reason == "" and record.version == measured.version
+
+
+def test_a_subnormal_solids_content_is_refused_not_a_division_by_zero(chain, maker):
+    """Found by the property test: 5e-324 % w/v is > 0 (in range) but 5e-324/100 is 0.0."""
+    from django.core.exceptions import ValidationError
+
+    template = chain.template()
+    with pytest.raises(ValidationError):
+        _amend(maker, template.sphere_lot, solids_percent_w_v=5e-324)
+    assert SphereLot.objects.get(pk=template.sphere_lot.pk).solids_percent_w_v != 5e-324
