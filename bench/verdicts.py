@@ -66,6 +66,11 @@ def qc_verdict(m) -> Verdict:
         next_step += " The limits used are the lab's defaults, still to be reviewed."
     ef = "—" if m.enhancement_factor is None else _sci(m.enhancement_factor) + (
         f" ± {_sci(m.enhancement_factor_u)}" if m.enhancement_factor_u else "")
+    stale = getattr(m, "stale_reason", "")
+    if stale:  # the verdict rests on an EF whose inputs changed: not presented as current
+        sentence = f"{substrate}'s QC result is not current: stale: {stale}"
+        next_step = "Next: import the map again so the EF is worked out from the current film."
+        ef = f"stale (last worked out as {ef})"
     figures = [
         ("Enhancement factor (SSEF; Le Ru et al., J. Phys. Chem. C 2007)", ef),
         ("Uniformity RSD", "—" if m.rsd_percent is None else f"{m.rsd_percent:.1f} %"),
@@ -75,5 +80,5 @@ def qc_verdict(m) -> Verdict:
         ("Band position", f"{m.band_position_cm1:.1f} cm⁻¹"),
         ("Points measured", f"{m.n_points}"),
     ]
-    return Verdict(bool(m.passed), "PASS" if m.passed else "FAIL", sentence, next_step,
-                   figures)
+    headline = "STALE" if stale else "PASS" if m.passed else "FAIL"
+    return Verdict(bool(m.passed) and not stale, headline, sentence, next_step, figures)

@@ -4,8 +4,9 @@ Plugged in through ``settings.SERSLEDGER_READINESS_PROVIDERS`` as
 ``"qc.readiness.qc_reasons"``.  QC is required for a product kind (substrate stage) when the
 lab has a limit set for it; the latest QC measurement at the substrate's current stage, made
 on or before the day checked, decides; a QC import still being analysed blocks
-readiness until it is judged; a colloid upstream whose UV-vis figures are stale (its metal
-was amended) is reported too.  Four queries at most.
+readiness until it is judged; a latest measurement whose EF went stale (the film geometry
+it was derived from was amended) counts as not passed; a colloid upstream whose UV-vis
+figures are stale (its metal was amended) is reported too.  Four queries at most.
 """
 
 from __future__ import annotations
@@ -44,12 +45,16 @@ def _qc_measurement_reasons(context: ReadinessContext) -> list[Reason]:
                       analyte_id__in=list(limits), measured_on__lte=context.on_date,
                       voided_at__isnull=True)  # a voided result no longer speaks for it
               .order_by("-measured_on", "-id")
-              .only("code", "measured_on", "passed", "failure_reasons", "analyte_id")
+              .only("code", "measured_on", "passed", "failure_reasons", "analyte_id",
+                    "stale_reason")
               .first())
     if latest is None:
         return [Reason("qc_missing", f"{substrate.code} has no QC measurement as a "
                                      f"{substrate.get_stage_display().lower()}.",
                        substrate.code)]
+    if latest.stale_reason:  # its verdict rests on figures that are no longer current
+        return [Reason("figures_stale", f"The latest QC {latest.code} has stale figures: "
+                                        f"{latest.stale_reason}", latest.code)]
     if not latest.passed:
         return [Reason("qc_failed", f"The latest QC {latest.code} "
                                     f"({latest.measured_on.isoformat()}) failed: "

@@ -29,11 +29,12 @@ from inventory.models import (
     Substrate,
     TemplateAssembly,
 )
+from inventory.models.ranges import Span
 from inventory.physics.chronoamperogram import CURRENT_UNITS_A, TIME_UNITS_S
 from inventory.signatures import REJECT_MEANINGS, RELEASE_MEANINGS, SignatureIntent
 
 from .fields import AnyRecordRef, FiniteFloat, LabDate, RecordRef, Upload, file_parts
-from .units import DocumentedFields
+from .units import DocumentedFields, declare_range
 
 # Files are reported by name and digest; the stored path is an implementation detail.
 _HIDDEN_FILE_FIELDS = (models.FileField,)
@@ -134,11 +135,29 @@ def read_plan(serializer_class) -> ReadPlan:
 # ---------------------------------------------------------------------------- write side
 
 
+NUMERIC_FIELDS = (serializers.IntegerField, serializers.FloatField, serializers.DecimalField)
+
+
 class ServiceSerializer(DocumentedFields, serializers.Serializer):
-    """Parses a request into a service's keyword arguments and calls that service."""
+    """Parses a request into a service's keyword arguments and calls that service.
+
+    ``ranges_model`` names the kind the service writes: its numeric fields that the kind's
+    range table (``inventory.models.ranges``) bounds are declared with those bounds in the
+    schema, so the API documents exactly what the database enforces (the service refuses
+    values outside them with a 400 naming the field).
+    """
 
     service = None  # set by each subclass with staticmethod(...)
     record_argument = ""  # the service's keyword for the record an action acts on
+    ranges_model: type[models.Model] | None = None
+
+    def get_fields(self):
+        fields = super().get_fields()
+        for name, field in fields.items():
+            span = getattr(self.ranges_model, "RANGES", {}).get(name)
+            if isinstance(span, Span) and isinstance(field, NUMERIC_FIELDS):
+                declare_range(field, span)
+        return fields
 
     def arguments(self) -> dict:
         return dict(self.validated_data)
@@ -158,6 +177,7 @@ class StorageLocationCreate(ServiceSerializer):
 
 
 class ReagentLotReceive(ServiceSerializer):
+    ranges_model = ReagentLot
     service = staticmethod(services.reagent_lot_receive)
     name = serializers.CharField(max_length=160)
     kind = serializers.ChoiceField(choices=ReagentKind.choices)
@@ -189,6 +209,7 @@ class ReagentLotOpen(ServiceSerializer):
 
 
 class SphereLotReceive(ServiceSerializer):
+    ranges_model = SphereLot
     service = staticmethod(services.sphere_lot_receive)
     material = serializers.ChoiceField(choices=SphereLot.Material.choices)
     nominal_diameter_nm = FiniteFloat()
@@ -204,6 +225,7 @@ class SphereLotReceive(ServiceSerializer):
 
 
 class TemplateAssemble(ServiceSerializer):
+    ranges_model = TemplateAssembly
     service = staticmethod(services.template_assemble)
     sphere_lot = RecordRef(SphereLot)
     base_slide_lot = RecordRef(ReagentLot)
@@ -222,6 +244,7 @@ class TemplateAssemble(ServiceSerializer):
 
 
 class DepositionRunRecord(ServiceSerializer):
+    ranges_model = DepositionRun
     service = staticmethod(services.deposition_run_record)
     bath_lot = RecordRef(ReagentLot, help_text="Code of the plating bath lot.")
     metal = serializers.CharField(max_length=4, help_text="Element symbol, e.g. 'Au'.")
@@ -249,6 +272,7 @@ class DepositionRunRecord(ServiceSerializer):
 
 
 class ChronoamperogramAttach(ServiceSerializer):
+    ranges_model = DepositionRun
     service = staticmethod(services.deposition_run_attach_chronoamperogram)
     record_argument = "run"
     chronoamperogram = Upload(help_text="The potentiostat's text export (time, current).")
@@ -272,6 +296,7 @@ class ChronoamperogramAttach(ServiceSerializer):
 
 
 class SubstrateReceive(ServiceSerializer):
+    ranges_model = Substrate
     service = staticmethod(services.substrate_receive)
     purchased_lot = RecordRef(ReagentLot, help_text="Code of the purchased-substrate lot.")
     pieces = serializers.IntegerField(min_value=1, max_value=200)
@@ -291,6 +316,7 @@ class LinkerLayerApply(ServiceSerializer):
 
 
 class NanoparticleBatchMake(ServiceSerializer):
+    ranges_model = NanoparticleBatch
     service = staticmethod(services.nanoparticle_batch_make)
     metal = serializers.CharField(max_length=4, help_text="Element symbol, e.g. 'Ag'.")
     synthesis_method = serializers.ChoiceField(choices=NanoparticleBatch.Method.choices)
@@ -348,6 +374,7 @@ class FlagResolve(ServiceSerializer):
 
 
 class ShelfLifeRuleSet(ServiceSerializer):
+    ranges_model = ShelfLifeRule
     service = staticmethod(services.shelf_life_rule_set)
     record_kind = serializers.ChoiceField(choices=RecordKind.choices)
     shelf_life_days = serializers.IntegerField(min_value=1, max_value=36500)

@@ -154,3 +154,18 @@ class DocumentedFields:
         for name, field in fields.items():
             _document(name, field)
         return fields
+
+
+def declare_range(field: serializers.Field, span) -> None:
+    """Declare ``span`` (a ``ranges.Span``) as the field's schema bounds.
+
+    OpenAPI 3.0 marks an open end with ``exclusiveMinimum: true``, which drf-spectacular
+    cannot express from ``min_value``, so the field's schema is given whole (its
+    description is still added from ``help_text``).
+    """
+    is_integer = isinstance(field, serializers.IntegerField)
+    schema = {"type": "integer"} if is_integer else {"type": "number", "format": "double"}
+    schema.update(minimum=span.low, maximum=span.high)
+    if span.above:
+        schema["exclusiveMinimum"] = True
+    field._spectacular_annotation = {"field": schema}

@@ -188,7 +188,8 @@ def suspension_volume_for_monolayer(
     sphere_count = _spheres_per_nm2(diameter) * area_cm2 * _NM2_PER_CM2
     sphere_volume_cm3 = math.pi * diameter**3 / 6.0 / _NM3_PER_CM3
     mass_g = excess * sphere_count * sphere_volume_cm3 * density
-    volume_mL = mass_g / (solids / 100.0)
+    # Multiply first: a subnormal solids content divided by 100 underflows to zero.
+    volume_mL = mass_g * 100.0 / solids
     return SuspensionNeed(
         sphere_count=sphere_count,
         sphere_mass_g=mass_g,

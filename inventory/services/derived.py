@@ -6,8 +6,10 @@ area, and a deposition run's charge, film height and h/D from its kept chronoamp
 (``deposition_run_recompute``, which marks them stale with the reason if the file cannot be
 read).  Other apps add theirs through ``settings.SERSLEDGER_AMEND_HOOKS`` (dotted paths of
 ``hook(*, actor, record, changed, why)``; qc marks a colloid's UV-vis figures stale when its
-metal changes), so inventory never imports them.  Each recomputed record gets a history row
-saying why, beside the amended record's own.
+metal changes), so inventory never imports them.  A deposition run whose geometry was worked
+out again (or marked stale) is passed to the hooks too, with its changed figures, so qc can
+mark the enhancement factors it derived from that geometry stale.  Each recomputed record
+gets a history row saying why, beside the amended record's own.
 """
 
 from __future__ import annotations
@@ -30,6 +32,8 @@ SPHERE_LOT_TEMPLATE_INPUTS = frozenset({"nominal_diameter_nm", "material", "soli
 SPHERE_LOT_RUN_INPUTS = frozenset({"nominal_diameter_nm"})
 TEMPLATE_INPUTS = frozenset({"slide_area_cm2"})
 RUN_INPUTS = frozenset({"electrode_area_cm2"})
+# A run's figures that other apps derive theirs from; "stale_reason" says they are not current.
+RUN_GEOMETRY = ("sphere_diameter_nm", "film_height_nm", "height_over_diameter", "stale_reason")
 
 
 @lru_cache(maxsize=8)
@@ -78,7 +82,21 @@ def refresh_derived(*, actor: User | None, record: CodedRecord,
         runs = [record]
     for template in templates:
         _recompute_template(template, actor=actor, why=why, old_material=old_material)
+    hooks = _import_hooks(tuple(getattr(settings, "SERSLEDGER_AMEND_HOOKS", ())))
     for run in runs:
+        before = _run_geometry(run)
         deposition_run_recompute(actor=actor, run=run, why=why)
-    for hook in _import_hooks(tuple(getattr(settings, "SERSLEDGER_AMEND_HOOKS", ()))):
+        after = _run_geometry(run)
+        geometry_changed = {name: (before[name], after[name]) for name in before
+                            if before[name] != after[name]}
+        # The run's own figures are inputs of other apps' figures (qc derives an EF's
+        # surface-area factor from D and h): tell them as if the run had been amended.
+        for hook in hooks if geometry_changed else ():
+            hook(actor=actor, record=run, changed=geometry_changed, why=why)
+    for hook in hooks:
         hook(actor=actor, record=record, changed=dict(changed), why=why)
+
+
+def _run_geometry(run: DepositionRun) -> dict[str, Any]:
+    """A run's film geometry as stored now (fresh from the database)."""
+    return DepositionRun.objects.filter(pk=run.pk).values(*RUN_GEOMETRY).get()

@@ -14,7 +14,16 @@ from inventory.api.fields import FiniteFloat, LabDate, NamedRef, RecordRef, Uplo
 from inventory.api.serializers import ServiceSerializer
 from inventory.models import NanoparticleBatch, ReagentLot, Substrate
 from qc import services
-from qc.models import ColloidMetal, IntensityMeasure, ReferenceAnalyte, ReferenceMeasurement
+from qc.models import (
+    ColloidLimitSet,
+    ColloidMetal,
+    IntensityMeasure,
+    QcLimitSet,
+    QcMeasurement,
+    ReferenceAnalyte,
+    ReferenceMeasurement,
+    UvVisRecord,
+)
 
 
 def _analyte(**kwargs):
@@ -41,13 +50,14 @@ class _Acquisition(_FileImport):
     laser_nm = FiniteFloat(help_text="Excitation wavelength.")
     power_mW = FiniteFloat(help_text="Laser power at the sample.")
     integration_s = FiniteFloat(help_text="Integration time per accumulation.")
-    accumulations = serializers.IntegerField(min_value=1, max_value=100000, default=1)
+    accumulations = serializers.IntegerField(default=1)  # bounds: the kind's range table
     objective = serializers.CharField(max_length=60, required=False, allow_blank=True)
     analyte = _analyte(required=False, allow_null=True, help_text="Name of the analyte, when "
                        "the lot is linked to more than one.")
 
 
 class UvVisImport(_FileImport):
+    ranges_model = UvVisRecord
     service = staticmethod(services.uvvis_record_import)
     batch = RecordRef(NanoparticleBatch, help_text="Code of the colloid batch.")
     dilution_factor = FiniteFloat(default=1.0, help_text="Total volume / colloid volume.")
@@ -62,6 +72,7 @@ class UvVisImport(_FileImport):
 
 
 class QcImport(_Acquisition):
+    ranges_model = QcMeasurement
     service = staticmethod(services.qc_measurement_submit)
     substrate = RecordRef(Substrate, help_text="Code of the substrate measured.")
     reference = RecordRef(ReferenceMeasurement, required=False, allow_null=True,
@@ -91,6 +102,7 @@ class QcImport(_Acquisition):
 
 
 class ReferenceImport(_Acquisition):
+    ranges_model = ReferenceMeasurement
     service = staticmethod(services.reference_measurement_import)
     concentration_mol_L = FiniteFloat(help_text="Analyte concentration of the neat/standard "
                                                 "sample.")
@@ -102,6 +114,7 @@ class ReferenceImport(_Acquisition):
 
 
 class QcLimitSetDefine(ServiceSerializer):
+    ranges_model = QcLimitSet
     service = staticmethod(services.qc_limit_set_define)
     product_kind = serializers.ChoiceField(choices=Substrate.Stage.choices,
                                            help_text="Substrate stage these limits judge.")
@@ -125,6 +138,7 @@ class QcLimitSetDefine(ServiceSerializer):
 
 
 class ColloidLimitSetSet(ServiceSerializer):
+    ranges_model = ColloidLimitSet
     service = staticmethod(services.colloid_limit_set_set)
     metal = serializers.ChoiceField(choices=ColloidMetal.choices)
     peak_min_nm = FiniteFloat()
@@ -141,6 +155,7 @@ class ColloidLimitSetSet(ServiceSerializer):
 
 
 class ReferenceAnalyteDefine(ServiceSerializer):
+    ranges_model = ReferenceAnalyte
     service = staticmethod(services.reference_analyte_define)
     name = serializers.CharField(max_length=120)
     band_positions_cm1 = serializers.ListField(child=FiniteFloat(), max_length=50)

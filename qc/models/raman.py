@@ -264,6 +264,9 @@ class QcMeasurement(_Acquisition, CodedRecord):
     ef_inputs = models.JSONField(null=True, blank=True, editable=False)
     limits_used = models.JSONField(default=dict, editable=False)
     passed = models.BooleanField(editable=False)
+    # Why the EF is no longer current (the film geometry its derived surface-area factor
+    # came from was amended); empty while it is.  Readiness treats a stale result as not passed.
+    stale_reason = models.TextField(blank=True, editable=False)
     failure_reasons = models.JSONField(default=list, editable=False)
 
     class Meta:

@@ -13,21 +13,27 @@ from dataclasses import dataclass
 from typing import Any
 
 from inventory.errors import refusal
-from inventory.models import Substrate
+from inventory.models import DepositionRun, Substrate
 from inventory.physics.template_geometry import segment_void_surface_area_factor
+from inventory.services.toolkit import User, save_changed
 from qc.analysis import enhancement
 from qc.analysis.errors import AnalysisInputError
 
-from ..models.raman import ReferenceMeasurement
+from ..models.raman import QcMeasurement, ReferenceMeasurement
 from .raman_analysis import FILE_FIELD, MeasuredBand, as_validation_error, relative_u
 
-__all__ = ["FILM_HEIGHT_REL_U_DEFAULT", "SurfaceArea", "SurfaceCoverage", "enhancement_fields",
-           "substrate_enhancement", "surface_area_for"]
+__all__ = ["FILM_HEIGHT_REL_U_DEFAULT", "SurfaceArea", "SurfaceCoverage",
+           "ef_mark_stale_on_geometry_change", "enhancement_fields", "substrate_enhancement",
+           "surface_area_for"]
 
 #: Relative standard uncertainty of a film height from the deposition charge when the lab
 #: gives none: current efficiency, electrode area and roughness together (project's
 #: default, not a published value; enter the lab's own from cross-sections).
 FILM_HEIGHT_REL_U_DEFAULT = 0.10
+
+
+#: How ``SurfaceArea.origin`` begins for a factor worked out from the substrate's deposition.
+DERIVED_ORIGIN = "derived"
 
 
 @dataclass(frozen=True)
@@ -77,7 +83,8 @@ def surface_area_for(substrate: Substrate, *, entered: float | None = None,
                       "area cannot be derived: enter the surface-area factor with its source, "
                       "or choose to assume 1.", "surface_area_unknown")
     if run.template_id is None:
-        return SurfaceArea(1.0, 0.0, f"derived: flat film from {run.code} (smooth metal), 1")
+        return SurfaceArea(1.0, 0.0,
+                           f"{DERIVED_ORIGIN}: flat film from {run.code} (smooth metal), 1")
     if run.film_height_nm is None or run.sphere_diameter_nm is None:
         raise refusal("surface_area_factor", f"{run.code} has no film height (no "
                       "chronoamperogram), so the metal area cannot be derived: enter the factor "
@@ -93,7 +100,7 @@ def surface_area_for(substrate: Substrate, *, entered: float | None = None,
         raise refusal("surface_area_factor", f"{run.code}: {error.message}; enter the factor "
                       "with its source.", "surface_area_unknown") from None
     return SurfaceArea(area.value, area.relative_uncertainty, (
-        f"derived: {area.model}; D = {run.sphere_diameter_nm:g} nm, h = "
+        f"{DERIVED_ORIGIN}: {area.model}; D = {run.sphere_diameter_nm:g} nm, h = "
         f"{run.film_height_nm:.0f} nm (±{100 * film_height_rel_u:g} %) from {run.code}"))
 
 
@@ -188,3 +195,31 @@ def enhancement_fields(factor, inputs: dict | None,
                 ef_inputs=inputs, surface_area_factor=surface_area.factor,
                 surface_area_factor_u=surface_area.factor * surface_area.rel_u,
                 surface_area_origin=surface_area.origin)
+
+
+# A run's figures the derived surface-area factor of a segment-void film depends on.
+GEOMETRY_FIELDS = frozenset({"sphere_diameter_nm", "film_height_nm", "height_over_diameter",
+                             "stale_reason"})
+
+
+def ef_mark_stale_on_geometry_change(*, actor: User | None, record, changed: dict,
+                                     why: str) -> None:
+    """``SERSLEDGER_AMEND_HOOKS``: an EF whose surface-area factor came from a changed film.
+
+    When a deposition run's sphere diameter or film height is worked out again (or marked
+    stale), the segment-void factor derived from the old pair no longer holds; working the EF
+    out again needs a person to confirm the factor, so each live QC result that derived its
+    factor from that run is marked stale with the reason (readiness then reports it).  A flat
+    film's factor is 1 whatever its height, and an entered or assumed factor does not depend
+    on the film, so those stay current.
+    """
+    if not isinstance(record, DepositionRun) or record.template_id is None \
+            or not GEOMETRY_FIELDS & changed.keys():
+        return
+    for measurement in QcMeasurement.objects.select_for_update().filter(
+            substrate__deposition_run=record, voided_at__isnull=True,
+            surface_area_origin__startswith=DERIVED_ORIGIN):
+        measurement.stale_reason = (f"{why}; its surface-area factor was derived from "
+                                    f"{record.code}'s film geometry before that change: "
+                                    "import the map again to work the EF out anew.")
+        save_changed(measurement, actor=actor, reason=f"figures stale: {why}")

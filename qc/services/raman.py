@@ -411,6 +411,9 @@ def substrate_release_check(record) -> str | None:
     if latest is None:
         raise refusal("substrate", f"{record.code} has no QC measurement at its current "
                                    f"stage ({record.get_stage_display()}).", "qc_missing")
+    if latest.stale_reason:
+        raise refusal("substrate", f"The latest QC of {record.code} ({latest.code}) has stale "
+                                   f"figures: {latest.stale_reason}", "figures_stale")
     if not latest.passed:
         raise refusal("substrate", f"The latest QC of {record.code} ({latest.code}) failed: "
                                    f"{' '.join(latest.failure_reasons)}", "qc_failed")

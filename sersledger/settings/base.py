@@ -205,6 +205,7 @@ SERSLEDGER_READINESS_PROVIDERS = [
 # mark stale the figures another app derived from them (inventory.services.derived).
 SERSLEDGER_AMEND_HOOKS = [
     "qc.services.colloid.uvvis_mark_stale_on_amend",
+    "qc.services.enhancement.ef_mark_stale_on_geometry_change",
 ]
 
 SERSLEDGER_RELEASE_CHECKS = [

@@ -45,3 +45,44 @@ def test_the_benchmarked_paths_are_kept(schema):
     assert {"/api/v1/substrates/", "/api/v1/substrates/{code}/",
             "/api/v1/substrates/{code}/readiness/", "/api/v1/records/{code}/lineage/",
             "/api/v1/expiring/", "/api/v1/flags/", "/api/v1/token/"} <= set(schema["paths"])
+
+
+def _write_serializers():
+    from inventory.api.serializers import ServiceSerializer
+
+    seen, todo = [], [ServiceSerializer]
+    while todo:
+        for sub in todo.pop().__subclasses__():
+            todo.append(sub)
+            if sub.ranges_model is not None:
+                seen.append(sub)
+    return seen
+
+
+def test_the_schema_declares_the_ranges_the_database_enforces(schema):
+    """Issue 16 item 8: each write body's numeric bounds are the kind's range table's.
+
+    The table (``inventory.models.ranges``, RANGES per kind) also makes the CHECK
+    constraints, so equal bounds mean the schema says what the database enforces; an open
+    lower end is ``exclusiveMinimum: true`` (OpenAPI 3.0.3, Schema Object).
+    """
+    from inventory.models.ranges import Span
+
+    components = schema["components"]["schemas"]
+    checked = []
+    for serializer in _write_serializers():
+        name = serializer.__name__ + "Request"
+        if name not in components:
+            continue  # an abstract base, or a body that is never sent alone
+        properties = components[name]["properties"]
+        for field, span in serializer.ranges_model.RANGES.items():
+            if not isinstance(span, Span) or field not in properties:
+                continue
+            spec = properties[field]
+            bounds = (spec.get("minimum"), spec.get("maximum"),
+                      spec.get("exclusiveMinimum", False))
+            assert bounds == (span.low, span.high, span.above), (name, field, spec)
+            checked.append((name, field))
+    assert len(checked) >= 30, checked
+    assert ("QcImportRequest", "accumulations") in checked
+    assert components["QcImportRequest"]["properties"]["accumulations"]["maximum"] == 10_000

@@ -103,6 +103,19 @@ def test_qc_upload_parameter_errors_name_the_parameter(qc_lab, clients):
     assert not QcMeasurement.objects.exists()
 
 
+@pytest.mark.parametrize("accumulations", ["0", "10001", "100000"])
+def test_accumulations_outside_the_range_table_are_refused_by_name(qc_lab, clients,
+                                                                   accumulations):
+    """The table (QC_MEASUREMENT_RANGES) allows 1 to 10 000; the serializer once let 100 000
+    through to the database's CHECK constraint."""
+    fields = qc_lab.upload_fields(qc_lab.chain.decorated_substrate(), "good_substrate_map.csv")
+    fields["accumulations"] = accumulations
+    response = clients["maker"].post("/api/v1/qc-measurements/", fields, format="multipart")
+    assert response.status_code == 400, response.content[:300]
+    assert [e["field"] for e in response.json()["errors"]] == ["accumulations"]
+    assert not QcMeasurement.objects.exists()
+
+
 def test_qc_detail_has_the_map_and_the_list_leaves_it_out(qc_lab, clients):
     measurement = qc_lab.measure(qc_lab.chain.decorated_substrate(), "good_substrate_map.csv")
     detail = clients["viewer"].get(f"/api/v1/qc-measurements/{measurement.code}/").json()

@@ -132,3 +132,89 @@ def test_a_non_finite_number_renders_as_invalid_value_not_an_error(chain):
     template.slide_area_cm2, template.spheres_per_cm2 = float("inf"), float("nan")
     shown = {row.label: row.value for row in field_rows(template)}
     assert list(shown.values()).count("invalid value") == 2, shown
+
+
+# --- QC enhancement factors whose surface-area factor was derived from the film geometry ---
+# The segment-void area factor depends on D and h (the film's geometry), so once either is
+# worked out again (or cannot be) the EF computed from the old pair is no longer current.
+
+
+def _qc_on(qc_lab, substrate, **surface_area):
+    from qc.services import qc_measurement_import
+    from tests.qc_lab import MAP_SETTINGS, RAMAN
+
+    name = "good_substrate_map.csv"
+    return qc_measurement_import(
+        actor=qc_lab.chain.maker, substrate=substrate, analyte_lot=qc_lab.lot, filename=name,
+        content=(RAMAN / name).read_bytes(), measured_on=qc_lab.chain.day(1),
+        reference=qc_lab.reference, shared_measurement=True, **surface_area, **MAP_SETTINGS)
+
+
+def _qc_reasons(substrate):
+    return {(reason.code, reason.record_code)
+            for reason in substrate_check_readiness(substrate.code).reasons}
+
+
+def test_a_sphere_diameter_correction_marks_a_derived_enhancement_factor_stale(
+        run_500nm, qc_lab, maker, client):
+    from qc.models import QcMeasurement
+
+    piece = run_500nm.substrates.get()
+    measured = _qc_on(qc_lab, piece)
+    assert measured.surface_area_origin.startswith("derived")
+    assert measured.stale_reason == ""
+    assert ("figures_stale", measured.code) not in _qc_reasons(piece)
+    spheres = SphereLot.objects.get(templates__deposition_runs=run_500nm)
+
+    _amend(maker, spheres, nominal_diameter_nm=600)
+
+    record = QcMeasurement.objects.get(pk=measured.pk)
+    assert record.stale_reason.startswith(f"{spheres.code} amended: nominal_diameter_nm")
+    assert record.enhancement_factor == measured.enhancement_factor  # kept, not current
+    history = record_get_history(record.code)[0]
+    assert history.reason.startswith("figures stale:")
+    assert history.version == measured.version + 1
+    assert ("figures_stale", record.code) in _qc_reasons(piece)
+    body = client_for(maker).get(f"/api/v1/qc-measurements/{record.code}/").json()
+    assert body["stale_reason"] == record.stale_reason
+    client.force_login(maker)
+    page = client.get(f"/r/{record.code}/")
+    assert page.status_code == 200
+    text = page.content.decode()
+    assert "stale: " + record.stale_reason[:40] in text
+    assert "stale (last worked out as" in text  # the EF is not shown as a current figure
+    assert "PASS" not in text.split('id="verdict"')[1].split("</p>")[0]
+
+
+def test_a_run_whose_figures_go_stale_takes_its_derived_qc_with_it(run_500nm, qc_lab, maker):
+    from qc.models import QcMeasurement
+
+    piece = run_500nm.substrates.get()
+    measured = _qc_on(qc_lab, piece)
+    run_500nm.chronoamperogram.storage.delete(run_500nm.chronoamperogram.name)
+    _amend(maker, run_500nm, electrode_area_cm2=2.0)
+    record = QcMeasurement.objects.get(pk=measured.pk)
+    assert record.stale_reason.startswith(f"{run_500nm.code} amended: electrode_area_cm2")
+    assert ("figures_stale", record.code) in _qc_reasons(piece)
+
+
+def test_an_entered_surface_area_factor_does_not_depend_on_the_film(run_500nm, qc_lab, maker):
+    from qc.models import QcMeasurement
+
+    piece = run_500nm.substrates.get()
+    measured = _qc_on(qc_lab, piece, surface_area_factor=2.0,
+                      surface_area_source="electrochemical surface area, lab notebook")
+    _amend(maker, SphereLot.objects.get(templates__deposition_runs=run_500nm),
+           nominal_diameter_nm=600)
+    record = QcMeasurement.objects.get(pk=measured.pk)
+    assert record.stale_reason == "" and record.version == measured.version
+
+
+def test_a_subnormal_solids_content_is_refused_not_a_division_by_zero(chain, maker):
+    """Found by the property test: 5e-324 % w/v is > 0 (in range) but 5e-324/100 is 0.0."""
+    from django.core.exceptions import ValidationError
+
+    template = chain.template()
+    with pytest.raises(ValidationError):
+        _amend(maker, template.sphere_lot, solids_percent_w_v=5e-324)
+    assert SphereLot.objects.get(pk=template.sphere_lot.pk).solids_percent_w_v != 5e-324
