@@ -29,7 +29,7 @@ from inventory.errors import refusal
 from inventory.models import Flag, NanoparticleBatch
 from inventory.roles import ADMINISTRATOR, MAKER, require_role
 from inventory.services import flag_raise, sha256_of
-from inventory.services.toolkit import User
+from inventory.services.toolkit import User, save_setting
 from inventory.services.toolkit import check_upload as _check_upload
 from inventory.services.toolkit import files_removed_if_failed as _files_removed_if_failed
 from inventory.services.toolkit import link as _link
@@ -99,25 +99,15 @@ def colloid_limit_set_set(
 ) -> ColloidLimitSet:
     """Create or change the lab's colloid limits for ``metal``; records keep their verdicts."""
     require_role(actor, ADMINISTRATOR, action="Setting colloid limits")
-    limits = ColloidLimitSet.objects.select_for_update().filter(metal=metal).first()
-    if limits is None:
-        limits = ColloidLimitSet(metal=metal, created_by=actor)
-    else:
-        limits.version += 1
-    limits.peak_min_nm, limits.peak_max_nm = peak_min_nm, peak_max_nm
-    limits.fwhm_max_nm = fwhm_max_nm
-    limits.peak_shift_max_nm = peak_shift_max_nm
-    limits.absorbance_loss_max_fraction = absorbance_loss_max_fraction
-    limits.aggregation_index_max = aggregation_index_max
-    limits.size_tolerance_percent = size_tolerance_percent
-    limits.flag_size_disagreement = flag_size_disagreement
-    limits.is_example = is_example
-    limits.rationale = rationale
-    limits.updated_by = actor
-    limits.full_clean()
-    _stamp_history(limits, actor=actor, reason=rationale)
-    limits.save()
-    return limits
+    return save_setting(ColloidLimitSet, actor=actor, scope={"metal": metal}, reason=rationale,
+                        values={
+                            "peak_min_nm": peak_min_nm, "peak_max_nm": peak_max_nm,
+                            "fwhm_max_nm": fwhm_max_nm, "peak_shift_max_nm": peak_shift_max_nm,
+                            "absorbance_loss_max_fraction": absorbance_loss_max_fraction,
+                            "aggregation_index_max": aggregation_index_max,
+                            "size_tolerance_percent": size_tolerance_percent,
+                            "flag_size_disagreement": flag_size_disagreement,
+                            "is_example": is_example, "rationale": rationale})
 
 
 @transaction.atomic
