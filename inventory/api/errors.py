@@ -24,6 +24,7 @@ from rest_framework import exceptions, serializers
 from rest_framework.views import exception_handler as drf_exception_handler
 
 from inventory.codes import RecordNotFound
+from inventory.errors import refusal_items
 
 _WHOLE_REQUEST = {None, NON_FIELD_ERRORS, "non_field_errors"}
 
@@ -39,14 +40,11 @@ class RequestTooLarge(exceptions.APIException):
 
 
 def _from_django(error: DjangoValidationError) -> exceptions.ValidationError:
-    """A service refusal as DRF's ValidationError, keeping each message's code."""
-    if hasattr(error, "error_dict"):
-        detail = {field: [serializers.ErrorDetail(message, code=item.code or "invalid")
-                          for item in items for message in item.messages]
-                  for field, items in error.error_dict.items()}
-    else:
-        detail = [serializers.ErrorDetail(message, code=item.code or "invalid")
-                  for item in error.error_list for message in item.messages]
+    """A service refusal as DRF's ValidationError, keeping each message's field and code."""
+    detail: dict[str, list[serializers.ErrorDetail]] = {}
+    for item in refusal_items(error):
+        detail.setdefault(item["field"] or NON_FIELD_ERRORS, []).append(
+            serializers.ErrorDetail(item["message"], code=item["code"]))
     return exceptions.ValidationError(detail)
 
 

@@ -2,26 +2,23 @@
 
 from __future__ import annotations
 
-import json
 from datetime import date
-from pathlib import Path
 
-from django.core.management.base import BaseCommand, CommandError
 from django.utils import timezone
 
-from inventory.management.cli import refusals_in_words, user_for_command
+from inventory.management.cli import RecordingCommand
 from inventory.models import ReagentLot, Substrate
 from qc.api.results import qc_measurement_summary
 from qc.models import ReferenceMeasurement
 from qc.services import qc_measurement_import
 
 
-class Command(BaseCommand):
+class Command(RecordingCommand):
     help = ("Import a reference-analyte Raman spectrum or map measured on a substrate: store "
             "its band figures, enhancement factor and uniformity, judge them against the "
             "lab's limits, and flag and hold the substrate if it fails.")
 
-    def add_arguments(self, parser):
+    def add_inputs(self, parser):
         parser.add_argument("substrate", help="substrate ID, e.g. SUB-00001")
         parser.add_argument("file", help="two-column spectrum, JCAMP-DX or map file")
         parser.add_argument("--analyte-lot", required=True, help="reagent lot ID, e.g. RGT-00011")
@@ -43,36 +40,25 @@ class Command(BaseCommand):
                             help="where the entered surface-area factor comes from")
         parser.add_argument("--assume-surface-area-one", action="store_true",
                             help="assume a surface-area factor of 1 (recorded as assumed)")
-        parser.add_argument("--user", help="username recorded as the actor")
-        parser.add_argument("--json", action="store_true", help="print one JSON object")
 
-    def handle(self, *args, **options):
-        substrate = _get(Substrate, options["substrate"], "substrate")
-        lot = _get(ReagentLot, options["analyte_lot"], "reagent lot")
-        reference = _get(ReferenceMeasurement, options["reference"], "reference measurement") \
-            if options["reference"] else None
-        path = Path(options["file"])
-        if not path.is_file():
-            raise CommandError(f"No such file: {path}")
-        with refusals_in_words():
-            measurement = qc_measurement_import(
-                actor=user_for_command(options["user"]), substrate=substrate, analyte_lot=lot,
-                filename=path.name, content=path.read_bytes(),
-                measured_on=options["measured_on"] or timezone.localdate(),
-                laser_nm=options["laser_nm"], power_mW=options["power_mw"],
-                integration_s=options["integration_s"], accumulations=options["accumulations"],
-                objective=options["objective"], reference=reference,
-                surface_area_factor=options["surface_area_factor"],
-                surface_area_source=options["surface_area_source"],
-                surface_area_assumed_one=options["assume_surface_area_one"])
-        summary = qc_measurement_summary(measurement)
-        if options["json"]:
-            self.stdout.write(json.dumps(summary, indent=2))
-        else:
-            self._print(summary)
+    def record(self, *, actor, options) -> dict:
+        substrate = self.get_record(Substrate, options["substrate"], "substrate")
+        lot = self.get_record(ReagentLot, options["analyte_lot"], "reagent lot")
+        reference = self.get_record(ReferenceMeasurement, options["reference"],
+                                    "reference measurement") if options["reference"] else None
+        filename, content = self.read_file(options["file"])
+        measurement = qc_measurement_import(
+            actor=actor, substrate=substrate, analyte_lot=lot, filename=filename,
+            content=content, measured_on=options["measured_on"] or timezone.localdate(),
+            laser_nm=options["laser_nm"], power_mW=options["power_mw"],
+            integration_s=options["integration_s"], accumulations=options["accumulations"],
+            objective=options["objective"], reference=reference,
+            surface_area_factor=options["surface_area_factor"],
+            surface_area_source=options["surface_area_source"],
+            surface_area_assumed_one=options["assume_surface_area_one"])
+        return qc_measurement_summary(measurement)
 
-
-    def _print(self, summary: dict) -> None:
+    def show(self, summary: dict) -> None:
         verdict = "PASS" if summary["passed"] else "FAIL"
         self.stdout.write(f"{summary['measurement']} on {summary['substrate']}: {verdict}")
         for key in ("band_position_cm1", "normalised_height_counts_per_mW_s", "snr",
@@ -90,9 +76,3 @@ class Command(BaseCommand):
         for flag in summary["flags"]:
             self.stdout.write(f"  FLAG {flag['code']} on {flag['target']}")
 
-
-def _get(model, code: str, what: str):
-    record = model.objects.filter(code=code.strip().upper()).first()
-    if record is None:
-        raise CommandError(f"No {what} has the ID '{code}'.")
-    return record
