@@ -3,7 +3,8 @@
 An editable install reads templates and static files from the source tree, so it cannot
 show that they travel in the wheel.  This builds the wheel, installs it with the server
 extra into a new virtual environment outside the repository, then, from a directory with no
-source in it, runs the production settings on a new SQLite database with the demo loaded:
+source in it, runs the production settings on a new SQLite database with the demo loaded
+(its invented instrument files read from the checkout's fixtures/, which are test data):
 collectstatic (whitenoise serves the result), then signs in and asks for each page, the API
 docs and a static file.  Any answer other than 200 fails the check.
 
@@ -53,7 +54,7 @@ sys.exit(f"pages that did not answer 200: {failed}" if failed else 0)
 
 
 def run(*command: str, **kwargs) -> None:
-    print("+", " ".join(command), flush=True)
+    print("+", " ".join(c if "\n" not in c else "<script>" for c in command), flush=True)
     subprocess.run(command, check=True, **kwargs)
 
 
@@ -78,6 +79,8 @@ def main() -> int:
             "SECRET_KEY": "wheel-check-" + os.urandom(24).hex(),
             "ALLOWED_HOSTS": "sersledger.example",
             "SERSLEDGER_DATA_DIR": str(work / "data"),
+            # The demo's invented instrument files are test data, not part of the wheel.
+            "SERSLEDGER_DEMO_FILES": str(REPO / "fixtures"),
             "PYTHONPATH": "",
         }
         environment.pop("DATABASE_URL", None)
