@@ -9,6 +9,8 @@ collectstatic (whitenoise serves the result), then signs in and asks for each pa
 docs and a static file.  Any answer other than 200 fails the check.
 
     python .ci/check_wheel.py            # exit 0 when every page answers 200
+    python .ci/check_wheel.py /tmp/wv    # keep (and reuse) the venv there: only the wheel
+                                         # is reinstalled on the next run
 """
 
 from __future__ import annotations
@@ -35,7 +37,7 @@ from django.test import Client
 from inventory.models import DepositionRun, Substrate
 import bench, inventory
 assert "site-packages" in bench.__file__, bench.__file__  # the wheel, not the source tree
-client = Client(HTTP_HOST="sersledger.example", secure=True)
+client = Client(HTTP_HOST="sersledger.example")
 client.force_login(get_user_model().objects.get(username="rin.okafor"))
 substrate = Substrate.objects.order_by("code").first().code
 run = DepositionRun.objects.order_by("code").first().code
@@ -45,7 +47,7 @@ pages = ["/", "/check/", f"/check/?code={substrate}", "/stock/", "/review/", "/m
          "/static/admin/css/base.css"]
 failed = []
 for page in pages:
-    response = client.get(page)
+    response = client.get(page, secure=True)  # as behind the TLS proxy
     print(response.status_code, page)
     if response.status_code != 200:
         failed.append(page)
@@ -65,10 +67,13 @@ def main() -> int:
         run(sys.executable, "-m", "pip", "wheel", "--quiet", "--no-deps", "--wheel-dir",
             str(wheels), str(REPO))
         wheel = next(wheels.glob("sersledger-*.whl"))
-        env_dir = scratch_path / "venv"
-        venv.EnvBuilder(with_pip=True).create(env_dir)
+        env_dir = Path(sys.argv[1]) if len(sys.argv) > 1 else scratch_path / "venv"
         python = str(env_dir / "bin" / "python")
         constraints = REPO / "requirements" / "constraints.txt"
+        if not (env_dir / "bin" / "python").exists():
+            venv.EnvBuilder(with_pip=True).create(env_dir)
+        else:  # a kept venv: replace the previous build of the project only
+            run(python, "-m", "pip", "uninstall", "--quiet", "--yes", "sersledger")
         run(python, "-m", "pip", "install", "--quiet", "-c", str(constraints),
             f"{wheel}[server]")
         work = scratch_path / "site"
