@@ -550,21 +550,42 @@ class LabGenerator:
         for i in range(n_rows):
             piece = self.pieces[i // per_substrate]
             code = f"QCM-{i + 1:05d}"
-            rows.append(QcMeasurement(
-                id=i + 1, code=code, analyte_id=1, analyte_lot_id=lot_id,
-                measured_on=min(piece.made_on + timedelta(days=1 + i % per_substrate), self.today),
-                raw_file=f"qc/raman/{code}.txt", raw_filename=f"{code}.txt",
-                raw_sha256=f"{i:064x}", laser_nm=785.0, power_mW=5.0, integration_s=1.0,
-                band_center_cm1=1075.0, band_window_cm1=40.0, band_position_cm1=1075.5,
-                band_fwhm_cm1=12.0, normalised_height_counts_per_mW_s=float(heights[i]),
-                normalised_area_counts_cm1_per_mW_s=float(heights[i]) * 15.0,
-                snr=float(snrs[i]), is_map=True, n_points=100, rsd_percent=float(rsd[i]),
-                enhancement_factor=float(10 ** log10_ef[i]),
-                enhancement_factor_u=float(0.25 * 10 ** log10_ef[i]),
-                log10_enhancement_factor=float(log10_ef[i]),
-                log10_enhancement_factor_u=0.11, substrate_id=piece.id, limit_set_id=limits[piece.stage].id,
-                product_kind=piece.stage, passed=bool(snrs[i] >= 10.0),
-                failure_reasons=[] if snrs[i] >= 10.0 else ["snr below the limit"]))
+            rows.append(
+                QcMeasurement(
+                    id=i + 1,
+                    code=code,
+                    analyte_id=1,
+                    analyte_lot_id=lot_id,
+                    measured_on=min(
+                        piece.made_on + timedelta(days=1 + i % per_substrate), self.today
+                    ),
+                    raw_file=f"qc/raman/{code}.txt",
+                    raw_filename=f"{code}.txt",
+                    raw_sha256=f"{i:064x}",
+                    laser_nm=785.0,
+                    power_mW=5.0,
+                    integration_s=1.0,
+                    band_center_cm1=1075.0,
+                    band_window_cm1=40.0,
+                    band_position_cm1=1075.5,
+                    band_fwhm_cm1=12.0,
+                    normalised_height_counts_per_mW_s=float(heights[i]),
+                    normalised_area_counts_cm1_per_mW_s=float(heights[i]) * 15.0,
+                    snr=float(snrs[i]),
+                    is_map=True,
+                    n_points=100,
+                    rsd_percent=float(rsd[i]),
+                    enhancement_factor=float(10 ** log10_ef[i]),
+                    enhancement_factor_u=float(0.25 * 10 ** log10_ef[i]),
+                    log10_enhancement_factor=float(log10_ef[i]),
+                    log10_enhancement_factor_u=0.11,
+                    substrate_id=piece.id,
+                    limit_set_id=limits[piece.stage].id,
+                    product_kind=piece.stage,
+                    passed=bool(snrs[i] >= 10.0),
+                    failure_reasons=[] if snrs[i] >= 10.0 else ["snr below the limit"],
+                )
+            )
             self.stamp(rows[-1], self.user_ids, i)
         self.insert("qcmeasurement", QcMeasurement, rows)
 

@@ -76,10 +76,13 @@ def _chronoamperogram_csv(height_over_diameter: float) -> bytes:
 
 def planted_log10_ef(height_over_diameter, colloid_age_d, bad_lot, noise=0.0):
     p = PLANTED
-    return (p["log10_ef_at_optimum"]
-            - p["curvature_per_unit2"] * (height_over_diameter - p["optimum_height_over_diameter"]) ** 2
-            + p["colloid_ageing_log10_per_day"] * colloid_age_d
-            + p["bad_lot_log10"] * bad_lot + noise)
+    return (
+        p["log10_ef_at_optimum"]
+        - p["curvature_per_unit2"] * (height_over_diameter - p["optimum_height_over_diameter"]) ** 2
+        + p["colloid_ageing_log10_per_day"] * colloid_age_d
+        + p["bad_lot_log10"] * bad_lot
+        + noise
+    )
 
 
 @transaction.atomic

@@ -2,9 +2,9 @@
 groups of a categorical setting with their intervals.
 
 Drawn in the project's palette (the colour tokens of bench/templates/base.html; insight sits
-beside bench, so it keeps its own two small helpers rather than import bench's); SVG keeps each point's
-link (matplotlib writes ``<a xlink:href>`` around a marker given a URL), so the page inlines
-the SVG and a click on a point opens that substrate.
+beside bench, so it keeps its own two small helpers rather than import bench's); SVG keeps
+each point's link (matplotlib writes ``<a xlink:href>`` around a marker given a URL), so the
+page inlines the SVG and a click on a point opens that substrate.
 """
 
 from __future__ import annotations

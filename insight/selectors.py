@@ -22,9 +22,23 @@ from qc.models import QcLimitSet, QcMeasurement, UvVisRecord
 
 from .columns import CATEGORICAL_SETTINGS, NUMERIC_SETTINGS, OUTCOMES
 
-IDENTITY = ["substrate_code", "substrate_id", "made_on", "stage", "status", "expires_on",
-            "metal", "linker_made_on", "attached_on", "analyte", "qc_code", "qc_measured_on", "failure_reasons", "open_flags",
-            "flag_categories"]
+IDENTITY = [
+    "substrate_code",
+    "substrate_id",
+    "made_on",
+    "stage",
+    "status",
+    "expires_on",
+    "metal",
+    "linker_made_on",
+    "attached_on",
+    "analyte",
+    "qc_code",
+    "qc_measured_on",
+    "failure_reasons",
+    "open_flags",
+    "flag_categories",
+]
 COLUMNS = IDENTITY + list(CATEGORICAL_SETTINGS) + list(NUMERIC_SETTINGS) + list(OUTCOMES)
 
 

@@ -30,8 +30,13 @@ from .analysis.trend import lowess_trend
 from .columns import CATEGORICAL_SETTINGS, NUMERIC_SETTINGS, OUTCOMES
 from .exports import table_csv, table_xlsx
 from .selectors import InsightFilters, insight_table, limits_for, numeric
-from .services import DEFAULT_TARGET, REGRESSION_OUTCOMES, curvature_column, drift_flags_raise, \
-    insight_report
+from .services import (
+    DEFAULT_TARGET,
+    REGRESSION_OUTCOMES,
+    curvature_column,
+    drift_flags_raise,
+    insight_report,
+)
 
 PLOTTED_EFFECTS = 3
 

@@ -35,10 +35,19 @@ class DriftFinding:
     evidence: tuple[str, ...]  # the rule sentences, with the substrate that completed each
 
     def as_dict(self) -> dict:
-        return {"key": self.key, "metric": self.metric, "n": self.n, "signals": self.signals,
-                "rules": list(self.rules), "mean": self.mean, "centre": self.centre, "sigma": self.sigma,
-                "lower_limit": self.lower_limit, "upper_limit": self.upper_limit,
-                "evidence": list(self.evidence)}
+        return {
+            "key": self.key,
+            "metric": self.metric,
+            "n": self.n,
+            "signals": self.signals,
+            "rules": list(self.rules),
+            "mean": self.mean,
+            "centre": self.centre,
+            "sigma": self.sigma,
+            "lower_limit": self.lower_limit,
+            "upper_limit": self.upper_limit,
+            "evidence": list(self.evidence),
+        }
 
 
 def drift_by(frame: pd.DataFrame, *, key: str, metric: str, order: str = "made_on",

@@ -2,11 +2,16 @@
 
 import pytest
 
+from insight.demo import BAD_SPHERE_LOT, PLANTED, load_insight_demo
+from insight.services import (
+    DRIFT_FLAG_CATEGORY,
+    curvature_column,
+    drift_flags_raise,
+    insight_report,
+)
 from inventory.demo import apply_rule_correction, load_inventory_demo
 from inventory.demo_deposition import load_deposition_demo
 from inventory.models import Flag, SphereLot
-from insight.demo import BAD_SPHERE_LOT, PLANTED, load_insight_demo
-from insight.services import DRIFT_FLAG_CATEGORY, curvature_column, drift_flags_raise, insight_report
 from qc.demo_colloid import load_colloid_demo
 from qc.demo_raman import load_raman_demo
 

@@ -5,15 +5,14 @@ import csv
 import io
 import re
 
-import pytest
 from django.db import connection
 from django.test.utils import CaptureQueriesContext
 from django.urls import reverse
 from openpyxl import load_workbook
 
-from inventory.models import Flag, SphereLot
 from insight.demo import BAD_SPHERE_LOT
 from insight.services import DRIFT_FLAG_CATEGORY
+from inventory.models import Flag, SphereLot
 from tests.insight.test_demo_recovery import demo  # noqa: F401  (the planted demo fixture)
 
 

@@ -5,6 +5,7 @@ from importlib.resources import files
 import numpy as np
 import pandas as pd
 import pytest
+from statsmodels.nonparametric.smoothers_lowess import lowess
 
 from insight.analysis import NotEnoughData
 from insight.analysis.drift import drift_by
@@ -12,7 +13,6 @@ from insight.analysis.groups import compare_groups, mean_interval
 from insight.analysis.mixed import mixed_effects
 from insight.analysis.proportions import wilson_pass_rate
 from insight.analysis.trend import lowess_trend, lowess_weights, rice_variance
-from statsmodels.nonparametric.smoothers_lowess import lowess
 from insight.analysis.window import operating_window
 
 
