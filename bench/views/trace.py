@@ -12,7 +12,8 @@ from django.shortcuts import render
 from bench import page_queries, plots
 from bench.labels import made_on_of
 from inventory.codes import RecordNotFound, record_get
-from inventory.models import Flag, NanoparticleBatch, StatusChange, Substrate
+from inventory.flags import flags_open
+from inventory.models import NanoparticleBatch, StatusChange, Substrate
 from inventory.prov import lineage_as_prov
 from inventory.selectors import record_get_ancestors, record_get_descendants
 from qc.models import QcMeasurement, UvVisRecord
@@ -99,8 +100,7 @@ def trace_report(request, code: str):
         .select_related("substrate").order_by("substrate__code", "-measured_on"),
         "uvvis": UvVisRecord.objects.filter(batch__in=batches)
         .select_related("batch").order_by("batch__code", "measured_on"),
-        "open_flags": Flag.objects.filter(target_code__in=codes, state=Flag.State.OPEN)
-        .order_by("target_code", "code"),
+        "open_flags": flags_open(target_codes=codes).order_by("target_code", "code"),
         "status_changes": StatusChange.objects.filter(record_code__in=codes)
         .select_related("changed_by").order_by("record_code", "changed_at"),
         "signatures": [s for r in records for s in page_queries.record_signatures(r)],

@@ -11,11 +11,12 @@ from typing import ClassVar
 
 from django import forms
 from django.conf import settings
-from django.core.exceptions import NON_FIELD_ERRORS, ValidationError
+from django.core.exceptions import ValidationError
 from django.utils import timezone
 
 from inventory.models import CodedRecord
 
+from ...refusals import form_add_refusal
 from .. import defaults
 
 
@@ -162,15 +163,4 @@ class MakeForm(forms.Form):
 
     def add_service_error(self, error: ValidationError) -> None:
         """Put a service refusal beside the field it names (or above the form)."""
-        if not hasattr(error, "error_dict"):
-            self.add_error(None, error)
-            return
-        for field, errors in error.error_dict.items():
-            target = self.error_fields.get(field, field)
-            if target in self.fields:
-                self.add_error(target, errors)
-            elif field == NON_FIELD_ERRORS:
-                self.add_error(None, errors)
-            else:
-                self.add_error(None, [f"{field}: {message}"
-                                      for e in errors for message in e.messages])
+        form_add_refusal(self, error, field_map=self.error_fields)
