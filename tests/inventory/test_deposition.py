@@ -402,7 +402,8 @@ def test_a_unit_suffix_header_imports_through_the_command(chain, run, tmp_path):
     suffixed = tmp_path / "suffixed.csv"
     suffixed.write_text(text, encoding="utf-8")
     out = io.StringIO()
-    call_command("import_chronoamperogram", run.code, str(suffixed), "--json", stdout=out)
+    call_command("import_chronoamperogram", run.code, str(suffixed), "--json", "--user", "maker",
+                 stdout=out)
     payload = json.loads(out.getvalue())
     run.refresh_from_db()
     assert (run.time_unit, run.current_unit) == ("s", "mA")
@@ -417,6 +418,6 @@ def test_an_unknown_unit_suffix_is_refused_by_name(chain, run, tmp_path):
     bad = tmp_path / "picoamps.csv"
     bad.write_text(text, encoding="utf-8")
     with pytest.raises(CommandError, match="unknown unit 'pA'"):
-        call_command("import_chronoamperogram", run.code, str(bad))
+        call_command("import_chronoamperogram", run.code, str(bad), "--user", "maker")
     run.refresh_from_db()
     assert run.charge_C is None
