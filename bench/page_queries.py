@@ -16,7 +16,8 @@ from django.db import models
 from django.db.models import Count, Q
 
 from inventory import selectors
-from inventory.models import Flag, LifecycleRecord, Status
+from inventory.flags import flags_open
+from inventory.models import LifecycleRecord, Status
 from inventory.selectors import ACTIVE_STATUSES, ExpiringItem
 from inventory.shelf_life import LIFECYCLE_KINDS
 
@@ -286,4 +287,4 @@ def quarantine_records(kind: str):
 
 def open_flags():
     """Open flags, newest first (a queryset to slice or paginate)."""
-    return Flag.objects.filter(state=Flag.State.OPEN).order_by("-created_at", "-id")
+    return flags_open().order_by("-created_at", "-id")

@@ -15,7 +15,8 @@ from django.conf import settings
 from django.db.models import Max
 
 from inventory.codes import records_by_code
-from inventory.models import Flag, NanoparticleBatch, Status, Substrate
+from inventory.flags import flags_open
+from inventory.models import NanoparticleBatch, Status, Substrate
 from inventory.roles import REVIEWER, user_has_role
 from inventory.selectors import ACTIVE_STATUSES, records_expiring_within
 from qc.models import UvVisRecord
@@ -65,8 +66,7 @@ def expiring_for(user, *, today: date, days: int | None = None) -> list[Reminder
 
 
 def open_flags_for(user) -> list[Reminder]:
-    flags = list(Flag.objects.filter(state=Flag.State.OPEN, voided_at__isnull=True)
-                 .order_by("code"))
+    flags = list(flags_open().order_by("code"))
     targets = records_by_code([flag.target_code for flag in flags], fields=["created_by"])
     return [Reminder(flag.code, f"{flag.code} on {flag.target_code}: {flag.message}", None)
             for flag in flags

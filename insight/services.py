@@ -16,6 +16,7 @@ import numpy as np
 import pandas as pd
 from django.db import transaction
 
+from inventory.flags import flags_open
 from inventory.models import Flag, SphereLot, Status
 from inventory.services import flag_raise
 
@@ -291,8 +292,8 @@ def drift_flags_raise(*, actor, filters: InsightFilters | None = None,
     report = report or insight_report(filters)
     findings = [f for f in report.drift if f.key.startswith(SphereLot.CODE_PREFIX)]
     lots = {lot.code: lot for lot in SphereLot.objects.filter(code__in={f.key for f in findings})}
-    already = set(Flag.objects.filter(target_code__in=lots, category=DRIFT_FLAG_CATEGORY,
-                                      state=Flag.State.OPEN).values_list("target_code", flat=True))
+    already = set(flags_open(target_codes=lots, category=DRIFT_FLAG_CATEGORY)
+                  .values_list("target_code", flat=True))
     raised = []
     for code in sorted(lots.keys() - already):
         evidence = [f for f in findings if f.key == code]

@@ -23,7 +23,7 @@ from .services.deposition import (
 
 __all__ = ["CHRONOAMPEROGRAM_DEMO_FILES", "EXAMPLE_GOLD_TOLERANCE", "load_deposition_demo"]
 
-CHRONOAMPEROGRAM_DIR = Path(settings.BASE_DIR) / "fixtures" / "chronoamperograms"
+CHRONOAMPEROGRAM_DIR = Path(settings.SERSLEDGER_DEMO_FILES) / "chronoamperograms"
 
 #: Example value: 0.05 in h/D is 30 nm of film height on the demo's 600 nm spheres.
 EXAMPLE_GOLD_TOLERANCE = 0.05

@@ -18,9 +18,9 @@ from django.utils import timezone
 from django.utils.module_loading import import_string
 
 from .codes import record_get
+from .flags import flags_open
 from .lineage import Lineage, record_get_ancestors
 from .models import (
-    Flag,
     LifecycleRecord,
     LinkerLayer,
     NanoparticleBatch,
@@ -168,8 +168,7 @@ def _stale_reasons(context: ReadinessContext) -> list[Reason]:
 
 def _flag_reasons(context: ReadinessContext) -> list[Reason]:
     codes = [context.substrate.code, *context.ancestry.depth]
-    open_flags = Flag.objects.filter(target_code__in=codes, state=Flag.State.OPEN,
-                                     voided_at__isnull=True).order_by("target_code", "code")
+    open_flags = flags_open(target_codes=codes).order_by("target_code", "code")
     reasons = []
     for flag in open_flags:
         where = "this substrate" if flag.target_code == context.substrate.code \

@@ -21,7 +21,7 @@ from .services.colloid import colloid_limit_set_set, uvvis_record_import
 
 __all__ = ["EXAMPLE_COLLOID_LIMITS", "UVVIS_DEMO_SERIES", "load_colloid_demo"]
 
-UVVIS_DIR = Path(settings.BASE_DIR) / "fixtures" / "uvvis"
+UVVIS_DIR = Path(settings.SERSLEDGER_DEMO_FILES) / "uvvis"
 
 # metal: (peak min, peak max, max FWHM, max shift, max loss, max aggregation index, why)
 EXAMPLE_COLLOID_LIMITS = {

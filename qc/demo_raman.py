@@ -28,7 +28,7 @@ from .services.raman import (
 
 __all__ = ["load_raman_demo"]
 
-FIXTURES = Path(settings.BASE_DIR) / "fixtures" / "raman"
+FIXTURES = Path(settings.SERSLEDGER_DEMO_FILES) / "raman"
 DEMO_ANALYTE = "Benzenethiol"
 MAP_SETTINGS = dict(laser_nm=785.0, power_mW=2.0, integration_s=1.0, accumulations=1,
                     objective="50× (demo)")

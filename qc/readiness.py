@@ -2,8 +2,8 @@
 
 Plugged in through ``settings.SERSLEDGER_READINESS_PROVIDERS`` as
 ``"qc.readiness.qc_reasons"``.  QC is required for a product kind (substrate stage) when the
-lab has a limit set for it; the latest QC measurement at the substrate's current stage, made
-on or before the day checked, decides; a QC import still being analysed blocks
+lab has a limit set for it; the current QC result (``qc.selectors.qc_measurement_get_latest``)
+measured on or before the day checked decides; a QC import still being analysed blocks
 readiness until it is judged; a latest measurement whose EF went stale (the film geometry
 it was derived from was amended) counts as not passed; a colloid upstream whose UV-vis
 figures are stale (its metal was amended) is reported too.  Four queries at most.
@@ -16,7 +16,8 @@ from inventory.readiness import ReadinessContext, Reason
 
 from .models.colloid import UvVisRecord
 from .models.imports import QcImport
-from .models.raman import QcLimitSet, QcMeasurement
+from .models.raman import QcLimitSet
+from .selectors.current import qc_measurement_get_latest
 
 __all__ = ["qc_reasons"]
 
@@ -40,14 +41,10 @@ def _qc_measurement_reasons(context: ReadinessContext) -> list[Reason]:
                                      f"{substrate.code} is still being analysed "
                                      f"({pending.get_state_display().lower()}).",
                        substrate.code)]
-    latest = (QcMeasurement.objects
-              .filter(substrate_id=substrate.pk, product_kind=substrate.stage,
-                      analyte_id__in=list(limits), measured_on__lte=context.on_date,
-                      voided_at__isnull=True)  # a voided result no longer speaks for it
-              .order_by("-measured_on", "-id")
-              .only("code", "measured_on", "passed", "failure_reasons", "analyte_id",
-                    "stale_reason")
-              .first())
+    latest = qc_measurement_get_latest(
+        substrate, on_date=context.on_date, analyte_ids=limits,
+        fields=("code", "measured_on", "passed", "failure_reasons", "analyte_id",
+                "stale_reason"))
     if latest is None:
         return [Reason("qc_missing", f"{substrate.code} has no QC measurement as a "
                                      f"{substrate.get_stage_display().lower()}.",

@@ -8,6 +8,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 
+from inventory.flags import flags_open
 from inventory.models import Dataset, DepositionRun, Flag
 from inventory.services import deposition_run_check_target
 from inventory.uncertainty_format import format_with_uncertainty
@@ -36,10 +37,7 @@ def fmt(value, spec: str = ".4g", unit: str = "") -> str:
 
 def _open_flags(codes: list[str], *, mentioning: str = "") -> list[Flag]:
     """Open flags on these records (those whose message names ``mentioning``, if given)."""
-    rows = Flag.objects.filter(target_code__in=codes, state=Flag.State.OPEN)
-    if mentioning:
-        rows = rows.filter(message__contains=mentioning)
-    return list(rows.order_by("code"))
+    return list(flags_open(target_codes=codes, mentioning=mentioning).order_by("code"))
 
 
 def deposition_result(run: DepositionRun) -> Result:

@@ -23,7 +23,9 @@ from django.utils.http import url_has_allowed_host_and_scheme
 from django.views.decorators.http import require_POST
 
 from bench import page_queries, plots
+from bench.refusals import form_add_refusal
 from bench.views._common import int_param, paginate, record_or_404, table_download
+from inventory.flags import flags_open, flags_open_by_code
 from inventory.models import Flag, LifecycleRecord, NanoparticleBatch, Status, Substrate
 from inventory.physics.chronoamperogram import parse_chronoamperogram
 from inventory.roles import REVIEWER, require_role
@@ -34,6 +36,7 @@ from qc.models import QcMeasurement, ReferenceMeasurement, UvVisRecord
 from qc.selectors import (
     measurement_get_stored_results,
     qc_control_chart,
+    qc_measurements_get_latest,
     uvvis_record_get_curves,
 )
 from qc.selectors.raman import CHART_METRICS
@@ -46,18 +49,6 @@ PLOT_CACHE_SECONDS = 24 * 3600  # plots of stored results never change; a day bo
 # ---------------------------------------------------------------------------------------
 
 
-def _latest_qc_by_substrate(substrates) -> dict[int, QcMeasurement]:
-    """Newest QC of each substrate at its current stage (one query for the whole page)."""
-    stage = {s.pk: s.stage for s in substrates}
-    newest: dict[int, QcMeasurement] = {}
-    rows = (QcMeasurement.objects.filter(substrate_id__in=stage)
-            .defer("point_values", "ef_inputs").order_by("substrate_id", "-measured_on", "-id"))
-    for measurement in rows:
-        if measurement.product_kind == stage[measurement.substrate_id]:
-            newest.setdefault(measurement.substrate_id, measurement)
-    return newest
-
-
 def _latest_uvvis_by_batch(batches) -> dict[int, UvVisRecord]:
     newest: dict[int, UvVisRecord] = {}
     rows = (UvVisRecord.objects.filter(batch_id__in=[b.pk for b in batches])
@@ -67,13 +58,6 @@ def _latest_uvvis_by_batch(batches) -> dict[int, UvVisRecord]:
     for record in rows:
         newest.setdefault(record.batch_id, record)
     return newest
-
-
-def _open_flag_codes(codes) -> dict[str, list[Flag]]:
-    found: dict[str, list[Flag]] = {}
-    for flag in Flag.objects.filter(target_code__in=codes, state=Flag.State.OPEN):
-        found.setdefault(flag.target_code, []).append(flag)
-    return found
 
 
 @login_required
@@ -88,9 +72,9 @@ def review(request):
         return download
     queue = paginate(request, waiting)
     items = list(queue.object_list)
-    latest_qc = _latest_qc_by_substrate(items) if kind == "substrate" else {}
+    latest_qc = qc_measurements_get_latest(items) if kind == "substrate" else {}
     latest_uv = _latest_uvvis_by_batch(items) if kind == "nanoparticlebatch" else {}
-    flags_on = _open_flag_codes([r.code for r in items])
+    flags_on = flags_open_by_code([r.code for r in items])
     # The day the lot was made or received, not the day it was typed in.
     rows = [{"record": r, "qc": latest_qc.get(r.pk), "uvvis": latest_uv.get(r.pk),
              "made": getattr(r, "made_on", None) or getattr(r, "received_on", None),
@@ -126,15 +110,6 @@ class SignatureForm(forms.Form):
         return data
 
 
-def _add_service_errors(form: forms.Form, error: ValidationError) -> None:
-    """Put the service's refusal beside the field it names (or above the form)."""
-    if not hasattr(error, "error_dict"):
-        form.add_error(None, error)
-        return
-    for field, messages_ in error.message_dict.items():
-        form.add_error(field if field in form.fields else None, messages_)
-
-
 def _sign(request, record, form: SignatureForm):
     from inventory import services
 
@@ -158,15 +133,14 @@ def review_sign(request, code: str):
         try:
             signed = _sign(request, record, form)
         except ValidationError as error:
-            _add_service_errors(form, error)
+            form_add_refusal(form, error)
         else:
             messages.success(request, f"{signed.code} is now {signed.get_status_display()}.")
             return redirect(reverse("record", args=[signed.code]))
     context = {"record": record, "kind": record._meta.verbose_name, "form": form,
-               "qc": None, "flags": Flag.objects.filter(target_code=record.code,
-                                                        state=Flag.State.OPEN)}
+               "qc": None, "flags": flags_open(target_codes=[record.code]).order_by("code")}
     if isinstance(record, Substrate):
-        context["qc"] = _latest_qc_by_substrate([record]).get(record.pk)
+        context["qc"] = qc_measurements_get_latest([record]).get(record.pk)
     if isinstance(record, NanoparticleBatch):
         context["uvvis"] = _latest_uvvis_by_batch([record]).get(record.pk)
     context["in_quarantine"] = record.status == Status.QUARANTINE

@@ -14,7 +14,8 @@ from django.template.loader import render_to_string
 from bench import page_queries, plots
 from bench.labels import made_on_of
 from inventory.codes import RecordNotFound, record_get
-from inventory.models import DepositionRun, Flag, NanoparticleBatch, StatusChange, Substrate
+from inventory.flags import flags_open
+from inventory.models import DepositionRun, NanoparticleBatch, StatusChange, Substrate
 from inventory.prov import lineage_as_prov
 from inventory.selectors import record_get_ancestors, record_get_descendants
 from qc.models import QcMeasurement, UvVisRecord
@@ -126,8 +127,7 @@ def _report_context(code: str) -> dict:
         # Every file behind the result: the record's own, its inputs', and the measurements'.
         "files": [(r.code, f) for r in [*records, *qc, *uvvis]
                   for f in page_queries.stored_files(r)],
-        "open_flags": Flag.objects.filter(target_code__in=codes, state=Flag.State.OPEN)
-        .order_by("target_code", "code"),
+        "open_flags": flags_open(target_codes=codes).order_by("target_code", "code"),
         "status_changes": StatusChange.objects.filter(record_code__in=codes)
         .select_related("changed_by").order_by("record_code", "changed_at"),
         "signatures": [s for r in records for s in page_queries.record_signatures(r)],

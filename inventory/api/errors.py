@@ -30,6 +30,7 @@ from rest_framework import exceptions, serializers
 from rest_framework.views import exception_handler as drf_exception_handler
 
 from inventory.codes import RecordNotFound
+from inventory.errors import refusal_items
 from inventory.integrity import integrity_refusal
 
 _WHOLE_REQUEST = {None, NON_FIELD_ERRORS, "non_field_errors"}
@@ -70,28 +71,24 @@ def _check_constraint_fields() -> dict[str, list[str]]:
             if isinstance(constraint, CheckConstraint)}
 
 
-def _named_by_rule(field: str, item: DjangoValidationError) -> tuple[str, str, str]:
+def _named_by_rule(field: str | None, message: str, code: str) -> tuple[str | None, str, str]:
     """(field, message, code) of one error; a broken database rule names its first field."""
-    message = item.messages[0]
     match = _BROKEN_RULE.match(message) if field in _WHOLE_REQUEST else None
     fields = _check_constraint_fields().get(match["name"], []) if match else []
     if not fields:
-        return field, message, item.code or "invalid"
+        return field, message, code
     return (fields[0], f"The value breaks the database rule “{match['name']}” on "
                        f"{', '.join(fields)}.", "constraint")
 
 
 def _from_django(error: DjangoValidationError) -> exceptions.ValidationError:
-    """A service refusal as DRF's ValidationError, keeping each message's code."""
-    if hasattr(error, "error_dict"):
-        detail: dict = {}
-        for field, items in error.error_dict.items():
-            for item in items:
-                name, message, code = _named_by_rule(field, item)
-                detail.setdefault(name, []).append(serializers.ErrorDetail(message, code=code))
-    else:
-        detail = [serializers.ErrorDetail(message, code=item.code or "invalid")
-                  for item in error.error_list for message in item.messages]
+    """A service refusal as DRF's ValidationError, keeping each message's field and code; a
+    broken database rule is put on the first field it constrains."""
+    detail: dict[str, list[serializers.ErrorDetail]] = {}
+    for item in refusal_items(error):
+        name, message, code = _named_by_rule(item["field"], item["message"], item["code"])
+        detail.setdefault(name or NON_FIELD_ERRORS, []).append(
+            serializers.ErrorDetail(message, code=code))
     return exceptions.ValidationError(detail)
 
 

@@ -170,7 +170,8 @@ def _split(line: str, delimiter_name: str) -> list[str]:
 
 def _detect_delimiter(line: str) -> str:
     for name in ("tab", "semicolon", "comma"):
-        if _DELIMITERS[name] in line:
+        delimiter = _DELIMITERS[name]
+        if delimiter is not None and delimiter in line:
             return name
     return "whitespace"
 

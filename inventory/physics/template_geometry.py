@@ -296,11 +296,12 @@ def film_height_nm(equivalent_thickness_nm: float, *, sphere_diameter_nm: float 
     return float(optimize.brentq(residual, thickness, upper, xtol=1e-9 * upper, rtol=1e-12))
 
 
-def _thickness_in_template_nm(height_nm: np.ndarray, diameter_nm: float) -> np.ndarray:
+def _thickness_in_template_nm(height_nm: np.ndarray | np.float64,
+                              diameter_nm: float) -> np.ndarray | np.float64:
     return height_nm - _spheres_per_nm2(diameter_nm) * _cap_volume_nm3(height_nm, diameter_nm / 2.0)
 
 
-def _cap_volume_nm3(height_nm: np.ndarray, radius_nm: float) -> np.ndarray:
+def _cap_volume_nm3(height_nm: np.ndarray | np.float64, radius_nm: float) -> np.ndarray:
     """Volume of each sphere below height h (a cap for h ≤ 2R, the whole sphere above)."""
     capped = np.minimum(height_nm, 2.0 * radius_nm)
     return math.pi * capped**2 * (3.0 * radius_nm - capped) / 3.0

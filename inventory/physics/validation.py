@@ -51,8 +51,10 @@ def as_strictly_monotonic_axis(values, *, field: str, min_points: int = 2) -> np
     return axis
 
 
-def require_positive(value: float, *, field: str) -> float:
-    """Return ``value`` as float if it is finite and > 0, else refuse it."""
+def require_positive(value: float | None, *, field: str) -> float:
+    """Return ``value`` as float if it is finite and > 0, else refuse it (also when missing)."""
+    if value is None:
+        raise AnalysisInputError("a positive number is required", field=field)
     number = float(value)
     if not np.isfinite(number) or number <= 0:
         raise AnalysisInputError(f"must be a positive number, got {value}", field=field)

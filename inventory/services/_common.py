@@ -131,6 +131,28 @@ def _save_changed(record: StampedRecord, *, actor: User | None, reason: str = ""
     record.save()
 
 
+def _save_setting(model: type[StampedRecord], *, actor: User | None, scope: dict,
+                  values: dict, reason: str) -> StampedRecord:
+    """Create or change the one row of a versioned lab setting (a limit, tolerance or rule).
+
+    The row for ``scope`` (the fields naming which setting it is) is read under a lock, so two
+    administrators saving at once get versions n+1 and n+2; a change bumps ``version`` and the
+    history row keeps who, when, the old values and ``reason``.
+    """
+    setting = model.objects.select_for_update().filter(**scope).first()
+    if setting is None:
+        setting = model(**scope, created_by=actor)
+    else:
+        setting.version += 1
+    for name, value in values.items():
+        setattr(setting, name, value)
+    setting.updated_by = actor
+    _validate(setting)
+    _stamp_history(setting, actor=actor, reason=reason)
+    setting.save()
+    return setting
+
+
 def _link(parents: Iterable[tuple[CodedRecord, str]], child: CodedRecord, *, used_on: date,
           actor: User | None) -> None:
     LineageEdge.objects.bulk_create([

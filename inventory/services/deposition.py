@@ -26,9 +26,10 @@ from inventory.physics.electrodeposition import (
 from inventory.physics.errors import AnalysisInputError
 
 from ..errors import refusal
+from ..flags import flags_open
 from ..models import DepositionRun, DepositionTolerance, Flag
 from ..roles import ADMINISTRATOR, MAKER, require_role
-from ._common import User, _check_upload, _save_changed, _stamp_history, _validate
+from ._common import User, _check_upload, _save_changed, _save_setting
 from .records import flag_raise, sha256_of
 
 #: Used only when the lab has recorded no DepositionTolerance: a built-in default of this
@@ -87,19 +88,10 @@ def deposition_tolerance_set(
     require_role(actor, ADMINISTRATOR, action="Setting a deposition tolerance")
     if metal:
         _require_known_metal(metal)
-    tolerance = DepositionTolerance.objects.select_for_update().filter(metal=metal).first()
-    if tolerance is None:
-        tolerance = DepositionTolerance(metal=metal, created_by=actor)
-    else:
-        tolerance.version += 1
-    tolerance.max_abs_deviation_height_over_diameter = max_abs_deviation_height_over_diameter
-    tolerance.is_example = is_example
-    tolerance.rationale = rationale
-    tolerance.updated_by = actor
-    _validate(tolerance)
-    _stamp_history(tolerance, actor=actor, reason=rationale)
-    tolerance.save()
-    return tolerance
+    return _save_setting(
+        DepositionTolerance, actor=actor, scope={"metal": metal}, reason=rationale,
+        values={"max_abs_deviation_height_over_diameter": max_abs_deviation_height_over_diameter,
+                "is_example": is_example, "rationale": rationale})
 
 
 # --------------------------------------------------------------------------- attach
@@ -389,8 +381,7 @@ def deposition_run_check_target(run: DepositionRun) -> DepositionTargetCheck:
     tolerance = None if deviation is None else deposition_tolerance_in_force(run.metal)
     within = None if tolerance is None else (
         abs(deviation) <= tolerance.max_abs_deviation_height_over_diameter)
-    open_flags = Flag.objects.filter(target_code=run.code, category=FLAG_CATEGORY,
-                                      state=Flag.State.OPEN).order_by("code")
+    open_flags = flags_open(target_codes=[run.code], category=FLAG_CATEGORY).order_by("code")
     return DepositionTargetCheck(
         run_code=run.code, target_height_over_diameter=run.target_height_over_diameter,
         target_charge_C=deposition_run_target_charge_C(run), charge_C=run.charge_C,

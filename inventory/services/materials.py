@@ -26,8 +26,7 @@ from ._common import (
     _require_not_future,
     _save_changed,
     _save_new,
-    _stamp_history,
-    _validate,
+    _save_setting,
 )
 
 
@@ -118,21 +117,11 @@ def shelf_life_rule_set(
     """Create or change a rule, then re-derive the expiry of every record it governs."""
     require_role(actor, ADMINISTRATOR, action="Setting a shelf-life rule")
     validate_rule_date(record_kind, counted_from)
-    rule = ShelfLifeRule.objects.filter(record_kind=record_kind,
-                                        reagent_kind=reagent_kind).first()
-    if rule is None:
-        rule = ShelfLifeRule(record_kind=record_kind, reagent_kind=reagent_kind,
-                             created_by=actor)
-    else:
-        rule.version += 1
-    rule.shelf_life_days = shelf_life_days
-    rule.counted_from = counted_from
-    rule.is_example = is_example
-    rule.rationale = rationale
-    rule.updated_by = actor
-    _validate(rule)
-    _stamp_history(rule, actor=actor, reason=rationale)
-    rule.save()
+    rule = _save_setting(
+        ShelfLifeRule, actor=actor, scope={"record_kind": record_kind,
+                                           "reagent_kind": reagent_kind},
+        values={"shelf_life_days": shelf_life_days, "counted_from": counted_from,
+                "is_example": is_example, "rationale": rationale}, reason=rationale)
     if record_kind in LIFECYCLE_KINDS:
         _rederive_expiry(record_kind, actor=actor, reason=f"expiry re-derived: rule {rule}")
     return rule

@@ -17,6 +17,7 @@ from ._common import _require_kind as require_kind
 from ._common import _require_not_future as require_not_future
 from ._common import _save_changed as save_changed
 from ._common import _save_new as save_new
+from ._common import _save_setting as save_setting
 from ._common import _stamp_history as stamp_history
 from ._common import _validate as validate
 from .lifecycle import _transition as transition
@@ -34,6 +35,7 @@ __all__ = [
     "require_not_future",
     "save_changed",
     "save_new",
+    "save_setting",
     "stamp_history",
     "transition",
     "validate",

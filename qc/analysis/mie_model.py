@@ -500,6 +500,7 @@ def fit_lognormal_mie(
         result = least_squares(residuals, start, bounds=(lower, upper), x_scale=[0.3, 0.1])
         if best is None or result.cost < best.cost:
             best = result
+    assert best is not None  # the loop ran at least once
     model = unit_absorbance(best.x)
     number = max(float(measured @ model / (model @ model)), 0.0)
     rms = float(np.sqrt(np.mean((measured - number * model) ** 2)))

@@ -85,7 +85,7 @@ class Spectrum:
             and self.metadata == other.metadata
         )
 
-    __hash__ = None  # arrays and a dict inside: not hashable
+    __hash__ = None  # type: ignore[assignment]  # arrays and a dict inside: not hashable
 
 
 def infer_grid_shape(x_um, y_um) -> tuple[int, int] | None:
@@ -240,7 +240,7 @@ class RamanMap:
             and self.metadata == other.metadata
         )
 
-    __hash__ = None
+    __hash__ = None  # type: ignore[assignment]
 
 
 def _require_distinct_positions(x: np.ndarray, y: np.ndarray) -> None:

@@ -80,8 +80,8 @@ class AxisCheck:
 
 
 def compare_band_positions(
-    measured_cm1: Sequence[float],
-    reference_cm1: Sequence[float],
+    measured_cm1: Sequence[float] | np.ndarray,
+    reference_cm1: Sequence[float] | np.ndarray,
     *,
     tolerance_cm1: float = 1.0,
     measured_se_cm1: Sequence[float] | None = None,

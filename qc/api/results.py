@@ -12,7 +12,7 @@ from rest_framework import serializers
 
 from inventory.api.results import FlagItem, flag_items
 from inventory.api.units import DocumentedFields
-from inventory.models import Flag
+from inventory.flags import flags_open
 from inventory.uncertainty_format import format_with_uncertainty
 from qc.models import QcImport, QcMeasurement
 from qc.services.colloid import UvVisImport
@@ -37,8 +37,8 @@ UVVIS_SHOWN = (
 def qc_measurement_summary(m: QcMeasurement) -> dict:
     """The stored figures, verdict and the open QC flag this measurement raised."""
     m.substrate.refresh_from_db()
-    flags = Flag.objects.filter(target_code=m.substrate.code, category=FLAG_CATEGORY,
-                                state=Flag.State.OPEN, message__contains=m.code)
+    flags = flags_open(target_codes=[m.substrate.code], category=FLAG_CATEGORY,
+                       mentioning=m.code)
     return {
         "measurement": m.code, "substrate": m.substrate.code,
         "substrate_status": m.substrate.status, "file": m.raw_filename, "sha256": m.raw_sha256,

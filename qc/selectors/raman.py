@@ -13,6 +13,7 @@ from datetime import date
 
 import numpy as np
 
+from inventory.flags import flags_open
 from inventory.lineage import record_get_ancestors, record_get_descendants
 from inventory.models import Dataset, Flag, NanoparticleBatch, Substrate
 from qc.analysis.control_charts import IndividualsChart, individuals_chart
@@ -23,7 +24,7 @@ from ..models.raman import QcMeasurement
 __all__ = [
     "ControlChartSeries", "ReviewNotice", "dataset_get_review_notices",
     "datasets_needing_review", "qc_batch_reproducibility", "qc_control_chart",
-    "measurement_get_stored_results", "qc_measurement_get_latest",
+    "measurement_get_stored_results",
 ]
 
 CHART_METRICS = {
@@ -31,16 +32,6 @@ CHART_METRICS = {
     "rsd_percent": "RSD %",
 }
 MIN_CHART_POINTS = 3  # individuals_chart needs at least three results
-
-
-def qc_measurement_get_latest(substrate: Substrate, *,
-                              product_kind: str | None = None) -> QcMeasurement | None:
-    """The newest QC measurement of ``substrate`` at ``product_kind`` (default: its stage)."""
-    return (QcMeasurement.objects
-            .filter(substrate=substrate, product_kind=product_kind or substrate.stage,
-                    voided_at__isnull=True)
-            .select_related("analyte", "reference", "limit_set")
-            .order_by("-measured_on", "-id").first())
 
 
 @dataclass(frozen=True)
@@ -160,9 +151,7 @@ def datasets_needing_review(*, category: str | None = None) -> list[ReviewNotice
     One descendant walk per flagged record (inventory.lineage), so the cost grows with the
     number of open flags, not with the depth of the graph.
     """
-    flags = Flag.objects.filter(state=Flag.State.OPEN, voided_at__isnull=True)
-    if category:
-        flags = flags.filter(category=category)
+    flags = flags_open(category=category)
     notices = []
     for flag in flags.order_by("code"):
         descendants = record_get_descendants(flag.target_code)
@@ -175,6 +164,5 @@ def dataset_get_review_notices(dataset: Dataset) -> list[ReviewNotice]:
     """Open flags on ``dataset``'s ancestors (or itself), as review notices (two queries+)."""
     ancestry = record_get_ancestors(dataset)
     codes = [dataset.code, *ancestry.depth]
-    flags = Flag.objects.filter(target_code__in=codes, state=Flag.State.OPEN,
-                                voided_at__isnull=True).order_by("code")
+    flags = flags_open(target_codes=codes).order_by("code")
     return [_notice(dataset, flag) for flag in flags]

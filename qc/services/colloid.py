@@ -1,4 +1,5 @@
-"""Colloid UV-vis QC (services): limits, the lab's silver table, and importing a spectrum.
+"""Colloid UV-vis QC (services): importing a spectrum (limits and the silver table are in
+``colloid_limits``, named here too so the colloid services stay one API).
 
 ``uvvis_record_import`` is the one place where a colloid spectrum becomes a record: it reads
 the file, calls qc.analysis for every number, compares with the batch's first record,
@@ -26,8 +27,9 @@ from django.db import transaction
 from scipy import constants
 
 from inventory.errors import refusal
+from inventory.flags import flags_open
 from inventory.models import Flag, NanoparticleBatch
-from inventory.roles import ADMINISTRATOR, MAKER, require_role
+from inventory.roles import MAKER, require_role
 from inventory.services import flag_raise, sha256_of
 from inventory.services.toolkit import User
 from inventory.services.toolkit import check_upload as _check_upload
@@ -37,8 +39,6 @@ from inventory.services.toolkit import link as _link
 from inventory.services.toolkit import require_not_future as _require_not_future
 from inventory.services.toolkit import save_changed as _save_changed
 from inventory.services.toolkit import save_new as _save_new
-from inventory.services.toolkit import stamp_history as _stamp_history
-from inventory.services.toolkit import validate as _validate
 from qc.analysis import gold_haiss, silver_calibration
 from qc.analysis.colloid_stability import (
     ColloidSnapshot,
@@ -60,8 +60,12 @@ from qc.analysis.uvvis import (
 from ..models.colloid import (
     ColloidLimitSet,
     ColloidMetal,
-    SilverCalibration,
     UvVisRecord,
+)
+from .colloid_limits import (
+    colloid_limit_set_set,
+    silver_calibration_active,
+    silver_calibration_record,
 )
 
 __all__ = [
@@ -85,88 +89,6 @@ class UvVisImport:
     duplicate: bool
     breaches: tuple[dict, ...]
     flags_raised: tuple[Flag, ...]
-
-
-# --------------------------------------------------------------------------------------
-# Limits and calibration tables
-# --------------------------------------------------------------------------------------
-
-
-@transaction.atomic
-def colloid_limit_set_set(
-    *, actor: User | None, metal: str, peak_min_nm: float, peak_max_nm: float,
-    fwhm_max_nm: float, peak_shift_max_nm: float, absorbance_loss_max_fraction: float,
-    aggregation_index_max: float, size_tolerance_percent: float = 15.0,
-    flag_size_disagreement: bool = False, is_example: bool = False, rationale: str = "",
-) -> ColloidLimitSet:
-    """Create or change the lab's colloid limits for ``metal``; records keep their verdicts."""
-    require_role(actor, ADMINISTRATOR, action="Setting colloid limits")
-    limits = ColloidLimitSet.objects.select_for_update().filter(metal=metal).first()
-    if limits is None:
-        limits = ColloidLimitSet(metal=metal, created_by=actor)
-    else:
-        limits.version += 1
-    limits.peak_min_nm, limits.peak_max_nm = peak_min_nm, peak_max_nm
-    limits.fwhm_max_nm = fwhm_max_nm
-    limits.peak_shift_max_nm = peak_shift_max_nm
-    limits.absorbance_loss_max_fraction = absorbance_loss_max_fraction
-    limits.aggregation_index_max = aggregation_index_max
-    limits.size_tolerance_percent = size_tolerance_percent
-    limits.flag_size_disagreement = flag_size_disagreement
-    limits.is_example = is_example
-    limits.rationale = rationale
-    limits.updated_by = actor
-    _validate(limits)
-    _stamp_history(limits, actor=actor, reason=rationale)
-    limits.save()
-    return limits
-
-
-@transaction.atomic
-def silver_calibration_record(
-    *, actor: User | None, name: str, provenance: str,
-    rows: list[tuple[float, float, float]],
-) -> SilverCalibration:
-    """Store the lab's silver table (peak_nm, diameter_nm, extinction_M1cm1 rows) and use it.
-
-    The previously active table is kept but no longer used.  A bad table is refused with
-    the row at fault (qc.analysis.silver_calibration.CalibrationTable checks it).
-    """
-    require_role(actor, ADMINISTRATOR, action="Recording a silver calibration")
-    try:
-        if len(rows) < 3 or any(len(row) != 3 for row in rows):
-            raise AnalysisInputError("give at least 3 rows of peak_nm, diameter_nm, "
-                                     "extinction_M1cm1", field="rows")
-        rows = [[float(value) for value in row] for row in rows]
-        silver_calibration.CalibrationTable(*(tuple(column) for column in zip(*rows, strict=True)),
-                                            provenance=provenance)
-    except AnalysisInputError as error:
-        field = "provenance" if error.field == "provenance" else "rows"
-        raise refusal(field, str(error), "bad_calibration") from None
-    except (TypeError, ValueError):
-        raise refusal("rows", "every cell must be a number", "bad_calibration") from None
-    for previous in SilverCalibration.objects.select_for_update().filter(is_active=True):
-        previous.is_active = False
-        _save_changed(previous, actor=actor, reason=f"replaced by {name}")
-    table = SilverCalibration(name=name, provenance=provenance,
-                              rows=rows,
-                              created_by=actor, updated_by=actor)
-    _validate(table)
-    _stamp_history(table, actor=actor, reason=provenance)
-    table.save()
-    return table
-
-
-def silver_calibration_active() -> tuple[
-    silver_calibration.CalibrationTable, SilverCalibration | None
-]:
-    """The table silver imports use: the lab's active one, else the built-in Mie table."""
-    stored = SilverCalibration.objects.filter(is_active=True).first()
-    if stored is None:
-        return silver_calibration.silver_table_from_mie(), None
-    peak, diameter, extinction = (tuple(column) for column in zip(*stored.rows, strict=True))
-    return silver_calibration.CalibrationTable(peak, diameter, extinction,
-                                               provenance=stored.provenance), stored
 
 
 # --------------------------------------------------------------------------------------
@@ -556,7 +478,7 @@ def _open_flags_by_limit(batch: NanoparticleBatch, exclude: UvVisRecord) -> dict
         for breach in breaches:
             if breach.get("flag_raised"):
                 raised.setdefault(breach["limit"], breach["flag_code"])
-    still_open = set(Flag.objects.filter(code__in=raised.values(), state=Flag.State.OPEN)
+    still_open = set(flags_open().filter(code__in=raised.values())
                      .values_list("code", flat=True))
     return {limit: code for limit, code in raised.items() if code in still_open}
 

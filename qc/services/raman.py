@@ -18,8 +18,9 @@ from django.core.files.base import ContentFile
 from django.db import transaction
 
 from inventory.errors import refusal
+from inventory.flags import flags_open
 from inventory.lifecycle import check_usable
-from inventory.models import Flag, ReagentKind, ReagentLot, Status, Substrate
+from inventory.models import ReagentKind, ReagentLot, Status, Substrate
 from inventory.roles import MAKER, require_role
 from inventory.services import flag_raise, record_release, record_transition, sha256_of
 from inventory.services.toolkit import User, lock
@@ -36,6 +37,7 @@ from qc.analysis.spectrum import RamanMap
 
 from ..models.imports import QcImport
 from ..models.raman import QcMeasurement, ReferenceAnalyte, ReferenceMeasurement
+from ..selectors.current import qc_measurement_get_latest
 from .enhancement import (
     FILM_HEIGHT_REL_U_DEFAULT,
     SurfaceCoverage,
@@ -406,8 +408,7 @@ def substrate_release_check(record) -> str | None:
     if QcImport.objects.filter(substrate=record, state__in=QcImport.PENDING).exists():
         raise refusal("substrate", f"A QC file of {record.code} is still being analysed; "
                                    "release it once that QC is judged.", "qc_pending")
-    latest = QcMeasurement.objects.filter(substrate=record, product_kind=record.stage,
-                                          voided_at__isnull=True).first()
+    latest = qc_measurement_get_latest(record, fields=("code", "passed", "failure_reasons"))
     if latest is None:
         raise refusal("substrate", f"{record.code} has no QC measurement at its current "
                                    f"stage ({record.get_stage_display()}).", "qc_missing")
@@ -417,8 +418,7 @@ def substrate_release_check(record) -> str | None:
     if not latest.passed:
         raise refusal("substrate", f"The latest QC of {record.code} ({latest.code}) failed: "
                                    f"{' '.join(latest.failure_reasons)}", "qc_failed")
-    open_flags = list(Flag.objects.filter(target_code=record.code, category=FLAG_CATEGORY,
-                                          state=Flag.State.OPEN, voided_at__isnull=True)
+    open_flags = list(flags_open(target_codes=[record.code], category=FLAG_CATEGORY)
                       .values_list("code", flat=True))
     if open_flags:
         raise refusal("substrate", f"Resolve the open QC flag(s) {', '.join(open_flags)} on "

@@ -13,7 +13,7 @@ from django.db import transaction
 from inventory.errors import refusal
 from inventory.models import ReagentKind, ReagentLot, Substrate
 from inventory.roles import ADMINISTRATOR, require_role
-from inventory.services.toolkit import User
+from inventory.services.toolkit import User, save_setting
 from inventory.services.toolkit import require_kind as _require_kind
 from inventory.services.toolkit import stamp_history as _stamp_history
 from inventory.services.toolkit import validate as _validate
@@ -67,23 +67,15 @@ def qc_limit_set_define(
     figure enhancement factors and map uniformity of this kind are computed from.
     """
     require_role(actor, ADMINISTRATOR, action="Setting QC limits")
-    limits = QcLimitSet.objects.select_for_update().filter(
-        product_kind=product_kind, analyte=analyte).first() or QcLimitSet(
-        product_kind=product_kind, analyte=analyte, created_by=actor)
-    values = dict(band_position_tolerance_cm1=band_position_tolerance_cm1,
-                  valid_days=valid_days, min_enhancement_factor=min_enhancement_factor,
-                  max_rsd_percent=max_rsd_percent, min_snr=min_snr, is_example=is_example,
-                  rationale=rationale, intensity_measure=intensity_measure,
-                  min_map_points=min_map_points)
-    for name, value in values.items():
-        setattr(limits, name, value)
-    limits.updated_by = actor
-    if limits.pk:
-        limits.version += 1
-    _validate(limits)
-    _stamp_history(limits, actor=actor, reason=rationale)
-    limits.save()
-    return limits
+    return save_setting(
+        QcLimitSet, actor=actor, scope={"product_kind": product_kind, "analyte": analyte},
+        reason=rationale,
+        values={"band_position_tolerance_cm1": band_position_tolerance_cm1,
+                "valid_days": valid_days, "min_enhancement_factor": min_enhancement_factor,
+                "max_rsd_percent": max_rsd_percent, "min_snr": min_snr,
+                "is_example": is_example, "rationale": rationale,
+                "intensity_measure": intensity_measure,
+                "min_map_points": min_map_points})
 
 
 def qc_judge(*, limits: QcLimitSet, band_center_cm1: float, band_position_cm1: float,

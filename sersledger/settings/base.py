@@ -13,6 +13,9 @@ import dj_database_url
 
 BASE_DIR = Path(__file__).resolve().parent.parent.parent
 DATA_DIR = Path(os.environ.get("SERSLEDGER_DATA_DIR", BASE_DIR / "data"))
+# The demo's invented instrument files (the repository's fixtures/; they are not in the wheel,
+# so an installed copy points this at a checkout to load the demo).
+SERSLEDGER_DEMO_FILES = Path(os.environ.get("SERSLEDGER_DEMO_FILES", BASE_DIR / "fixtures"))
 
 INSTALLED_APPS = [
     # The pages (templates in bench/templates/); first, so its templates win over Django's.

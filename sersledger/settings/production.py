@@ -10,7 +10,7 @@ from email.utils import getaddresses
 from django.core.exceptions import ImproperlyConfigured
 
 from .base import *  # noqa: F401,F403
-from .base import DATA_DIR
+from .base import DATA_DIR, MIDDLEWARE
 
 
 def _required_environment(name: str) -> str:
@@ -21,6 +21,17 @@ def _required_environment(name: str) -> str:
 
 
 DEBUG = False
+
+# Static files (admin, API docs) are served by whitenoise from STATIC_ROOT, filled by
+# ``manage.py collectstatic`` at deployment, with hashed names and compressed copies so
+# browsers may cache them for good.  Django itself serves static files only with DEBUG on.
+_AFTER_SECURITY = MIDDLEWARE.index("django.middleware.security.SecurityMiddleware") + 1
+MIDDLEWARE = [*MIDDLEWARE[:_AFTER_SECURITY], "whitenoise.middleware.WhiteNoiseMiddleware",
+              *MIDDLEWARE[_AFTER_SECURITY:]]
+STORAGES = {
+    "default": {"BACKEND": "django.core.files.storage.FileSystemStorage"},
+    "staticfiles": {"BACKEND": "whitenoise.storage.CompressedManifestStaticFilesStorage"},
+}
 
 # The signature lockout counter (inventory.signature_throttle) must be one count for
 # every gunicorn worker: a file cache on this host's disk is shared by its processes and needs

@@ -15,8 +15,9 @@ import numpy as np
 import pytest
 
 from qc.analysis.errors import AnalysisInputError
-from qc.analysis.jcamp import read_jcamp, write_jcamp
+from qc.analysis.jcamp import read_jcamp
 from qc.analysis.spectrum import Spectrum
+from tests.jcamp_writer import write_jcamp
 
 FIXTURES = Path(__file__).resolve().parents[2] / "fixtures" / "spectra"
 

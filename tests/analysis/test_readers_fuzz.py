@@ -10,9 +10,10 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from qc.analysis.errors import AnalysisInputError
-from qc.analysis.jcamp import read_jcamp, write_jcamp
+from qc.analysis.jcamp import read_jcamp
 from qc.analysis.readers import read_map, read_spectrum, read_two_column
 from qc.analysis.spectrum import RamanMap, Spectrum
+from tests.jcamp_writer import write_jcamp
 
 FUZZ = settings(
     max_examples=150,

@@ -63,7 +63,8 @@ def test_qc_upload_gives_the_same_object_as_the_command(qc_lab, clients):
                  str(RAMAN / "nonuniform_substrate_map.csv"), "--analyte-lot", qc_lab.lot.code,
                  "--reference", qc_lab.reference.code, "--laser-nm", "785", "--power-mw", "2",
                  "--integration-s", "1", "--measured-on", chain.day(1).isoformat(), "--json",
-                 "--assume-surface-area-one", "--shared-measurement", stdout=out)
+                 "--assume-surface-area-one", "--shared-measurement", "--user",
+                 chain.maker.username, stdout=out)
     cli_body = json.loads(out.getvalue())
     different = {"measurement", "substrate", "flags"}
     assert set(api_body) == set(cli_body)

@@ -55,7 +55,7 @@ def test_row_errors_exit_1_and_save_nothing(tmp_path, maker, today):
 def test_a_refused_file_exits_2_in_the_one_error_shape(tmp_path, maker, today):
     path = tmp_path / "photo.png"
     path.write_bytes(b"\x89PNG\r\n\x1a\n\x00\x00")
-    code, out = call("sphere_lots", str(path), "--json")
+    code, out = call("sphere_lots", str(path), "--json", "--user", "maker")
     assert code == 2
     (error,) = json.loads(out)["errors"]
     assert (error["field"], error["code"]) == ("file", "not_a_spreadsheet")

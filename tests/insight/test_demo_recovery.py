@@ -63,3 +63,21 @@ def test_drift_flag_is_raised_once_with_its_evidence(demo):
     assert "run-rule signals" in raised[0].message and "SUB-" in raised[0].message
     assert drift_flags_raise(actor=demo.users["maker"]) == []
     assert Flag.objects.filter(category=DRIFT_FLAG_CATEGORY).count() == 1
+
+
+def test_drift_flag_command_records_its_user_and_requires_one(demo):
+    import io
+    import json
+
+    from django.core.management import call_command
+    from django.core.management.base import CommandError
+
+    with pytest.raises(CommandError, match="--user"):
+        call_command("insight_drift_flags")
+    out = io.StringIO()
+    call_command("insight_drift_flags", "--user", demo.users["maker"].username, "--json",
+                 stdout=out)
+    summary = json.loads(out.getvalue())
+    bad = SphereLot.objects.get(supplier_lot=BAD_SPHERE_LOT).code
+    assert [flag["target"] for flag in summary["flags"]] == [bad]
+    assert Flag.objects.get(category=DRIFT_FLAG_CATEGORY).created_by == demo.users["maker"]

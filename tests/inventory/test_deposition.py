@@ -313,7 +313,8 @@ def test_a_file_with_the_run_is_stored_and_flagged_in_one_step(chain):
 
 def test_command_prints_one_json_object(chain, run):
     out = io.StringIO()
-    call_command("import_chronoamperogram", run.code, str(OFF_TARGET), "--json", stdout=out)
+    call_command("import_chronoamperogram", run.code, str(OFF_TARGET), "--json",
+                 "--user", chain.maker.username, stdout=out)
     payload = json.loads(out.getvalue())  # the whole output is exactly one object
     run.refresh_from_db()
     assert payload["run"] == run.code and payload["charge_C"] == run.charge_C
@@ -327,13 +328,14 @@ def test_command_prints_one_json_object(chain, run):
 
 def test_command_refuses_an_unknown_run_and_a_bad_file(chain, run, tmp_path):
     with pytest.raises(CommandError, match="No deposition run has the ID 'DEP-99999'"):
-        call_command("import_chronoamperogram", "DEP-99999", str(ON_TARGET))
+        call_command("import_chronoamperogram", "DEP-99999", str(ON_TARGET), "--user", "maker")
     bad = tmp_path / "bad.csv"
     bad.write_bytes(_csv([(0, -1), (1, -1), (2, -1), (1.5, -1), (4, -1), (5, -1)]))
     with pytest.raises(CommandError, match="line 5"):
-        call_command("import_chronoamperogram", run.code, str(bad))
+        call_command("import_chronoamperogram", run.code, str(bad), "--user", "maker")
     with pytest.raises(CommandError, match="No such file"):
-        call_command("import_chronoamperogram", run.code, str(tmp_path / "missing.csv"))
+        call_command("import_chronoamperogram", run.code, str(tmp_path / "missing.csv"),
+                     "--user", "maker")
 
 
 def test_command_exits_non_zero_from_the_shell(chain, run, capsys):
@@ -341,7 +343,7 @@ def test_command_exits_non_zero_from_the_shell(chain, run, capsys):
 
     with pytest.raises(SystemExit) as exit_info:
         execute_from_command_line(["manage.py", "import_chronoamperogram", "DEP-99999",
-                                   str(ON_TARGET)])
+                                   str(ON_TARGET), "--user", chain.maker.username])
     assert exit_info.value.code != 0
     assert "No deposition run" in capsys.readouterr().err
 
@@ -400,7 +402,8 @@ def test_a_unit_suffix_header_imports_through_the_command(chain, run, tmp_path):
     suffixed = tmp_path / "suffixed.csv"
     suffixed.write_text(text, encoding="utf-8")
     out = io.StringIO()
-    call_command("import_chronoamperogram", run.code, str(suffixed), "--json", stdout=out)
+    call_command("import_chronoamperogram", run.code, str(suffixed), "--json", "--user", "maker",
+                 stdout=out)
     payload = json.loads(out.getvalue())
     run.refresh_from_db()
     assert (run.time_unit, run.current_unit) == ("s", "mA")
@@ -415,6 +418,6 @@ def test_an_unknown_unit_suffix_is_refused_by_name(chain, run, tmp_path):
     bad = tmp_path / "picoamps.csv"
     bad.write_text(text, encoding="utf-8")
     with pytest.raises(CommandError, match="unknown unit 'pA'"):
-        call_command("import_chronoamperogram", run.code, str(bad))
+        call_command("import_chronoamperogram", run.code, str(bad), "--user", "maker")
     run.refresh_from_db()
     assert run.charge_C is None

@@ -19,7 +19,7 @@ UVVIS = Path(__file__).resolve().parents[2] / "fixtures" / "uvvis"
 
 
 def _run(capsys, *args):
-    call_command("import_uvvis", *args)
+    call_command("import_uvvis", *args, "--user", "maker")
     return capsys.readouterr().out
 
 
@@ -36,6 +36,7 @@ def test_json_prints_one_object_with_the_stored_numbers(chain, capsys):
                             "--dilution", "10", "--measured-on", chain.day(10).isoformat(),
                             "--json"))
     assert again["duplicate"] is True and again["record"] == record.code
+    assert record.created_by == chain.maker  # the write is the named user's
 
 
 def test_text_output_names_the_record_and_size(chain, capsys):
@@ -47,20 +48,27 @@ def test_text_output_names_the_record_and_size(chain, capsys):
 
 def test_unknown_batch_bad_file_and_wrong_record_kind_fail(chain, tmp_path):
     batch = chain.batch(days_ago=10)
-    with pytest.raises(CommandError, match="No record"):
-        call_command("import_uvvis", "NPB-99999", str(UVVIS / "ag_stable_day00.csv"))
+    as_maker = ("--user", chain.maker.username)
+    with pytest.raises(CommandError, match="No nanoparticle batch has the ID 'NPB-99999'"):
+        call_command("import_uvvis", "NPB-99999", str(UVVIS / "ag_stable_day00.csv"), *as_maker)
     lot = chain.lot("solvent")
-    with pytest.raises(CommandError, match="not a nanoparticle batch"):
-        call_command("import_uvvis", lot.code, str(UVVIS / "ag_stable_day00.csv"))
+    with pytest.raises(CommandError, match=f"No nanoparticle batch has the ID '{lot.code}'"):
+        call_command("import_uvvis", lot.code, str(UVVIS / "ag_stable_day00.csv"), *as_maker)
     bad = tmp_path / "bad.csv"
     bad.write_text("wavelength_nm,absorbance\n400,0.5\n401,oops\n")
     with pytest.raises(CommandError, match=r"nothing saved.*bad\.csv, line 3"):
         call_command("import_uvvis", batch.code, str(bad),
-                     "--measured-on", chain.day(1).isoformat())
+                     "--measured-on", chain.day(1).isoformat(), *as_maker)
     with pytest.raises(CommandError, match="Cannot read"):
-        call_command("import_uvvis", batch.code, str(tmp_path / "missing.csv"))
+        call_command("import_uvvis", batch.code, str(tmp_path / "missing.csv"), *as_maker)
     with pytest.raises(CommandError, match="ISO 8601"):
-        call_command("import_uvvis", batch.code, str(bad), "--measured-on", "15/06/2026")
+        call_command("import_uvvis", batch.code, str(bad), "--measured-on", "15/06/2026",
+                     *as_maker)
+    with pytest.raises(CommandError, match="--user"):  # every write names who made it
+        call_command("import_uvvis", batch.code, str(UVVIS / "ag_stable_day00.csv"))
+    with pytest.raises(CommandError, match="No user is called 'nobody'"):
+        call_command("import_uvvis", batch.code, str(UVVIS / "ag_stable_day00.csv"),
+                     "--user", "nobody")
     assert UvVisRecord.objects.count() == 0
 
 

@@ -48,5 +48,6 @@ def test_import_uvvis_with_an_absurd_number_is_refused(chain, option, value):
     batch = chain.batch(days_ago=10)
     with pytest.raises(CommandError, match="Refused, nothing saved"):
         call_command("import_uvvis", batch.code, str(FIXTURES / "uvvis" / "ag_stable_day00.csv"),
-                     option, value, "--measured-on", chain.day(10).isoformat())
+                     option, value, "--measured-on", chain.day(10).isoformat(),
+                     "--user", chain.maker.username)
     assert UvVisRecord.objects.count() == 0

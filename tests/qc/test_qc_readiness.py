@@ -115,11 +115,10 @@ def test_no_limit_set_for_the_stage_means_no_qc_reasons(world):
 
 
 def test_the_provider_uses_at_most_four_queries(world, django_assert_max_num_queries):
+    # limits, a pending import, the current QC, stale UV-vis figures of the colloid upstream
     substrate = world.chain.decorated_substrate()
     world.measure(substrate, GOOD_MAP)
     context = ReadinessContext(substrate=substrate, on_date=world.chain.today,
                                ancestry=record_get_ancestors(substrate))
-    # limits, a pending import, the latest measurement, stale colloid figures upstream:
-    # a fixed count, whatever the number of measurements.
     with django_assert_max_num_queries(4):
         assert qc_reasons(context) == []

@@ -27,7 +27,7 @@ def _run(world, substrate, path, *extra, area=("--assume-surface-area-one",)):
                  "--laser-nm", "785", "--power-mw", "5", "--integration-s", "2",
                  "--reference", world.reference.code,
                  "--measured-on", world.chain.day(1).isoformat(), "--shared-measurement",
-                 *area, *extra, stdout=out)
+                 "--user", "maker", *area, *extra, stdout=out)
     return out.getvalue()
 
 
@@ -106,6 +106,7 @@ def test_json_is_one_object_matching_the_stored_record(world, tmp_path):
     assert summary["enhancement_factor"] == stored.enhancement_factor
     assert summary["rsd_percent"] == stored.rsd_percent
     assert summary["n_points"] == 25 and summary["flags"] == []
+    assert stored.created_by == world.chain.maker  # the write is the named user's
 
 
 def test_a_failure_reports_its_flag_and_hold(world, tmp_path):
@@ -135,8 +136,9 @@ def test_unknown_ids_and_missing_file(world, tmp_path):
     path.write_bytes(GOOD_MAP)
     with pytest.raises(CommandError, match="No substrate has the ID 'SUB-99999'"):
         call_command("import_qc", "SUB-99999", str(path), "--analyte-lot", world.lot.code,
-                     "--laser-nm", "785", "--power-mw", "5", "--integration-s", "2")
+                     "--laser-nm", "785", "--power-mw", "5", "--integration-s", "2",
+                     "--user", "maker")
     with pytest.raises(CommandError, match="power_mW"):
         call_command("import_qc", substrate.code, str(path), "--analyte-lot", world.lot.code,
                      "--laser-nm", "785", "--power-mw", "0", "--integration-s", "2",
-                     "--measured-on", world.chain.day(1).isoformat())
+                     "--measured-on", world.chain.day(1).isoformat(), "--user", "maker")

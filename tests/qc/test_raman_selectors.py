@@ -8,6 +8,7 @@ from qc.selectors import (
     qc_batch_reproducibility,
     qc_control_chart,
     qc_measurement_get_latest,
+    qc_measurements_get_latest,
 )
 
 from .test_raman_services import GOOD_MAP, QcWorld, map_file, map_heights
@@ -87,3 +88,34 @@ def test_a_voided_measurement_no_longer_counts_as_the_latest(world):
     newest = world.measure(substrate, map_file(map_heights(3000, 0.05, seed=9)), days_ago=1)
     record_void(actor=world.chain.reviewer, record=newest, reason="Wrong substrate scanned.")
     assert qc_measurement_get_latest(substrate) == older
+
+
+def test_the_batch_form_gives_each_substrate_its_current_qc_in_one_query(
+        world, django_assert_num_queries):
+    from inventory.services import record_void
+
+    first, second, bare = (world.chain.decorated_substrate() for _ in range(3))
+    kept = world.measure(first, GOOD_MAP, days_ago=2)
+    voided = world.measure(first, map_file(map_heights(3000, 0.05, seed=9)), days_ago=1)
+    record_void(actor=world.chain.reviewer, record=voided, reason="Wrong substrate scanned.")
+    only = world.measure(second, map_file(map_heights(2500, 0.05, seed=4)), days_ago=1)
+    with django_assert_num_queries(1):
+        current = qc_measurements_get_latest([first, second, bare])
+    assert current == {first.pk: kept, second.pk: only}
+    # The day checked: a result measured after it does not count yet.
+    assert qc_measurements_get_latest([second], on_date=only.measured_on.replace(day=1)) == {}
+
+
+def test_open_flags_leave_out_resolved_and_voided_ones(world):
+    from inventory.flags import flags_open, flags_open_by_code
+    from inventory.services import flag_raise, flag_resolve, record_void
+
+    chain = world.chain
+    substrate = chain.decorated_substrate()
+    still_open, resolved, voided = (
+        flag_raise(actor=chain.maker, target=substrate, category="qc", message=f"Deviation {n}")
+        for n in range(3))
+    flag_resolve(actor=chain.reviewer, flag=resolved, resolution="Re-measured, within limits.")
+    record_void(actor=chain.reviewer, record=voided, reason="Raised on the wrong record.")
+    assert list(flags_open(target_codes=[substrate.code])) == [still_open]
+    assert flags_open_by_code([substrate.code]) == {substrate.code: [still_open]}

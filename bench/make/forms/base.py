@@ -7,17 +7,16 @@ transaction and puts a service refusal beside the field it names.
 
 from __future__ import annotations
 
-import re
 from typing import ClassVar
 
 from django import forms
-from django.apps import apps
 from django.conf import settings
-from django.core.exceptions import NON_FIELD_ERRORS, ValidationError
+from django.core.exceptions import ValidationError
 from django.utils import timezone
 
 from inventory.models import CodedRecord
 
+from ...refusals import form_add_refusal
 from .. import defaults
 
 
@@ -162,58 +161,4 @@ class MakeForm(forms.Form):
 
     def add_service_error(self, error: ValidationError) -> None:
         """Put a service refusal beside the field it names (or above the form)."""
-        if not hasattr(error, "error_dict"):
-            self.add_error(None, error)
-            return
-        for field, errors in error.error_dict.items():
-            target = self.error_fields.get(field, field)
-            if target in self.fields:
-                self.add_error(target, errors)
-            elif field == NON_FIELD_ERRORS:
-                self._add_constraint_errors(errors)
-            else:
-                self.add_error(None, [f"{field}: {message}"
-                                      for e in errors for message in e.messages])
-
-    def _add_constraint_errors(self, errors) -> None:
-        """A database CHECK refusal goes beside the field it constrains, in words.
-
-        ``full_clean`` reports a violated CheckConstraint form-wide by its name only; the
-        constraint's own condition says which field and bound, so the maker sees
-        "must be > 0" beside "Nominal diameter" instead of a constraint name.
-        """
-        for error in errors:
-            placed = False
-            for message in error.messages:
-                for field, rule in constraint_rules(message):
-                    if field in self.fields:
-                        self.add_error(field, f"Out of range: must be {rule}.")
-                        placed = True
-            if not placed:
-                self.add_error(None, error)
-
-
-LOOKUP_WORDS = {"gt": ">", "gte": "≥", "lt": "<", "lte": "≤", "exact": "="}
-
-
-def constraint_rules(message: str) -> list[tuple[str, str]]:
-    """(field, "> 0")-pairs of the CheckConstraint a Django violation message names."""
-    match = re.search(r"“([\w-]+)”", message)
-    if not match:
-        return []
-    for model in apps.get_models():
-        for constraint in model._meta.constraints:
-            if constraint.name == match.group(1) and hasattr(constraint, "condition"):
-                return list(_rules(constraint.condition))
-    return []
-
-
-def _rules(condition):
-    for child in getattr(condition, "children", ()):
-        if isinstance(child, tuple):
-            lookup, bound = child
-            field, _, op = lookup.partition("__")
-            if op in LOOKUP_WORDS and isinstance(bound, (int, float)):
-                yield field, f"{LOOKUP_WORDS[op]} {bound:g}"
-        else:
-            yield from _rules(child)
+        form_add_refusal(self, error, field_map=self.error_fields)

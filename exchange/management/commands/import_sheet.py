@@ -1,4 +1,4 @@
-"""import_sheet KIND FILE [--dry-run] [--json] [--user NAME]: bring a lab's sheet in.
+"""import_sheet KIND FILE --user NAME [--dry-run] [--json]: bring a lab's sheet in.
 
 Exit status: 0 every row imported (or, with --dry-run, would be), 1 some row has an error
 and nothing was saved, 2 the file was refused as a whole (not a spreadsheet, too large,
@@ -15,18 +15,11 @@ from django.core.management.base import BaseCommand, CommandError
 
 from exchange.importer import import_sheet
 from exchange.kinds import KINDS
+from inventory.errors import refusal_items, refusal_sentences
 from inventory.management.cli import user_for_command
 
 EXIT_ROW_ERRORS = 1
 EXIT_REFUSED = 2
-
-
-def refusal_items(error: ValidationError) -> list[dict]:
-    """A refusal in the project's one error shape: field, message, code."""
-    if hasattr(error, "error_dict"):
-        return [{"field": field, "message": " ".join(item.messages), "code": item.code or ""}
-                for field, items in error.error_dict.items() for item in items]
-    return [{"field": "", "message": " ".join(error.messages), "code": error.code or ""}]
 
 
 class Command(BaseCommand):
@@ -39,7 +32,8 @@ class Command(BaseCommand):
         parser.add_argument("--dry-run", action="store_true",
                             help="check every row and report; save nothing")
         parser.add_argument("--json", action="store_true", help="print one JSON object")
-        parser.add_argument("--user", help="username recorded as the actor (a maker)")
+        parser.add_argument("--user", required=True,
+                            help="username the import is recorded under (a maker)")
 
     def handle(self, *args, **options):
         path = Path(options["file"])
@@ -55,8 +49,7 @@ class Command(BaseCommand):
             if options["json"]:
                 self.stdout.write(json.dumps({"ok": False, "refused": True, "errors": items},
                                              indent=2))
-            raise CommandError("; ".join(f"{i['field']}: {i['message']}" for i in items),
-                               returncode=EXIT_REFUSED) from None
+            raise CommandError(refusal_sentences(error), returncode=EXIT_REFUSED) from None
         if options["json"]:
             self.stdout.write(json.dumps(report.as_dict(), indent=2, default=str))
         else:

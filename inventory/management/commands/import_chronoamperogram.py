@@ -2,24 +2,19 @@
 
 from __future__ import annotations
 
-import json
-from pathlib import Path
-
-from django.core.management.base import BaseCommand, CommandError
-
 from inventory.api.results import chronoamperogram_summary
-from inventory.management.cli import refusals_in_words, user_for_command
+from inventory.management.cli import RecordingCommand
 from inventory.models import DepositionRun
 from inventory.services.deposition import (
     deposition_run_attach_chronoamperogram,
 )
 
 
-class Command(BaseCommand):
+class Command(RecordingCommand):
     help = ("Attach a chronoamperogram to a deposition run, store its charge, film height and "
             "h/D, and flag the run and its pieces if h/D is outside the lab's tolerance.")
 
-    def add_arguments(self, parser):
+    def add_inputs(self, parser):
         parser.add_argument("run", help="deposition run ID, e.g. DEP-00001")
         parser.add_argument("file", help="the potentiostat's text export")
         parser.add_argument("--time-unit", help="time unit if the header gives none (s, ms, min)")
@@ -30,30 +25,18 @@ class Command(BaseCommand):
                             help="sign of deposition current in the file (default negative)")
         parser.add_argument("--start-s", type=float, help="start of the charge window, s")
         parser.add_argument("--end-s", type=float, help="end of the charge window, s")
-        parser.add_argument("--user", help="username recorded as the actor")
-        parser.add_argument("--json", action="store_true", help="print one JSON object")
 
-    def handle(self, *args, **options):
-        run = DepositionRun.objects.filter(code=options["run"]).first()
-        if run is None:
-            raise CommandError(f"No deposition run has the ID '{options['run']}'.")
-        path = Path(options["file"])
-        if not path.is_file():
-            raise CommandError(f"No such file: {path}")
-        with refusals_in_words():
-            result = deposition_run_attach_chronoamperogram(
-                actor=user_for_command(options["user"]), run=run, filename=path.name,
-                content=path.read_bytes(), time_unit=options["time_unit"],
-                current_unit=options["current_unit"], cathodic_sign=options["cathodic_sign"],
-                start_s=options["start_s"], end_s=options["end_s"])
-        summary = chronoamperogram_summary(result)
-        if options["json"]:
-            self.stdout.write(json.dumps(summary, indent=2))
-        else:
-            self._print(summary)
+    def record(self, *, actor, options) -> dict:
+        run = self.get_record(DepositionRun, options["run"], "deposition run")
+        filename, content = self.read_file(options["file"])
+        result = deposition_run_attach_chronoamperogram(
+            actor=actor, run=run, filename=filename, content=content,
+            time_unit=options["time_unit"], current_unit=options["current_unit"],
+            cathodic_sign=options["cathodic_sign"], start_s=options["start_s"],
+            end_s=options["end_s"])
+        return chronoamperogram_summary(result)
 
-
-    def _print(self, summary: dict) -> None:
+    def show(self, summary: dict) -> None:
         self.stdout.write(f"{summary['run']}: {summary['file']}")
         for key, label in (("charge_C", "charge, C"), ("target_charge_C", "target charge, C"),
                            ("film_height_nm", "film height, nm"),

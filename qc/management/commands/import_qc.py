@@ -2,15 +2,12 @@
 
 from __future__ import annotations
 
-import json
 from datetime import date
-from pathlib import Path
 
-from django.core.management.base import BaseCommand, CommandError
 from django.utils import timezone
 from tqdm import tqdm
 
-from inventory.management.cli import refusals_in_words, user_for_command
+from inventory.management.cli import RecordingCommand
 from inventory.models import ReagentLot, Substrate
 from qc.api.results import qc_measurement_summary
 from qc.models import ReferenceMeasurement
@@ -20,12 +17,12 @@ from qc.services.background import PROGRESS_AT
 PROGRESS_BAR_BYTES = 1024 * 1024  # a progress bar (on stderr) for files bigger than this
 
 
-class Command(BaseCommand):
+class Command(RecordingCommand):
     help = ("Import a reference-analyte Raman spectrum or map measured on a substrate: store "
             "its band figures, enhancement factor and uniformity, judge them against the "
             "lab's limits, and flag and hold the substrate if it fails.")
 
-    def add_arguments(self, parser):
+    def add_inputs(self, parser):
         parser.add_argument("substrate", help="substrate ID, e.g. SUB-00001")
         parser.add_argument("file", help="two-column spectrum, JCAMP-DX or map file")
         parser.add_argument("--analyte-lot", required=True, help="reagent lot ID, e.g. RGT-00011")
@@ -50,29 +47,24 @@ class Command(BaseCommand):
         parser.add_argument("--shared-measurement", action="store_true",
                             help="this one file measured several substrates (a file already "
                                  "the QC of another substrate is otherwise refused)")
-        parser.add_argument("--user", help="username recorded as the actor")
-        parser.add_argument("--json", action="store_true", help="print one JSON object")
 
-    def handle(self, *args, **options):
-        substrate = _get(Substrate, options["substrate"], "substrate")
-        lot = _get(ReagentLot, options["analyte_lot"], "reagent lot")
-        reference = _get(ReferenceMeasurement, options["reference"], "reference measurement") \
-            if options["reference"] else None
-        path = Path(options["file"])
-        if not path.is_file():
-            raise CommandError(f"No such file: {path}")
-        content = path.read_bytes()
-        bar = tqdm(total=100, unit="%", desc=path.name, file=self.stderr,
+    def record(self, *, actor, options) -> dict:
+        substrate = self.get_record(Substrate, options["substrate"], "substrate")
+        lot = self.get_record(ReagentLot, options["analyte_lot"], "reagent lot")
+        reference = self.get_record(ReferenceMeasurement, options["reference"],
+                                    "reference measurement") if options["reference"] else None
+        filename, content = self.read_file(options["file"])
+        bar = tqdm(total=100, unit="%", desc=filename, file=self.stderr,
                    disable=options["json"] or len(content) < PROGRESS_BAR_BYTES)
 
         def progress(state: str) -> None:
             bar.set_postfix_str(state)
             bar.update(PROGRESS_AT[state] - bar.n)
 
-        with refusals_in_words(), bar:
+        with bar:
             measurement = qc_measurement_import(
-                actor=user_for_command(options["user"]), substrate=substrate, analyte_lot=lot,
-                filename=path.name, content=content, progress=progress,
+                actor=actor, substrate=substrate, analyte_lot=lot, filename=filename,
+                content=content, progress=progress,
                 measured_on=options["measured_on"] or timezone.localdate(),
                 laser_nm=options["laser_nm"], power_mW=options["power_mw"],
                 integration_s=options["integration_s"], accumulations=options["accumulations"],
@@ -81,13 +73,9 @@ class Command(BaseCommand):
                 surface_area_source=options["surface_area_source"],
                 surface_area_assumed_one=options["assume_surface_area_one"],
                 shared_measurement=options["shared_measurement"])
-        summary = qc_measurement_summary(measurement)
-        if options["json"]:
-            self.stdout.write(json.dumps(summary, indent=2))
-        else:
-            self._print(summary)
+        return qc_measurement_summary(measurement)
 
-    def _print(self, summary: dict) -> None:
+    def show(self, summary: dict) -> None:
         verdict = "PASS" if summary["passed"] else "FAIL"
         self.stdout.write(f"{summary['measurement']} on {summary['substrate']}: {verdict}")
         for key in ("band_position_cm1", "normalised_height_counts_per_mW_s", "snr",
@@ -105,9 +93,3 @@ class Command(BaseCommand):
         for flag in summary["flags"]:
             self.stdout.write(f"  FLAG {flag['code']} on {flag['target']}")
 
-
-def _get(model, code: str, what: str):
-    record = model.objects.filter(code=code.strip().upper()).first()
-    if record is None:
-        raise CommandError(f"No {what} has the ID '{code}'.")
-    return record

@@ -1,16 +1,12 @@
 """import_uvvis BATCH_ID FILE: store and evaluate one colloid UV-vis spectrum."""
 
-import json
 from datetime import date
-from pathlib import Path
 
-from django.core.management.base import BaseCommand, CommandError
+from django.core.management.base import CommandError
 from django.utils import timezone
 
-from inventory.codes import RecordNotFound, record_get
-from inventory.management.cli import refusals_in_words
+from inventory.management.cli import RecordingCommand
 from inventory.models import NanoparticleBatch
-from qc.analysis.errors import AnalysisInputError
 from qc.api.results import uvvis_import_summary
 from qc.services import uvvis_record_import
 
@@ -24,11 +20,11 @@ def _date(text: str) -> date:
         ) from None
 
 
-class Command(BaseCommand):
+class Command(RecordingCommand):
     help = ("Import a UV-vis spectrum (two-column text or JCAMP-DX, wavelength in nm) of a "
             "colloid batch; prints size, concentration, stability and any limit breaches.")
 
-    def add_arguments(self, parser):
+    def add_inputs(self, parser):
         parser.add_argument("batch", help="nanoparticle batch ID, e.g. NPB-00001")
         parser.add_argument("file", help="spectrum file as exported by the photometer")
         parser.add_argument("--dilution", type=float, default=1.0,
@@ -37,41 +33,19 @@ class Command(BaseCommand):
         parser.add_argument("--measured-on", type=_date, default=None,
                             help="date of the measurement (default today)")
         parser.add_argument("--blank", default=None, help="blank spectrum file to subtract")
-        parser.add_argument("--json", action="store_true", help="print one JSON object")
 
-    def handle(self, *args, batch, file, dilution, path_cm, measured_on, blank, **options):
-        try:
-            record = record_get(batch)
-        except RecordNotFound as error:
-            raise CommandError(str(error)) from error
-        if not isinstance(record, NanoparticleBatch):
-            raise CommandError(f"{record.code} is a {record._meta.verbose_name}, not a "
-                               "nanoparticle batch.")
-        content = self._read(file)
-        blank_file = (Path(blank).name, self._read(blank)) if blank else None
-        with refusals_in_words("Refused, nothing saved. "):
-            try:
-                result = uvvis_record_import(
-                    actor=None, batch=record, filename=Path(file).name, content=content,
-                    measured_on=measured_on or timezone.localdate(), dilution_factor=dilution,
-                    path_length_cm=path_cm, blank=blank_file)
-            except AnalysisInputError as error:
-                # A computed figure the analysis refuses (e.g. an absorbance made infinite by
-                # a huge dilution); the transaction rolled back.
-                raise CommandError(f"Refused, nothing saved. {error}") from None
-        payload = uvvis_import_summary(result)
-        if options["json"]:
-            self.stdout.write(json.dumps(payload, indent=2))
-        else:
-            self._print(payload)
+    def record(self, *, actor, options) -> dict:
+        batch = self.get_record(NanoparticleBatch, options["batch"], "nanoparticle batch")
+        filename, content = self.read_file(options["file"])
+        blank = self.read_file(options["blank"]) if options["blank"] else None
+        result = uvvis_record_import(
+            actor=actor, batch=batch, filename=filename, content=content,
+            measured_on=options["measured_on"] or timezone.localdate(),
+            dilution_factor=options["dilution"], path_length_cm=options["path_cm"],
+            blank=blank)
+        return uvvis_import_summary(result)
 
-    def _read(self, path: str) -> bytes:
-        try:
-            return Path(path).read_bytes()
-        except OSError as error:
-            raise CommandError(f"Cannot read {path}: {error.strerror}.") from error
-
-    def _print(self, p: dict) -> None:
+    def show(self, p: dict) -> None:
         head = "already imported as" if p["duplicate"] else "stored as"
         self.stdout.write(f"{p['batch']} ({p['metal']}) UV-vis {head} {p['record']}, "
                           f"measured {p['measured_on']}, day {p['age_days']}")
