@@ -10,6 +10,7 @@ from __future__ import annotations
 import os
 
 import pytest
+from django.contrib import admin
 
 from qc.models import QcImport
 from qc.services import qc_measurement_submit
@@ -19,7 +20,21 @@ REDIS_URL = os.environ.get("SERSLEDGER_TEST_REDIS_URL", "")
 pytestmark = pytest.mark.skipif(not REDIS_URL, reason="no SERSLEDGER_TEST_REDIS_URL")
 
 
+@pytest.fixture
+def admin_registry_restored():
+    """Adding django_rq to INSTALLED_APPS re-runs admin autodiscovery, which registers
+    django_rq's unmanaged dashboard model on the shared admin site; the setting is restored
+    after the test but the registration is not, so a later test that walks the admin site
+    (on the same xdist worker, in pytest-randomly's order) queried a table that does not exist.
+    """
+    saved = dict(admin.site._registry)
+    yield
+    admin.site._registry.clear()
+    admin.site._registry.update(saved)
+
+
 def test_a_big_file_is_judged_by_an_rq_worker(chain, administrator, settings,
+                                              admin_registry_restored,
                                               django_capture_on_commit_callbacks):
     import django_rq
     from django_tasks_rq import Job
