@@ -4,9 +4,9 @@ A colloidal template is a single layer of equal spheres in hexagonal close packi
 base slide.  This module gives the number of spheres per unit area, the fraction of the
 slide they shadow, how much sphere suspension is needed to make such a layer, and how
 high a metal film grown through the layer stands for a given metal volume per area (the
-one home of the template formulas; :mod:`inventory.physics.electrodeposition` uses them),
-and the metal surface area per projected area of the resulting segment-void film, which the
-substrate enhancement factor needs (:func:`segment_void_surface_area_factor`).
+one home of the template formulas; :mod:`inventory.physics.electrodeposition` uses them).
+The metal surface area of the resulting segment-void film is in
+:mod:`inventory.physics.segment_void` (re-exported here).
 
 All lengths in the public interface carry their unit in the name; internally the sphere
 count uses nm.
@@ -21,7 +21,15 @@ import numpy as np
 from scipy import optimize
 
 from .errors import AnalysisInputError
+from .segment_void import MODEL_DESCRIPTION, SurfaceAreaFactor, segment_void_surface_area_factor
 from .validation import require_non_negative, require_positive
+
+__all__ = [
+    "CLOSE_PACKED_AREA_FRACTION", "MODEL_DESCRIPTION", "TYPICAL_SPHERE_DENSITY_G_CM3",
+    "SuspensionNeed", "SurfaceAreaFactor", "close_packed_spheres_per_cm2",
+    "close_packed_spheres_per_um2", "equivalent_thickness_for_height_nm", "film_height_nm",
+    "segment_void_surface_area_factor", "suspension_volume_for_monolayer",
+]
 
 #: Area fraction of the plane covered by hexagonally close-packed equal circles, π/(2√3).
 CLOSE_PACKED_AREA_FRACTION = math.pi / (2.0 * math.sqrt(3.0))
@@ -91,6 +99,10 @@ def close_packed_spheres_per_cm2(diameter_nm: float) -> float:
 
 def _spheres_per_nm2(diameter_nm: float) -> float:
     return 2.0 / (math.sqrt(3.0) * diameter_nm**2)
+
+
+def _sphere_volume_nm3(diameter_nm: float) -> float:
+    return math.pi * diameter_nm**3 / 6.0
 
 
 @dataclass(frozen=True)
@@ -186,7 +198,7 @@ def suspension_volume_for_monolayer(
         )
 
     sphere_count = _spheres_per_nm2(diameter) * area_cm2 * _NM2_PER_CM2
-    sphere_volume_cm3 = math.pi * diameter**3 / 6.0 / _NM3_PER_CM3
+    sphere_volume_cm3 = _sphere_volume_nm3(diameter) / _NM3_PER_CM3
     mass_g = excess * sphere_count * sphere_volume_cm3 * density
     # Multiply first: a subnormal solids content divided by 100 underflows to zero.
     volume_mL = mass_g * 100.0 / solids
@@ -276,18 +288,13 @@ def film_height_nm(equivalent_thickness_nm: float, *, sphere_diameter_nm: float 
     ch. 4 (scipy.optimize.brentq).  Geometry as in Bartlett et al., Chem. Mater. 14,
     2199–2208 (2002) (citation from memory).
     """
-    thickness = float(equivalent_thickness_nm)
-    if not np.isfinite(thickness) or thickness < 0:
-        raise AnalysisInputError(
-            f"must be zero or positive, got {equivalent_thickness_nm}",
-            field="equivalent_thickness_nm",
-        )
+    thickness = require_non_negative(equivalent_thickness_nm, field="equivalent_thickness_nm")
     if sphere_diameter_nm is None or thickness == 0.0:
         if sphere_diameter_nm is not None:
             require_positive(sphere_diameter_nm, field="sphere_diameter_nm")
         return thickness
     diameter = require_positive(sphere_diameter_nm, field="sphere_diameter_nm")
-    sphere_volume_per_area = _spheres_per_nm2(diameter) * math.pi * diameter**3 / 6.0
+    sphere_volume_per_area = _spheres_per_nm2(diameter) * _sphere_volume_nm3(diameter)
 
     def residual(height: float) -> float:
         return float(_thickness_in_template_nm(np.float64(height), diameter)) - thickness
@@ -305,128 +312,3 @@ def _cap_volume_nm3(height_nm: np.ndarray | np.float64, radius_nm: float) -> np.
     """Volume of each sphere below height h (a cap for h ≤ 2R, the whole sphere above)."""
     capped = np.minimum(height_nm, 2.0 * radius_nm)
     return math.pi * capped**2 * (3.0 * radius_nm - capped) / 3.0
-
-
-# Metal surface area of a segment-void film (for enhancement factors)
-
-#: 2π/√3 = n·π·D², the coefficient of (h/D)² in the surface-area factor.
-_ZONE_COEFFICIENT = 2.0 * math.pi / math.sqrt(3.0)
-
-MODEL_DESCRIPTION = (
-    "segment-void film: hexagonally close-packed spheres of diameter D, metal to height h, "
-    "smooth metal, template removed; F = 1 + (2π/√3)·(h/D)²"
-)
-
-
-@dataclass(frozen=True)
-class SurfaceAreaFactor:
-    """Metal area per projected area and its standard uncertainty.
-
-    Attributes
-    ----------
-    value : float
-        F, dimensionless (≥ 1).
-    standard_uncertainty : float
-        u(F) propagated to first order from u(h) and u(D) (GUM, JCGM 100:2008, §5.1.2).
-    relative_uncertainty : float
-        u(F)/F.
-    height_over_diameter : float
-        h/D used.
-    model : str
-        The geometric model in words.
-    """
-
-    value: float
-    standard_uncertainty: float
-    relative_uncertainty: float
-    height_over_diameter: float
-    model: str
-
-
-def segment_void_surface_area_factor(
-    *,
-    sphere_diameter_nm: float,
-    film_height_nm: float,
-    film_height_u_nm: float = 0.0,
-    sphere_diameter_u_nm: float = 0.0,
-) -> SurfaceAreaFactor:
-    """Metal surface area per projected area of a segment-void film, F = 1 + (2π/√3)(h/D)².
-
-    Flat top outside the void openings plus the inner spherical-zone surface of every void,
-    per unit projected area.  Model and assumptions under Notes.
-
-    Parameters
-    ----------
-    sphere_diameter_nm : float
-        Template sphere diameter D, nm; > 0.
-    film_height_nm : float
-        Metal film height h above the base, nm; 0 ≤ h ≤ D.
-    film_height_u_nm, sphere_diameter_u_nm : float, default 0
-        Standard uncertainties of h and D, nm (uncorrelated).
-
-    Returns
-    -------
-    SurfaceAreaFactor
-        u(F)² = (∂F/∂h·u_h)² + (∂F/∂D·u_D)², ∂F/∂h = 2c·h/D², ∂F/∂D = −2c·h²/D³,
-        c = 2π/√3.
-
-    Raises
-    ------
-    AnalysisInputError
-        A non-finite or negative input, D = 0, or h > D (the voids would be closed and the
-        film no longer a segment-void film).
-
-    Notes
-    -----
-    A segment-void film is grown by electrodeposition through a close-packed monolayer of equal
-    template spheres up to a height h, after which the spheres are removed.  Each sphere leaves a
-    spherical-segment void in the metal.  The SERS substrate enhancement factor needs the metal
-    area per projected (laser spot) area, because the analyte covers the inner void surfaces as
-    well as the flat top.  No library computes this geometry, so it is written out here.
-
-    Model (plain geometry, no source needed beyond the packing density):
-
-    * spheres of diameter D = 2R in perfect hexagonal close packing, touching the base,
-      n = 2/(√3·D²) spheres per area (Conway & Sloane, *Sphere Packings, Lattices and Groups*,
-      3rd ed., Springer 1999, ch. 1: the hexagonal packing's density is π/√12);
-    * the metal fills all space between the spheres from the base up to a flat top at height h;
-    * the metal is smooth, and the template is fully removed, so every void surface is exposed.
-
-    Per sphere the flat top loses the void's opening, a disc of radius r² = h·(D − h), and gains
-    the spherical zone between heights 0 and h, area 2π·R·h (Archimedes' zone theorem).  Per
-    projected area therefore
-
-        F(h) = 1 − n·π·h·(D − h) + n·π·D·h = 1 + n·π·h² = 1 + (2π/√3)·(h/D)².
-
-    F = 1 at h = 0, 1 + π/(2√3) ≈ 1.907 at h = D/2 and 1 + 2π/√3 ≈ 4.628 at h = D (where
-    the voids close).  Above about h/D = 0.9 the openings are narrow and an analyte may not
-    reach the whole inner surface; the model then overstates the accessible area.
-
-    References
-    ----------
-    J. H. Conway and N. J. A. Sloane, *Sphere Packings, Lattices and Groups*, 3rd ed.,
-    Springer, New York, 1999, ch. 1 (hexagonal packing, n = 2/(√3·D²)).
-    JCGM 100:2008 (GUM), §5.1.2 (first-order propagation of uncertainty).
-    """
-    diameter = require_positive(sphere_diameter_nm, field="sphere_diameter_nm")
-    height = require_non_negative(film_height_nm, field="film_height_nm")
-    u_height = require_non_negative(film_height_u_nm, field="film_height_u_nm")
-    u_diameter = require_non_negative(sphere_diameter_u_nm, field="sphere_diameter_u_nm")
-    if height > diameter:
-        raise AnalysisInputError(
-            f"film height {height:g} nm exceeds the sphere diameter {diameter:g} nm: the voids "
-            "are closed and the segment-void model does not apply",
-            field="film_height_nm",
-        )
-    ratio = height / diameter
-    value = 1.0 + _ZONE_COEFFICIENT * ratio**2
-    d_height = 2.0 * _ZONE_COEFFICIENT * height / diameter**2
-    d_diameter = -2.0 * _ZONE_COEFFICIENT * height**2 / diameter**3
-    uncertainty = math.hypot(d_height * u_height, d_diameter * u_diameter)
-    return SurfaceAreaFactor(
-        value=value,
-        standard_uncertainty=uncertainty,
-        relative_uncertainty=uncertainty / value,
-        height_over_diameter=ratio,
-        model=MODEL_DESCRIPTION,
-    )

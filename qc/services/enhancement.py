@@ -14,7 +14,7 @@ from typing import Any
 
 from inventory.errors import refusal
 from inventory.models import DepositionRun, Substrate
-from inventory.physics.template_geometry import segment_void_surface_area_factor
+from inventory.physics.segment_void import segment_void_surface_area_factor
 from inventory.services.toolkit import User, save_changed
 from qc.analysis import enhancement
 from qc.analysis.errors import AnalysisInputError

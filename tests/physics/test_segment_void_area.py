@@ -13,7 +13,7 @@ import numpy as np
 import pytest
 
 from inventory.physics.errors import AnalysisInputError
-from inventory.physics.template_geometry import segment_void_surface_area_factor
+from inventory.physics.segment_void import segment_void_surface_area_factor
 
 # Area fraction of close-packed circles, π/(2√3) (Conway & Sloane 1999, ch. 1).
 PACKING_FRACTION = math.pi / (2 * math.sqrt(3))
