@@ -26,7 +26,7 @@ from scipy.interpolate import PchipInterpolator
 
 from ._validation import as_finite_1d, require_positive
 from .errors import AnalysisInputError
-from .mie_model import mean_cross_section_nm2
+from .mie_cross_section import mean_cross_section_nm2
 from .uvvis import CalibratedValue
 
 

@@ -183,7 +183,7 @@ class UvVisRecord(CodedRecord):
     molar_concentration_M = models.FloatField(null=True, blank=True)
     concentration_note = models.CharField(max_length=300, blank=True)
 
-    # Log-normal Mie fit (qc.analysis.mie_model.fit_lognormal_mie).  At a bound of the
+    # Log-normal Mie fit (qc.analysis.mie_fit.fit_lognormal_mie).  At a bound of the
     # diameter search there is no size: the bound is kept in mie_diameter_bound_nm.
     mie_median_diameter_nm = models.FloatField(null=True, blank=True)
     mie_median_diameter_u_nm = models.FloatField(null=True, blank=True)

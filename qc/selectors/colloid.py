@@ -8,7 +8,7 @@ from datetime import date
 import numpy as np
 
 from inventory.models import NanoparticleBatch
-from qc.analysis.mie_model import synthesize_absorbance
+from qc.analysis.mie_cross_section import synthesize_absorbance
 from qc.analysis.readers import read_spectrum
 from qc.analysis.uvvis import subtract_blank, to_undiluted_1cm
 

@@ -46,7 +46,7 @@ from qc.analysis.colloid_stability import (
     compare_with_first,
 )
 from qc.analysis.errors import AnalysisInputError
-from qc.analysis.mie_model import compare_sizes, fit_lognormal_mie
+from qc.analysis.mie_fit import compare_sizes, fit_lognormal_mie
 from qc.analysis.readers import read_spectrum
 from qc.analysis.spectrum import Spectrum
 from qc.analysis.uvvis import (
