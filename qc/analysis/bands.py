@@ -1,8 +1,7 @@
-"""Reference-band metrics: peak fitting of one band, fast array metrics for maps, and
-intensity normalisation to laser power and integration time.
+"""Reference-band metrics: peak fitting of one band and intensity normalisation to laser
+power and integration time.  The line shapes are in :mod:`qc.analysis.band_profiles`, the
+fast array metrics for maps in :mod:`qc.analysis.band_maps` (both re-exported here).
 """
-
-from __future__ import annotations
 
 from dataclasses import dataclass
 
@@ -10,10 +9,21 @@ import numpy as np
 from scipy.optimize import curve_fit
 
 from ._validation import as_finite_1d, as_strictly_monotonic_axis, require_positive
+from .band_maps import MapBandMetrics, band_heights_map, band_metrics_map
+from .band_profiles import (
+    PROFILES,
+    check_band_window,
+    lorentzian,
+    pseudo_voigt,
+    pseudo_voigt_area_factor,
+    pseudo_voigt_area_factor_slope,
+)
 from .errors import AnalysisInputError
 
-_LN2 = np.log(2.0)
-PROFILES = ("lorentzian", "pseudo_voigt")
+__all__ = [
+    "PROFILES", "BandFit", "MapBandMetrics", "band_heights_map", "band_metrics_map",
+    "check_band_window", "fit_band", "lorentzian", "normalised_intensity", "pseudo_voigt",
+]
 
 
 @dataclass(frozen=True, eq=False)
@@ -75,65 +85,6 @@ _BOUND_NOTES = {
     "height": "the fitted band height is zero (no band)",
 }
 
-
-@dataclass(frozen=True, eq=False)
-class MapBandMetrics:
-    """Band metrics of every spectrum of a map, from array operations.
-
-    Attributes
-    ----------
-    height : numpy.ndarray, shape (n_points,)
-        Maximum inside the window above the local line through the window edges.
-    area : numpy.ndarray, shape (n_points,)
-        Trapezoidal integral over the window above that line (intensity × cm⁻¹).
-    position_cm1 : numpy.ndarray, shape (n_points,)
-        Raman shift of the maximum (cm⁻¹, on the measured grid).
-    """
-
-    height: np.ndarray
-    area: np.ndarray
-    position_cm1: np.ndarray
-
-
-def lorentzian(shift_cm1, position_cm1: float, height: float, fwhm_cm1: float):
-    """Lorentzian band ``h / (1 + ((x − x0)/(Γ/2))²)``; its area is ``π·h·Γ/2``."""
-    return height / (1.0 + ((np.asarray(shift_cm1) - position_cm1) / (fwhm_cm1 / 2.0)) ** 2)
-
-
-def pseudo_voigt(shift_cm1, position_cm1: float, height: float, fwhm_cm1: float, eta: float):
-    """Pseudo-Voigt ``h·[η·L + (1 − η)·G]`` with one FWHM for both parts (peak value h).
-
-    ``G = exp(−4 ln2 (x − x0)²/Γ²)``; area ``h·Γ/2·[η·π + (1 − η)·√(π/ln2)]``.
-    """
-    x = np.asarray(shift_cm1) - position_cm1
-    lorentz = 1.0 / (1.0 + (x / (fwhm_cm1 / 2.0)) ** 2)
-    gauss = np.exp(-4.0 * _LN2 * x**2 / fwhm_cm1**2)
-    return height * (eta * lorentz + (1.0 - eta) * gauss)
-
-
-def _area_factor(eta):
-    """Area per (height × FWHM) of a pseudo-Voigt: ½·[η·π + (1 − η)·√(π/ln2)]."""
-    return 0.5 * (eta * np.pi + (1.0 - eta) * np.sqrt(np.pi / _LN2))
-
-
-def check_band_window(shift_cm1, band_center_cm1: float, band_window_cm1: float) -> np.ndarray:
-    """Return the boolean window ``|x − centre| ≤ window/2``, refusing a band off the axis."""
-    axis = np.asarray(shift_cm1, dtype=float)
-    center = float(band_center_cm1)
-    width = require_positive(band_window_cm1, field="band_window_cm1")
-    low, high = axis.min(), axis.max()
-    if not np.isfinite(center) or center - width / 2 < low or center + width / 2 > high:
-        raise AnalysisInputError(
-            f"band window {center - width / 2:g}–{center + width / 2:g} cm⁻¹ lies outside the "
-            f"measured range {low:g}–{high:g} cm⁻¹",
-            field="band_center_cm1",
-        )
-    inside = np.abs(axis - center) <= width / 2
-    if np.count_nonzero(inside) < 7:
-        raise AnalysisInputError(
-            "the band window holds fewer than 7 points; widen it", field="band_window_cm1"
-        )
-    return inside
 
 
 def fit_band(
@@ -239,13 +190,13 @@ def fit_band(
 
     position, height, fwhm = (float(v) for v in params[:3])
     eta = float(params[3]) if n_shape == 4 else 1.0
-    factor = _area_factor(eta)
+    factor = pseudo_voigt_area_factor(eta)
     area = height * fwhm * factor
     # First-order propagation: ∂A/∂h = Γ·f, ∂A/∂Γ = h·f, ∂A/∂η = h·Γ·½(π − √(π/ln2)).
     gradient = np.zeros(len(params))
     gradient[1], gradient[2] = fwhm * factor, height * factor
     if n_shape == 4:
-        gradient[3] = height * fwhm * 0.5 * (np.pi - np.sqrt(np.pi / _LN2))
+        gradient[3] = height * fwhm * pseudo_voigt_area_factor_slope()
     area_se = (
         float(np.sqrt(max(gradient @ cov @ gradient, 0.0))) if np.all(np.isfinite(cov)) else np.nan
     )
@@ -284,108 +235,6 @@ def _bounds_reached(params, lower, upper, *, relative=1e-6) -> tuple[str, ...]:
         reached.append("fwhm_lower")
     return tuple(reached)
 
-
-def band_heights_map(shift_cm1, intensity, *, band: BandFit) -> tuple[np.ndarray, np.ndarray]:
-    """Fitted band height and area of every spectrum, with the band shape of ``band``.
-
-    For a fixed position x0, width Γ (and η) the model of :func:`fit_band`,
-    ``y = h·P(x; x0, 1, Γ, η) + a + b·(x − x_c)``, is linear in (h, a, b), so every spectrum
-    is fitted at once by one least-squares solve (pseudo-inverse of the window's design
-    matrix applied to all rows).  The shape comes from the fit of the map's mean spectrum.
-
-    Parameters
-    ----------
-    shift_cm1 : array_like, shape (n_shift,)
-    intensity : array_like, shape (n_points, n_shift)
-        Baseline-corrected spectra.
-    band : BandFit
-        Fit of the mean spectrum (its window, position, width and η are used).
-
-    Returns
-    -------
-    height, area : numpy.ndarray, shape (n_points,)
-        Fitted heights and areas (area = h·Γ·½[η·π + (1 − η)·√(π/ln2)]).
-
-    Notes
-    -----
-    Unlike the direct metric of :func:`band_metrics_map` (maximum above the line through
-    the window edges), this does not lose the band's wings to the local line nor the top to
-    the sampling, so map heights agree with single-spectrum heights.  It assumes the band
-    keeps its position and width over the map; a point whose band moves by a sizeable
-    fraction of Γ reads low (its position from :func:`band_metrics_map` shows that).
-    """
-    axis = np.asarray(shift_cm1, dtype=float)
-    spectra = np.asarray(intensity, dtype=float)
-    x = band.window_shift_cm1
-    inside = np.isin(axis, x)
-    centre = float(np.mean([x.min(), x.max()]))
-    shape = pseudo_voigt(x, band.position_cm1, 1.0, band.fwhm_cm1, band.eta)
-    design = np.column_stack([shape, np.ones_like(x), x - centre])
-    coefficients = np.linalg.pinv(design) @ spectra[:, inside].T
-    height = coefficients[0]
-    return height, height * band.fwhm_cm1 * _area_factor(band.eta)
-
-
-def band_metrics_map(
-    shift_cm1,
-    intensity,
-    *,
-    band_center_cm1: float,
-    band_window_cm1: float,
-    edge_points: int = 3,
-) -> MapBandMetrics:
-    """Band height, area and position for every spectrum of a map with array operations.
-
-    Inside the window ``|x − x_c| ≤ w/2`` a straight line through the means of the first
-    and last ``edge_points`` points is subtracted (a local linear term), then
-    ``height = max(y − line)``, ``position = x[argmax]`` and
-    ``area = ∫ (y − line) dx`` by the trapezoidal rule.
-
-    Parameters
-    ----------
-    shift_cm1 : array_like, shape (n_shift,)
-        Raman shift (cm⁻¹), strictly monotonic.
-    intensity : array_like, shape (n_points, n_shift)
-        Baseline-corrected spectra, one per row.
-    band_center_cm1, band_window_cm1 : float
-        Expected band position and full window width (cm⁻¹).
-    edge_points : int, default 3
-        Points averaged at each window edge to anchor the local line.
-
-    Returns
-    -------
-    MapBandMetrics
-
-    Notes
-    -----
-    This is the direct-integration counterpart of :func:`fit_band` (common practice for
-    fast map metrics): no model is assumed, so a band wider than the window is truncated.
-    """
-    axis = as_strictly_monotonic_axis(shift_cm1, field="shift_cm1", min_points=7)
-    spectra = np.asarray(intensity, dtype=float)
-    if spectra.ndim != 2 or spectra.shape[1] != axis.size:
-        raise AnalysisInputError(
-            f"expected shape (n_points, {axis.size}), got {spectra.shape}", field="intensity"
-        )
-    inside = check_band_window(axis, band_center_cm1, band_window_cm1)
-    index = np.flatnonzero(inside)
-    if int(edge_points) != edge_points or not 1 <= edge_points <= index.size // 3:
-        raise AnalysisInputError(
-            f"must be a whole number between 1 and {index.size // 3}", field="edge_points"
-        )
-    x = axis[index]
-    y = spectra[:, index[0] : index[-1] + 1]
-    k = int(edge_points)
-    x_left, x_right = x[:k].mean(), x[-k:].mean()
-    y_left, y_right = y[:, :k].mean(axis=1), y[:, -k:].mean(axis=1)
-    slope = (y_right - y_left) / (x_right - x_left)
-    above_line = y - (y_left[:, None] + slope[:, None] * (x - x_left))
-    peak = np.argmax(above_line, axis=1)
-    height = np.take_along_axis(above_line, peak[:, None], axis=1)[:, 0]
-    area = np.trapezoid(above_line, x, axis=1)
-    if x[0] > x[-1]:  # descending axis: keep the area positive for a positive band
-        area = -area
-    return MapBandMetrics(height=height, area=area, position_cm1=x[peak])
 
 
 def normalised_intensity(

@@ -12,14 +12,9 @@ from dataclasses import dataclass
 import numpy as np
 
 from ._validation import all_finite, as_finite_1d, as_strictly_monotonic_axis
-from .bands import (
-    BandFit,
-    band_heights_map,
-    band_metrics_map,
-    check_band_window,
-    fit_band,
-    normalised_intensity,
-)
+from .band_maps import band_heights_map, band_metrics_map
+from .band_profiles import check_band_window
+from .bands import BandFit, fit_band, normalised_intensity
 from .baseline import DEFAULT_STIFFNESS_CM4, asls_baseline, asls_baseline_map, lam_for_spacing
 from .errors import AnalysisInputError
 from .spikes import remove_spikes
@@ -65,10 +60,10 @@ class MapQcResult:
     n_points : int
     height_per_point, area_per_point : numpy.ndarray
         Fitted band height and area of every point, with the band shape (position, width)
-        of the mean-spectrum fit (:func:`qc.analysis.bands.band_heights_map`, one linear
+        of the mean-spectrum fit (:func:`qc.analysis.band_maps.band_heights_map`, one linear
         solve for the whole map), so they agree with single-spectrum fits.
     position_per_point_cm1 : numpy.ndarray
-        Raman shift of each point's maximum (:func:`qc.analysis.bands.band_metrics_map`).
+        Raman shift of each point's maximum (:func:`qc.analysis.band_maps.band_metrics_map`).
     uniformity, area_uniformity : MapUniformity
         Spread of the height (the headline uniformity) and of the area over the map.
     median_height_counts_per_mW_s, rsd_percent, fraction_within_tolerance : float
@@ -245,7 +240,7 @@ def analyse_qc_map(
     Steps, each on the whole (n_points, n_shift) array at once: spike removal (Whitaker &
     Hayes 2018), batched P-spline ASLS baselines (:func:`~qc.analysis.baseline.
     asls_baseline_map`), normalisation to counts/(mW·s), direct band height/area per point
-    (:func:`~qc.analysis.bands.band_metrics_map`), RSD and share within ±tolerance of the
+    (:func:`~qc.analysis.band_maps.band_metrics_map`), RSD and share within ±tolerance of the
     median (:func:`~qc.analysis.uniformity.map_uniformity`).
 
     Parameters

@@ -64,7 +64,7 @@ def surface_area_for(substrate: Substrate, *, entered: float | None = None,
     """The surface-area factor of ``substrate``: derived from its deposition, or as given.
 
     Derived: a segment-void film's factor from its template sphere diameter and film height
-    (``inventory.physics.template_geometry.segment_void_surface_area_factor``), with the
+    (``inventory.physics.segment_void.segment_void_surface_area_factor``), with the
     film height's relative uncertainty ``film_height_rel_u``; a film grown on a flat slide
     is 1 (smooth metal).  Entered: the lab's value with the source it names (factor ≥ 1).
     Assumed 1: only when asked for.  A substrate with no deposition to derive from must be
