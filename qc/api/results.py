@@ -16,7 +16,7 @@ from inventory.flags import flags_open
 from inventory.uncertainty_format import format_with_uncertainty
 from qc.models import QcImport, QcMeasurement
 from qc.services.colloid import UvVisImport
-from qc.services.raman import FLAG_CATEGORY
+from qc.services.raman_release import FLAG_CATEGORY
 
 # UvVisRecord fields an import reports, in the order a person reads them.
 UVVIS_SHOWN = (

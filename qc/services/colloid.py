@@ -1,5 +1,7 @@
 """Colloid UV-vis QC (services): importing a spectrum (limits and the silver table are in
-``colloid_limits``, named here too so the colloid services stay one API).
+``colloid_limits``, sizing by the metal's calibration in ``colloid_sizing``, limits and
+flags of a record in ``colloid_breaches``; named here too so the colloid services stay one
+API).
 
 ``uvvis_record_import`` is the one place where a colloid spectrum becomes a record: it reads
 the file, calls qc.analysis for every number, compares with the batch's first record,
@@ -24,13 +26,11 @@ import numpy as np
 from django.core.exceptions import ValidationError
 from django.core.files.base import ContentFile
 from django.db import transaction
-from scipy import constants
 
 from inventory.errors import refusal
-from inventory.flags import flags_open
 from inventory.models import Flag, NanoparticleBatch
 from inventory.roles import MAKER, require_role
-from inventory.services import flag_raise, sha256_of
+from inventory.services import sha256_of
 from inventory.services.toolkit import User
 from inventory.services.toolkit import check_upload as _check_upload
 from inventory.services.toolkit import check_values as _check_values
@@ -39,7 +39,6 @@ from inventory.services.toolkit import link as _link
 from inventory.services.toolkit import require_not_future as _require_not_future
 from inventory.services.toolkit import save_changed as _save_changed
 from inventory.services.toolkit import save_new as _save_new
-from qc.analysis import gold_haiss, silver_calibration
 from qc.analysis.colloid_stability import (
     ColloidSnapshot,
     colloid_snapshot,
@@ -62,11 +61,17 @@ from ..models.colloid import (
     ColloidMetal,
     UvVisRecord,
 )
+from .colloid_breaches import (
+    evaluate_limits,
+    flag_breaches,
+    review_breaches,
+)
 from .colloid_limits import (
     colloid_limit_set_set,
     silver_calibration_active,
     silver_calibration_record,
 )
+from .colloid_sizing import store_calibration, uvvis_sizes_from_band
 
 __all__ = [
     "UvVisImport",
@@ -74,9 +79,9 @@ __all__ = [
     "silver_calibration_active",
     "silver_calibration_record",
     "uvvis_record_import",
+    "uvvis_sizes_from_band",
 ]
 
-FLAG_CATEGORY = "colloid"
 MIE_FIT_RANGE_NM = (350.0, 800.0)
 _PARAMETER_FIELDS = {"dilution_factor", "path_length_cm"}
 
@@ -132,7 +137,7 @@ def uvvis_record_import(
     calibration_diameter = None
     if snapshot is not None:
         _store_band(record, snapshot)
-        calibration_diameter = _store_calibration(record, batch.metal, snapshot.band)
+        calibration_diameter = store_calibration(record, batch.metal, snapshot.band)
     _store_mie(record, batch.metal, wavelength_nm, absorbance_1cm, calibration_diameter)
     limits = ColloidLimitSet.objects.filter(metal=batch.metal).first()
     _store_size_agreement(record, limits)
@@ -143,11 +148,11 @@ def uvvis_record_import(
     if blank is not None:
         record.blank_file = ContentFile(blank[1], name=blank[0])
         record.blank_sha256 = sha256_of(blank[1])
-    breaches = _review_breaches(record) + _evaluate(record, limits)
+    breaches = review_breaches(record) + evaluate_limits(record, limits)
     with _files_removed_if_failed(record):
         record = _save_new(record, actor=actor)
         _link([(batch, "colloid measured")], record, used_on=measured_on, actor=actor)
-        flags = _flag_breaches(actor, batch, record, breaches)
+        flags = flag_breaches(actor, batch, record, breaches)
         record.breaches = breaches
         UvVisRecord.objects.filter(pk=record.pk).update(breaches=breaches)
     return UvVisImport(record=record, duplicate=False, breaches=tuple(breaches),
@@ -268,72 +273,6 @@ def _store_band(record: UvVisRecord, snapshot: ColloidSnapshot) -> None:
     record.aggregation_index = snapshot.aggregation_index
 
 
-def _store_calibration(record: UvVisRecord, metal: str, band: PlasmonBand) -> float | None:
-    """Size and concentration from the metal's calibration; returns the size used."""
-    if metal == ColloidMetal.GOLD:
-        return _store_gold(record, band)
-    return _store_silver(record, band)
-
-
-def _store_gold(record: UvVisRecord, band: PlasmonBand) -> float | None:
-    # u(R)/R = u(A_spr)/A_spr: the 450 nm reading is interpolated, not fitted.
-    ratio_u = band.ratio_spr_450 * band.peak_absorbance_u_1cm / band.peak_absorbance_1cm
-    ratio = gold_haiss.diameter_from_ratio(band.ratio_spr_450, ratio_u=ratio_u)
-    peak = gold_haiss.diameter_from_peak(band.peak_nm, peak_u_nm=band.peak_u_nm)
-    record.haiss_ratio_diameter_u_nm = ratio.standard_uncertainty
-    record.haiss_peak_diameter_u_nm = peak.standard_uncertainty
-    record.haiss_ratio_diameter_nm = ratio.value
-    record.haiss_ratio_in_range = ratio.within_range
-    record.haiss_ratio_is_estimate = ratio.is_estimate
-    record.haiss_ratio_note = ratio.note
-    record.haiss_peak_diameter_nm = peak.value
-    record.haiss_peak_in_range = peak.within_range
-    record.haiss_peak_note = peak.note
-    # Haiss et al. advise the peak position above 35 nm and the ratio below.
-    if peak.value is not None and peak.value >= gold_haiss.PEAK_ADVISED_MIN_NM:
-        chosen, method = peak, "Haiss et al. 2007, peak position"
-    elif ratio.value is not None:
-        chosen, method = ratio, "Haiss et al. 2007, A_spr/A_450 ratio (experimental B1, B2)"
-    else:
-        chosen, method = peak, "Haiss et al. 2007, peak position"
-    record.calibration_source = "Haiss, Thanh, Aveyard & Fernig, Anal. Chem. 79, 4215 (2007)"
-    if chosen.value is None:
-        record.concentration_note = "no calibration size in range, so no concentration"
-        return None
-    record.diameter_nm, record.diameter_method = chosen.value, method
-    record.diameter_u_nm = chosen.standard_uncertainty
-    number = gold_haiss.number_concentration_per_mL(band.absorbance_450_1cm, chosen.value)
-    record.concentration_note = number.note
-    if number.value is not None:
-        record.number_per_mL = number.value
-        record.molar_concentration_M = gold_haiss.molar_concentration_M(number.value)
-    return chosen.value
-
-
-def _store_silver(record: UvVisRecord, band: PlasmonBand) -> float | None:
-    table, stored = silver_calibration_active()
-    record.silver_calibration = stored
-    record.calibration_source = (f"lab table '{stored.name}': {stored.provenance}" if stored
-                                 else f"built-in table ({table.provenance}); not independent "
-                                      "of the Mie fit")
-    record.calibration_independent = table.independent_of_mie
-    size = silver_calibration.diameter_from_peak(table, band.peak_nm)
-    record.silver_table_diameter_nm = size.value
-    record.silver_table_in_range = size.within_range
-    record.silver_table_note = size.note
-    molar = silver_calibration.molar_concentration_M(table, band.peak_nm, band.peak_absorbance_1cm)
-    record.concentration_note = molar.note
-    if molar.value is not None:
-        record.molar_concentration_M = molar.value
-        # Unit conversion mol/L → particles/mL: N = c·N_A/1000 (N_A, CODATA).
-        record.number_per_mL = molar.value * constants.Avogadro / 1000.0
-    if size.value is None:
-        return None
-    record.diameter_nm = size.value
-    record.diameter_method = "silver calibration table, peak position (PCHIP)"
-    return size.value
-
-
 def _store_mie(record: UvVisRecord, metal: str, wavelength_nm, absorbance_1cm,
                calibration_diameter_nm: float | None) -> None:
     try:
@@ -395,111 +334,6 @@ def _store_stability(record: UvVisRecord, first: UvVisRecord, snapshot: ColloidS
     record.aggregation_index_change = change.aggregation_index_change
 
 
-# --------------------------------------------------------------------------------------
-# Limits and flags
-# --------------------------------------------------------------------------------------
-
-
-def _breach(limit: str, value: float, limit_value: float, sentence: str) -> dict:
-    return {"limit": limit, "value": float(value), "limit_value": float(limit_value),
-            "message": sentence, "flag_code": "", "flag_raised": False}
-
-
-def _review_breaches(record: UvVisRecord) -> list[dict]:
-    """Results that need a person whatever the limits: no size, a fit at its bounds."""
-    found = []
-    if record.peak_nm is None:
-        found.append(_breach("size_methods", 0.0, 0.0, "no plasmon maximum, so no size: "
-                             "review the spectrum (large particles or aggregates)"))
-    if record.mie_diameter_bound_nm is not None:
-        found.append(_breach("mie_fit_range", record.mie_diameter_bound_nm,
-                             record.mie_diameter_bound_nm, f"Mie fit {record.mie_fit_note}"))
-    if record.mie_sigma_bound == "upper" and record.mie_geometric_sigma is not None:
-        found.append(_breach("mie_width_bound", record.mie_geometric_sigma,
-                             record.mie_geometric_sigma, f"Mie fit: {record.mie_fit_note}"))
-    return found
-
-
-def _evaluate(record: UvVisRecord, limits: ColloidLimitSet | None) -> list[dict]:
-    """The lab's colloid rules: one breach per limit exceeded (stored on the record)."""
-    if limits is None:
-        record.limits_note = f"no colloid limits are set for {record.batch.metal}; not evaluated"
-        return []
-    record.limit_set = limits
-    notes, breaches = [], []
-    if record.peak_nm is None:
-        record.limits_note = "no plasmon maximum: peak, width and aggregation limits not evaluated"
-        return []
-    if not limits.peak_min_nm <= record.peak_nm <= limits.peak_max_nm:
-        breaches.append(_breach("peak_window_nm", record.peak_nm, limits.peak_min_nm
-                                if record.peak_nm < limits.peak_min_nm else limits.peak_max_nm,
-                                f"peak at {record.peak_nm:.1f} nm is outside "
-                                f"{limits.peak_min_nm:g}–{limits.peak_max_nm:g} nm"))
-    if record.fwhm_nm is None:
-        notes.append(f"FWHM not evaluated ({record.fwhm_note})")
-    elif record.fwhm_nm > limits.fwhm_max_nm:
-        breaches.append(_breach("fwhm_max_nm", record.fwhm_nm, limits.fwhm_max_nm,
-                                f"FWHM {record.fwhm_nm:.1f} nm exceeds {limits.fwhm_max_nm:g} nm"))
-    if record.aggregation_index > limits.aggregation_index_max:
-        breaches.append(_breach("aggregation_index_max", record.aggregation_index,
-                                limits.aggregation_index_max,
-                                f"aggregation index {record.aggregation_index:.3f} exceeds "
-                                f"{limits.aggregation_index_max:g}"))
-    if record.first_record is not None:
-        breaches.extend(_stability_breaches(record, limits))
-    if limits.flag_size_disagreement and record.sizes_agree is False:
-        breaches.append(_breach("size_tolerance_percent", record.size_difference_percent,
-                                limits.size_tolerance_percent, record.size_agreement_message))
-    record.limits_note = "; ".join(notes)
-    return breaches
-
-
-def _stability_breaches(record: UvVisRecord, limits: ColloidLimitSet) -> list[dict]:
-    since = f"since {record.first_record.code}"
-    found = []
-    # A shift either way is a change of the particles (red: growth or coupling; blue: etching).
-    if abs(record.peak_shift_nm) > limits.peak_shift_max_nm:
-        found.append(_breach("peak_shift_max_nm", record.peak_shift_nm, limits.peak_shift_max_nm,
-                             f"peak shifted {record.peak_shift_nm:+.1f} nm {since} (limit "
-                             f"±{limits.peak_shift_max_nm:g} nm)"))
-    if record.absorbance_loss_fraction > limits.absorbance_loss_max_fraction:
-        found.append(_breach("absorbance_loss_max_fraction", record.absorbance_loss_fraction,
-                             limits.absorbance_loss_max_fraction,
-                             f"peak absorbance fell {100 * record.absorbance_loss_fraction:.0f} % "
-                             f"{since} (limit {100 * limits.absorbance_loss_max_fraction:g} %)"))
-    return found
-
-
-def _open_flags_by_limit(batch: NanoparticleBatch, exclude: UvVisRecord) -> dict[str, str]:
-    """Limit name → code of an open flag an earlier UV-vis record raised for it."""
-    raised: dict[str, str] = {}
-    for breaches in UvVisRecord.objects.filter(batch=batch).exclude(pk=exclude.pk) \
-            .values_list("breaches", flat=True):
-        for breach in breaches:
-            if breach.get("flag_raised"):
-                raised.setdefault(breach["limit"], breach["flag_code"])
-    still_open = set(flags_open().filter(code__in=raised.values())
-                     .values_list("code", flat=True))
-    return {limit: code for limit, code in raised.items() if code in still_open}
-
-
-def _flag_breaches(actor, batch: NanoparticleBatch, record: UvVisRecord,
-                   breaches: list[dict]) -> list[Flag]:
-    """One open flag per breach, unless a UV-vis flag for that limit is still open."""
-    open_by_limit = _open_flags_by_limit(batch, record)
-    flags = []
-    for breach in breaches:
-        if breach["limit"] in open_by_limit:
-            breach["flag_code"] = open_by_limit[breach["limit"]]
-            continue
-        flag = flag_raise(actor=actor, target=batch, category=FLAG_CATEGORY,
-                          message=f"UV-vis {record.code} of {record.measured_on.isoformat()}: "
-                                  f"{breach['message']}.")
-        breach["flag_code"], breach["flag_raised"] = flag.code, True
-        flags.append(flag)
-    return flags
-
-
 def uvvis_mark_stale_on_amend(*, actor: User | None, record, changed: dict, why: str) -> None:
     """``SERSLEDGER_AMEND_HOOKS``: a colloid's metal decides its UV-vis figures.
 
@@ -515,26 +349,3 @@ def uvvis_mark_stale_on_amend(*, actor: User | None, record, changed: dict, why:
         uvvis.stale_reason = (f"{why}; its sizes, concentration and limits were worked out "
                               "for the old metal: import the spectrum again.")
         _save_changed(uvvis, actor=actor, reason=f"figures stale: {why}")
-
-
-# Fields _store_calibration fills, offered to callers sizing a band read elsewhere.
-SIZING_FIELDS = ("diameter_nm", "diameter_method", "number_per_mL", "molar_concentration_M",
-                 "concentration_note", "calibration_source")
-
-
-def uvvis_sizes_from_band(*, metal: str, band: PlasmonBand) -> dict:
-    """Size and concentration of a band measured elsewhere (e.g. typed in a lab's sheet).
-
-    Runs the very calibration a spectrum import runs (``_store_calibration``: Haiss et al.
-    2007 for gold, the active silver table for silver) on an unsaved record and returns its
-    sizing fields, so a sheet's peak and absorbances are sized exactly like a file's.
-    """
-    if metal not in ColloidMetal.values:
-        raise refusal("metal", f"UV-vis sizing covers silver (Ag) and gold (Au) only, not "
-                               f"{metal}.", "unsupported_metal")
-    record = UvVisRecord()
-    try:
-        _store_calibration(record, metal, band)
-    except AnalysisInputError as error:
-        raise refusal(error.field or "peak_nm", error.message, "bad_value") from None
-    return {name: getattr(record, name) for name in SIZING_FIELDS}

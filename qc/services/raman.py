@@ -5,50 +5,44 @@ thin orchestration: check the inputs, read and analyse the file (``raman_analysi
 out the enhancement factor (``enhancement``), judge against the lab's limits
 (``raman_limits.qc_judge``), and store everything in one transaction, with the flag and hold
 a failure calls for.  A bad file or value is a ``ValidationError`` keyed by the parameter at
-fault, or by ``raw_file`` with the 1-based line, and nothing is saved.
+fault, or by ``raw_file`` with the 1-based line, and nothing is saved.  The request objects
+and their checks are in ``raman_requests``, the release rule in ``raman_release`` (both
+named here too, so the Raman QC services stay one API).
 """
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass
-from datetime import date
 
-from django.core.files.base import ContentFile
 from django.db import transaction
 
 from inventory.errors import refusal
-from inventory.flags import flags_open
-from inventory.lifecycle import check_usable
-from inventory.models import ReagentKind, ReagentLot, Status, Substrate
+from inventory.models import Status, Substrate
 from inventory.roles import MAKER, require_role
-from inventory.services import flag_raise, record_release, record_transition, sha256_of
+from inventory.services import flag_raise, sha256_of
 from inventory.services.toolkit import User, lock
 from inventory.services.toolkit import check_substrates_usable as _check_substrates_usable
 from inventory.services.toolkit import check_values as _check_values
 from inventory.services.toolkit import files_removed_if_failed as _files_removed_if_failed
 from inventory.services.toolkit import link as _link
-from inventory.services.toolkit import require_kind as _require_kind
-from inventory.services.toolkit import require_not_future as _require_not_future
 from inventory.services.toolkit import save_new as _save_new
 from inventory.services.toolkit import transition as _transition
-from inventory.signatures import SignatureIntent
 from qc.analysis.spectrum import RamanMap
 
-from ..models.imports import QcImport
 from ..models.raman import QcMeasurement, ReferenceAnalyte, ReferenceMeasurement
-from ..selectors.current import qc_measurement_get_latest
-from .enhancement import (
-    FILM_HEIGHT_REL_U_DEFAULT,
-    SurfaceCoverage,
-    enhancement_fields,
-    substrate_enhancement,
-    surface_area_for,
-)
+from .enhancement import enhancement_fields, substrate_enhancement
 from .raman_analysis import FILE_FIELD, analyse, read_upload, read_upload_checks
 
 # The definitions live in raman_limits; named here too, so the Raman QC services stay one API.
 from .raman_limits import limit_set_for, qc_judge, qc_limit_set_define, reference_analyte_define
+from .raman_release import FLAG_CATEGORY, substrate_release, substrate_release_check
+from .raman_requests import (
+    QcImportRequest,
+    ReferenceImportRequest,
+    acquisition_fields,
+    check_acquisition,
+    require_positive_parameters,
+)
 from .raman_results import results_fields
 
 __all__ = [
@@ -57,122 +51,9 @@ __all__ = [
     "reference_measurement_import", "substrate_release", "substrate_release_check",
 ]
 
-FLAG_CATEGORY = "qc"
-
-
-# ---------------------------------------------------------------------------------------
-# The parameters of an import
-# ---------------------------------------------------------------------------------------
-
-
-@dataclass(frozen=True, kw_only=True)
-class _Acquisition:
-    """What every Raman import names: the analyte lot, the file and how it was measured."""
-
-    analyte_lot: ReagentLot
-    filename: str
-    content: bytes
-    measured_on: date
-    laser_nm: float
-    power_mW: float
-    integration_s: float
-    accumulations: int = 1
-    objective: str = ""
-    analyte: ReferenceAnalyte | None = None
-    notes: str = ""
-
-
-@dataclass(frozen=True, kw_only=True)
-class ReferenceImportRequest(_Acquisition):
-    """A non-enhanced spectrum of the analyte at a known concentration (Le Ru et al. 2007)."""
-
-    concentration_mol_L: float
-    effective_height_um: float
-    effective_area_um2: float
-    concentration_rel_u: float = 0.0
-    effective_height_rel_u: float = 0.0
-
-
-@dataclass(frozen=True, kw_only=True)
-class QcImportRequest(_Acquisition):
-    """A reference-analyte spectrum or map measured on a substrate, to be judged."""
-
-    substrate: Substrate
-    reference: ReferenceMeasurement | None = None
-    surface_density_per_nm2: float | None = None
-    surface_density_rel_u: float = 0.0
-    # The surface-area factor: derived from the substrate's deposition unless entered (with
-    # its source) or assumed to be 1 by explicit choice (enhancement.surface_area_for).
-    surface_area_factor: float | None = None
-    surface_area_rel_u: float = 0.0
-    surface_area_source: str = ""
-    surface_area_assumed_one: bool = False
-    film_height_rel_u: float = FILM_HEIGHT_REL_U_DEFAULT
-    # One file that really measured several substrates (else a reused file is refused).
-    shared_measurement: bool = False
-
-    def coverage(self, analyte: ReferenceAnalyte, substrate: Substrate) -> SurfaceCoverage:
-        """Surface coverage for the EF: the analyte's monolayer density unless given, and
-        the substrate's metal area per projected area."""
-        density = (analyte.surface_density_per_nm2 if self.surface_density_per_nm2 is None
-                   else self.surface_density_per_nm2)
-        area = surface_area_for(substrate, entered=self.surface_area_factor,
-                                entered_rel_u=self.surface_area_rel_u,
-                                source=self.surface_area_source,
-                                assumed_one=self.surface_area_assumed_one,
-                                film_height_rel_u=self.film_height_rel_u)
-        return SurfaceCoverage(surface_density_per_nm2=density, surface_area=area,
-                               surface_density_rel_u=self.surface_density_rel_u)
-
-
-def _acquisition_fields(request: _Acquisition) -> dict:
-    """The acquisition as stored on every measurement (the file kept exactly as uploaded)."""
-    return dict(
-        analyte_lot=request.analyte_lot, measured_on=request.measured_on,
-        raw_file=ContentFile(request.content, name=request.filename),
-        raw_filename=request.filename, raw_sha256=sha256_of(request.content),
-        laser_nm=request.laser_nm, power_mW=request.power_mW,
-        integration_s=request.integration_s, accumulations=request.accumulations,
-        objective=request.objective, notes=request.notes)
-
-
 # ---------------------------------------------------------------------------------------
 # Checks shared by both imports
 # ---------------------------------------------------------------------------------------
-
-
-def _resolve_analyte(lot: ReagentLot, analyte: ReferenceAnalyte | None) -> ReferenceAnalyte:
-    _require_kind(lot, [ReagentKind.REFERENCE_ANALYTE], field="analyte_lot")
-    known = list(lot.reference_analytes.all())
-    if analyte is None:
-        if len(known) != 1:
-            raise refusal("analyte_lot", f"{lot.code} is not linked to exactly one reference "
-                                         "analyte; say which analyte it holds.", "analyte_unknown")
-        return known[0]
-    if known and analyte not in known:
-        raise refusal("analyte", f"{lot.code} holds {', '.join(a.name for a in known)}, "
-                                 f"not {analyte.name}.", "analyte_mismatch")
-    return analyte
-
-
-def _check_acquisition(request: _Acquisition) -> ReferenceAnalyte:
-    """Check the lot, date and settings of an acquisition; the analyte it measured."""
-    analyte = _resolve_analyte(request.analyte_lot, request.analyte)
-    _require_not_future(request.measured_on, field="measured_on")
-    check_usable(request.analyte_lot, role="the reference analyte",
-                 on_date=request.measured_on, field="analyte_lot")
-    _require_positive(request, ("laser_nm", "power_mW", "integration_s"))
-    accumulations = request.accumulations
-    if int(accumulations) != accumulations or accumulations < 1:
-        raise refusal("accumulations", "Must be a whole number of at least 1.", "invalid_value")
-    return analyte
-
-
-def _require_positive(request, fields) -> None:
-    for field in fields:
-        value = getattr(request, field)
-        if value is None or not math.isfinite(value) or value <= 0:
-            raise refusal(field, f"Must be a positive number, got {value}.", "invalid_value")
 
 
 def _refuse_reimport(earlier, content: bytes) -> None:
@@ -213,8 +94,8 @@ def reference_measurement_import(*, actor: User | None,
     """
     request = request or ReferenceImportRequest(**parameters)
     require_role(actor, MAKER, action="Importing a reference measurement")
-    analyte = _check_acquisition(request)
-    _require_positive(request, ("concentration_mol_L", "effective_height_um",
+    analyte = check_acquisition(request)
+    require_positive_parameters(request, ("concentration_mol_L", "effective_height_um",
                                 "effective_area_um2"))
     data = read_upload(request.content, request.filename)
     _refuse_reimport(ReferenceMeasurement.objects.filter(analyte_lot=request.analyte_lot),
@@ -227,7 +108,7 @@ def reference_measurement_import(*, actor: User | None,
                    power_mW=request.power_mW, integration_s=request.integration_s,
                    accumulations=request.accumulations)
     reference = ReferenceMeasurement(
-        analyte=analyte, **_acquisition_fields(request), band_center_cm1=band_cm1,
+        analyte=analyte, **acquisition_fields(request), band_center_cm1=band_cm1,
         band_window_cm1=analyte.qc_band_window_cm1, **band.band_fields(),
         **results_fields(band.arrays, filename=request.filename),
         concentration_mol_L=request.concentration_mol_L,
@@ -284,7 +165,7 @@ def qc_import_check(*, actor: User | None, request: QcImportRequest) -> CheckedQ
     """Every check that needs no file: role, lot, dates, settings, reference, limits."""
     require_role(actor, MAKER, action="Importing a QC measurement")
     substrate = Substrate.objects.get(pk=request.substrate.pk)
-    analyte = _check_acquisition(request)
+    analyte = check_acquisition(request)
     _check_substrates_usable([substrate], role="a QC substrate", on_date=request.measured_on,
                              field="substrate", date_field="measured_on")
     _check_reference(request, analyte)
@@ -341,7 +222,7 @@ def qc_import_record(*, actor: User | None, request: QcImportRequest,
         reasons.append(f"The band fit is not a measurement: {band.band_limit_note}.")
     measurement = QcMeasurement(
         substrate=substrate, analyte=analyte, reference=request.reference, limit_set=limits,
-        product_kind=substrate.stage, **_acquisition_fields(request),
+        product_kind=substrate.stage, **acquisition_fields(request),
         band_center_cm1=analyte.qc_band_cm1, band_window_cm1=analyte.qc_band_window_cm1,
         is_map=is_map, **band.band_fields(), **band.map_fields(),
         **results_fields(band.arrays, filename=request.filename),
@@ -389,55 +270,3 @@ def qc_measurement_import(*, actor: User | None, request: QcImportRequest | None
         progress("judging")
     return qc_import_record(actor=actor, request=request, checked=checked, is_map=is_map,
                             band=band)
-
-
-# ---------------------------------------------------------------------------------------
-# Release
-# ---------------------------------------------------------------------------------------
-
-
-def substrate_release_check(record) -> str | None:
-    """Release rule for substrates (``SERSLEDGER_RELEASE_CHECKS``): QC passed, no open flag.
-
-    Refused when there is no QC at the substrate's current stage, the latest failed, or a
-    ``qc`` flag on it is still open (it must be resolved with a reason first).  Voided
-    measurements and flags do not count.  Returns the note for the status-change reason.
-    """
-    if not isinstance(record, Substrate):
-        return None
-    if QcImport.objects.filter(substrate=record, state__in=QcImport.PENDING).exists():
-        raise refusal("substrate", f"A QC file of {record.code} is still being analysed; "
-                                   "release it once that QC is judged.", "qc_pending")
-    latest = qc_measurement_get_latest(record, fields=("code", "passed", "failure_reasons"))
-    if latest is None:
-        raise refusal("substrate", f"{record.code} has no QC measurement at its current "
-                                   f"stage ({record.get_stage_display()}).", "qc_missing")
-    if latest.stale_reason:
-        raise refusal("substrate", f"The latest QC of {record.code} ({latest.code}) has stale "
-                                   f"figures: {latest.stale_reason}", "figures_stale")
-    if not latest.passed:
-        raise refusal("substrate", f"The latest QC of {record.code} ({latest.code}) failed: "
-                                   f"{' '.join(latest.failure_reasons)}", "qc_failed")
-    open_flags = list(flags_open(target_codes=[record.code], category=FLAG_CATEGORY)
-                      .values_list("code", flat=True))
-    if open_flags:
-        raise refusal("substrate", f"Resolve the open QC flag(s) {', '.join(open_flags)} on "
-                                   f"{record.code} first.", "open_flag")
-    return f"QC {latest.code} passed"
-
-
-@transaction.atomic
-def substrate_release(*, actor: User | None, substrate: Substrate,
-                      signature: SignatureIntent | None = None) -> Substrate:
-    """Release a substrate whose latest QC (at its current stage) passed.
-
-    With a ``signature`` this is ``inventory.services.record_release`` (which applies the
-    same QC rule through ``SERSLEDGER_RELEASE_CHECKS``); without one it is the unsigned
-    release the system and the demo loader use.
-    """
-    if signature is not None:
-        return record_release(actor=actor, record=substrate, signature=signature)
-    locked = Substrate.objects.select_for_update().get(pk=substrate.pk)
-    note = substrate_release_check(locked)
-    return record_transition(actor=actor, record=locked, to_status=Status.RELEASED,
-                             reason=note)

@@ -212,7 +212,7 @@ SERSLEDGER_AMEND_HOOKS = [
 ]
 
 SERSLEDGER_RELEASE_CHECKS = [
-    "qc.services.raman.substrate_release_check",
+    "qc.services.raman_release.substrate_release_check",
 ]
 
 # A maker may not release (sign off) a record they made; a one-person lab can allow it.
