@@ -4,20 +4,18 @@ Read serializers show every stored field, other records by their code and people
 username.  Write serializers only parse: each names the service it feeds, and its fields are
 that service's keyword arguments, so a service refusal keyed by ``made_on`` points at the
 request field ``made_on``.  No rule is checked here that a service also checks.
+
+The read side is in ``record_serializers``, the write base in ``service_serializer``, the
+serializers that act on a stored record (signatures, void, amend) in
+``signing_serializers``; all are named here.
 """
 
 from __future__ import annotations
 
-from dataclasses import dataclass
-from functools import cache
-
-from django.contrib.auth import get_user_model
-from django.db import models
 from rest_framework import serializers
 
 from inventory import services
 from inventory.models import (
-    CodedRecord,
     DepositionRun,
     NanoparticleBatch,
     ReagentKind,
@@ -29,144 +27,18 @@ from inventory.models import (
     Substrate,
     TemplateAssembly,
 )
-from inventory.models.ranges import Span
 from inventory.physics.chronoamperogram import CURRENT_UNITS_A, TIME_UNITS_S
-from inventory.signatures import REJECT_MEANINGS, RELEASE_MEANINGS, SignatureIntent
 
 from .fields import AnyRecordRef, FiniteFloat, LabDate, RecordRef, Upload, file_parts
-from .units import DocumentedFields, declare_range
+from .record_serializers import ReadPlan, RecordSerializer, read_plan, read_serializer
+from .service_serializer import NUMERIC_FIELDS, ServiceSerializer
+from .signing_serializers import Amend, RejectSign, ReleaseSign, Void
+from .units import integer_bounds
 
-# Files are reported by name and digest; the stored path is an implementation detail.
-_HIDDEN_FILE_FIELDS = (models.FileField,)
-
-
-def _slug_of(model) -> str | None:
-    """How a related record is named in the API: code, username, or a unique name."""
-    if issubclass(model, CodedRecord):
-        return "code"
-    if model is get_user_model():
-        return model.USERNAME_FIELD
-    name = next((f for f in model._meta.fields if f.name == "name" and f.unique), None)
-    return None if name is None else "name"
-
-
-class RecordSerializer(DocumentedFields, serializers.ModelSerializer):
-    """Read-only view of a stored record."""
-
-    def build_standard_field(self, field_name, model_field):
-        field_class, kwargs = super().build_standard_field(field_name, model_field)
-        # DRF drops allow_blank on read-only fields, but a computed choice may be blank.
-        if kwargs.get("read_only") and "choices" in kwargs and model_field.blank:
-            kwargs["allow_blank"] = True
-        return field_class, kwargs
-
-    def build_relational_field(self, field_name, relation_info):
-        slug = _slug_of(relation_info.related_model)
-        if slug is None:
-            return super().build_relational_field(field_name, relation_info)
-        kwargs = {"slug_field": slug, "read_only": True}
-        if relation_info.to_many:
-            kwargs["many"] = True
-        elif relation_info.model_field is not None and relation_info.model_field.null:
-            kwargs["allow_null"] = True
-        return serializers.SlugRelatedField, kwargs
-
-
-def read_serializer(model, *, exclude: tuple[str, ...] = (), name: str | None = None,
-                    **declared) -> type[RecordSerializer]:
-    """A read serializer of ``model``: every field except files, ids of coded records and
-    ``exclude``; ``declared`` adds fields (e.g. reverse relations)."""
-    hidden = [f.name for f in model._meta.fields if isinstance(f, _HIDDEN_FILE_FIELDS)]
-    if issubclass(model, CodedRecord):
-        hidden.append("id")
-    meta = type("Meta", (), {"model": model, "exclude": (*hidden, *exclude),
-                             "read_only_fields": ()})
-    return type(name or model.__name__, (RecordSerializer,), {"Meta": meta, **declared})
-
-
-@dataclass(frozen=True)
-class ReadPlan:
-    """How to fetch what a read serializer shows, in a fixed number of queries.
-
-    ``select``/``prefetch`` are the related paths; ``columns`` the ``.only()`` list when the
-    serializer names every related record by one field (its code or username), else None.
-    """
-
-    select: tuple[str, ...]
-    prefetch: tuple[str, ...]
-    columns: tuple[str, ...] | None
-
-
-@cache
-def read_plan(serializer_class) -> ReadPlan:
-    """The fetch plan of a read serializer, worked out once per class (building a
-    serializer's fields was a tenth of an API read's CPU)."""
-    serializer = serializer_class()
-    model = serializer_class.Meta.model
-    concrete = {f.name for f in model._meta.get_fields()}
-    select, prefetch, named_by = [], [], []
-    trimmable = True
-    for name, field in serializer.fields.items():
-        source = name if field.source == "*" else field.source
-        if isinstance(field, serializers.ManyRelatedField):
-            if source.split(".")[0] in concrete:
-                prefetch.append(source.replace(".", "__"))
-        elif isinstance(field, serializers.RelatedField):
-            if source.split(".")[0] not in concrete:
-                trimmable = False  # a property or method: it may read anything
-                continue
-            select.append(source.replace(".", "__"))
-            if isinstance(field, serializers.SlugRelatedField) and "." not in source:
-                named_by.append(f"{source}__{field.slug_field}")
-            else:
-                trimmable = False
-        elif isinstance(field, serializers.ListSerializer) and source in concrete:
-            prefetch.append(source)  # nested rows of a reverse relation (a dataset's files)
-            trimmable = False
-        elif "." in source or field.source == "*" or isinstance(
-                field, serializers.BaseSerializer | serializers.SerializerMethodField):
-            trimmable = False  # it may read anything of the record or its relations
-    own = [f.name for f in model._meta.concrete_fields
-           if f.name in serializer.fields and not f.is_relation]
-    columns = (model._meta.pk.name, *own, *named_by) if trimmable else None
-    return ReadPlan(tuple(select), tuple(prefetch), columns)
-
-
-# ---------------------------------------------------------------------------- write side
-
-
-NUMERIC_FIELDS = (serializers.IntegerField, serializers.FloatField, serializers.DecimalField)
-
-
-class ServiceSerializer(DocumentedFields, serializers.Serializer):
-    """Parses a request into a service's keyword arguments and calls that service.
-
-    ``ranges_model`` names the kind the service writes: its numeric fields that the kind's
-    range table (``inventory.models.ranges``) bounds are declared with those bounds in the
-    schema, so the API documents exactly what the database enforces (the service refuses
-    values outside them with a 400 naming the field).
-    """
-
-    service = None  # set by each subclass with staticmethod(...)
-    record_argument = ""  # the service's keyword for the record an action acts on
-    ranges_model: type[models.Model] | None = None
-
-    def get_fields(self):
-        fields = super().get_fields()
-        for name, field in fields.items():
-            span = getattr(self.ranges_model, "RANGES", {}).get(name)
-            if isinstance(span, Span) and isinstance(field, NUMERIC_FIELDS):
-                declare_range(field, span)
-        return fields
-
-    def arguments(self) -> dict:
-        return dict(self.validated_data)
-
-    def perform(self, *, actor, record=None):
-        arguments = self.arguments()
-        if record is not None:
-            arguments[self.record_argument] = record
-        return type(self).service(actor=actor, **arguments)
+__all__ = [
+    "NUMERIC_FIELDS", "Amend", "ReadPlan", "RecordSerializer", "RejectSign", "ReleaseSign",
+    "ServiceSerializer", "Void", "read_plan", "read_serializer",
+]
 
 
 class StorageLocationCreate(ServiceSerializer):
@@ -192,7 +64,8 @@ class ReagentLotReceive(ServiceSerializer):
     ghs_hazard_codes = serializers.CharField(max_length=200, required=False, allow_blank=True,
                                              help_text="GHS hazard statement codes, e.g. "
                                                        "'H300 H310'.")
-    quantity = serializers.DecimalField(max_digits=12, decimal_places=3, min_value=0,
+    quantity = serializers.DecimalField(max_digits=12, decimal_places=3,
+                                        min_value=ReagentLot.RANGES["quantity"].low,
                                         required=False, allow_null=True)
     quantity_unit = serializers.CharField(max_length=16, required=False, allow_blank=True,
                                           help_text="Unit of quantity, e.g. 'mL' or 'g'.")
@@ -248,7 +121,8 @@ class DepositionRunRecord(ServiceSerializer):
     service = staticmethod(services.deposition_run_record)
     bath_lot = RecordRef(ReagentLot, help_text="Code of the plating bath lot.")
     metal = serializers.CharField(max_length=4, help_text="Element symbol, e.g. 'Au'.")
-    electrons_per_atom = serializers.IntegerField(min_value=1, max_value=8)
+    electrons_per_atom = serializers.IntegerField(
+        **integer_bounds(DepositionRun.RANGES["electrons_per_atom"]))
     mode = serializers.ChoiceField(choices=DepositionRun.Mode.choices)
     electrode_area_cm2 = FiniteFloat()
     made_on = LabDate()
@@ -377,7 +251,8 @@ class ShelfLifeRuleSet(ServiceSerializer):
     ranges_model = ShelfLifeRule
     service = staticmethod(services.shelf_life_rule_set)
     record_kind = serializers.ChoiceField(choices=RecordKind.choices)
-    shelf_life_days = serializers.IntegerField(min_value=1, max_value=36500)
+    shelf_life_days = serializers.IntegerField(
+        **integer_bounds(ShelfLifeRule.RANGES["shelf_life_days"]))
     counted_from = serializers.ChoiceField(choices=ShelfLifeRule.CountedFrom.choices)
     reagent_kind = serializers.ChoiceField(choices=[("", "every kind"), *ReagentKind.choices],
                                            required=False, default="")
@@ -393,92 +268,3 @@ class DepositionToleranceSet(ServiceSerializer):
                                   help_text="Element symbol; blank for every metal.")
     is_example = serializers.BooleanField(required=False, default=False)
     rationale = serializers.CharField(required=False, allow_blank=True)
-
-
-# ------------------------------------------------------------------ signatures and void
-
-
-class _Signed(ServiceSerializer):
-    """An electronic signature: the signer's password, re-entered, and its meaning."""
-
-    record_argument = "record"
-    # Blank or wrong passwords are the signature service's to refuse, in its words.
-    password = serializers.CharField(write_only=True, allow_blank=True, trim_whitespace=False,
-                                     style={"input_type": "password"},
-                                     help_text="The signer's password, re-entered.")
-
-    def arguments(self) -> dict:
-        data = dict(self.validated_data)
-        data["signature"] = SignatureIntent(password=data.pop("password"),
-                                            meaning=data.pop("meaning"))
-        return data
-
-
-class ReleaseSign(_Signed):
-    service = staticmethod(services.record_release)
-    meaning = serializers.ChoiceField(choices=RELEASE_MEANINGS,
-                                      help_text="What the signature means.")
-
-
-class RejectSign(_Signed):
-    service = staticmethod(services.record_reject)
-    meaning = serializers.ChoiceField(choices=REJECT_MEANINGS, default=REJECT_MEANINGS[0],
-                                      help_text="What the signature means.")
-    reason = serializers.CharField(allow_blank=True, help_text="Why it is rejected.")
-
-
-class Void(ServiceSerializer):
-    service = staticmethod(services.record_void)
-    record_argument = "record"
-    reason = serializers.CharField(allow_blank=True, help_text="Why the record is void (made "
-                                                                "in error); it is kept.")
-
-
-class Amend(ServiceSerializer):
-    """A correction of typed fields, made against the version the editor saw."""
-
-    service = staticmethod(services.record_amend)
-    record_argument = "record"
-    changes = serializers.DictField(
-        child=serializers.JSONField(allow_null=True),
-        help_text="Field name → new value, in the units of the field's name; the storage "
-                  "location by its code.  Which fields may change depends on the record.")
-    reason = serializers.CharField(allow_blank=True, required=False, default="",
-                                   help_text="Why (required once a record has left "
-                                             "quarantine or was signed).")
-    expected_version = serializers.IntegerField(min_value=1, max_value=2**31 - 1,
-                                                help_text="The version the editor saw; a "
-                                                          "newer one refuses the change.")
-
-    def perform(self, *, actor, record=None):
-        arguments = self.arguments()
-        arguments["changes"] = _model_values(type(record), arguments["changes"])
-        return services.record_amend(actor=actor, record=record, **arguments)
-
-
-def _record_by_code(model, name: str, code):
-    try:
-        return RecordRef(model).run_validation(code)
-    except serializers.ValidationError as error:
-        raise serializers.ValidationError({name: error.detail}) from None
-
-
-def _model_values(model, changes: dict) -> dict:
-    """Request values as the model takes them: linked rows by code, dates as text.
-
-    Only JSON scalars are accepted; the model's own field cleaning does the rest (in the
-    service), so a bad value is refused by the same rule as everywhere else.
-    """
-    values = {}
-    for name, value in changes.items():
-        if isinstance(value, (dict, list)):
-            raise serializers.ValidationError({name: "Give a single value."})
-        field = next((f for f in model._meta.concrete_fields if f.name == name), None)
-        if field is not None and field.is_relation and value is not None \
-                and issubclass(field.related_model, CodedRecord):
-            values[name] = _record_by_code(field.related_model, name, value)
-        elif isinstance(field, (models.DateField, models.DateTimeField)) and value is not None:
-            values[name] = str(value)
-        else:
-            values[name] = value
-    return values

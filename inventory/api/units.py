@@ -10,6 +10,7 @@ field's description.
 from __future__ import annotations
 
 import functools
+import math
 
 from rest_framework import serializers
 
@@ -154,6 +155,17 @@ class DocumentedFields:
         for name, field in fields.items():
             _document(name, field)
         return fields
+
+
+def integer_bounds(span) -> dict[str, int]:
+    """``min_value``/``max_value`` of an integer field, taken from its ``ranges.Span``.
+
+    So a serializer refuses exactly what the range table (and the CHECK constraint made from
+    it) refuses, and the bounds are written once, in the table; an open low end
+    (``above``) starts at the next whole number.
+    """
+    low = math.floor(span.low) + 1 if span.above else math.ceil(span.low)
+    return {"min_value": low, "max_value": math.floor(span.high)}
 
 
 def declare_range(field: serializers.Field, span) -> None:

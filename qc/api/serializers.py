@@ -12,6 +12,7 @@ from rest_framework import serializers
 
 from inventory.api.fields import FiniteFloat, LabDate, NamedRef, RecordRef, Upload, file_parts
 from inventory.api.serializers import ServiceSerializer
+from inventory.api.units import integer_bounds
 from inventory.models import NanoparticleBatch, ReagentLot, Substrate
 from qc import services
 from qc.models import (
@@ -121,14 +122,14 @@ class QcLimitSetDefine(ServiceSerializer):
     analyte = _analyte(help_text="Name of the reference analyte.")
     band_position_tolerance_cm1 = FiniteFloat(help_text="Largest accepted distance of the "
                                                         "fitted band from the QC band.")
-    valid_days = serializers.IntegerField(min_value=1, max_value=3650,
+    valid_days = serializers.IntegerField(**integer_bounds(QcLimitSet.RANGES["valid_days"]),
                                           help_text="How long a passed QC stays current.")
     min_enhancement_factor = FiniteFloat(required=False, allow_null=True)
     max_rsd_percent = FiniteFloat(required=False, allow_null=True, help_text="Largest RSD "
                                   "of the band height over a map.")
     min_snr = FiniteFloat(required=False, allow_null=True)
     min_map_points = serializers.IntegerField(
-        min_value=2, max_value=1_000_000, default=25,
+        **integer_bounds(QcLimitSet.RANGES["min_map_points"]), default=25,
         help_text="Fewest map points that can show uniformity (a smaller map fails it).")
     is_example = serializers.BooleanField(default=False)
     rationale = serializers.CharField(required=False, allow_blank=True)
