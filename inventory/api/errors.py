@@ -11,9 +11,7 @@ path (``files.0``).
 from __future__ import annotations
 
 import re
-from functools import lru_cache
 
-from django.apps import apps
 from django.conf import settings
 from django.core.exceptions import (
     NON_FIELD_ERRORS,
@@ -23,7 +21,6 @@ from django.core.exceptions import (
 )
 from django.core.exceptions import ValidationError as DjangoValidationError
 from django.db import IntegrityError
-from django.db.models import CheckConstraint, F, Q
 from django.http import Http404, JsonResponse
 from django.views import defaults
 from rest_framework import exceptions, serializers
@@ -31,7 +28,7 @@ from rest_framework.views import exception_handler as drf_exception_handler
 
 from inventory.codes import RecordNotFound
 from inventory.errors import refusal_items
-from inventory.integrity import integrity_refusal
+from inventory.integrity import fields_of_constraint, integrity_refusal
 
 _WHOLE_REQUEST = {None, NON_FIELD_ERRORS, "non_field_errors"}
 
@@ -50,31 +47,10 @@ class RequestTooLarge(exceptions.APIException):
 _BROKEN_RULE = re.compile(r"^Constraint “(?P<name>[^”]+)” is violated\.$")
 
 
-def _fields_of(condition) -> list[str]:
-    """Field names a constraint's Q condition refers to, in order (``a__gt`` -> ``a``,
-    ``F("b")`` -> ``b``)."""
-    names: list[str] = []
-    for child in getattr(condition, "children", ()):
-        if isinstance(child, Q):
-            names += _fields_of(child)
-        elif isinstance(child, tuple) and len(child) == 2:
-            names.append(child[0].split("__")[0])
-            if isinstance(child[1], F):
-                names.append(child[1].name)
-    return list(dict.fromkeys(names))
-
-
-@lru_cache(maxsize=1)
-def _check_constraint_fields() -> dict[str, list[str]]:
-    return {constraint.name: _fields_of(constraint.condition)
-            for model in apps.get_models() for constraint in model._meta.constraints
-            if isinstance(constraint, CheckConstraint)}
-
-
 def _named_by_rule(field: str | None, message: str, code: str) -> tuple[str | None, str, str]:
     """(field, message, code) of one error; a broken database rule names its first field."""
     match = _BROKEN_RULE.match(message) if field in _WHOLE_REQUEST else None
-    fields = _check_constraint_fields().get(match["name"], []) if match else []
+    fields = fields_of_constraint(match["name"]) if match else []
     if not fields:
         return field, message, code
     return (fields[0], f"The value breaks the database rule “{match['name']}” on "
