@@ -15,8 +15,8 @@ from .base import KeyFigure, Verdict, figures, flag_words, stale_verdict, with_u
 # A film height worked out from the charge carries the project's default relative standard
 # uncertainty (current efficiency, electrode area and roughness together; the same value the
 # enhancement factor's surface-area factor uses).  The sphere diameter is taken as nominal.
-HEIGHT_U_NOTE = (f"±{100 * FILM_HEIGHT_REL_U_DEFAULT:g} % standard uncertainty: the project's "
-                 "default for a height from the charge, not measured")
+HEIGHT_U_NOTE = f"±{100 * FILM_HEIGHT_REL_U_DEFAULT:g} %: the default uncertainty of a height " \
+                "from charge"
 
 
 def _height_u(run) -> tuple[float | None, float | None]:

@@ -18,7 +18,7 @@ SHORT = {
     "status_quarantine": "it is in quarantine", "status_rejected": "it was rejected",
     "status_consumed": "it was used up", "status_disposed": "it was disposed of",
     "expired": "it has expired", "voided": "a record in its making was voided",
-    "open_flag": "an open flag", "qc_missing": "it has no QC", "qc_failed": "its QC failed",
+    "open_flag": "it has an open flag", "qc_missing": "it has no QC", "qc_failed": "its QC failed",
     "qc_stale": "its QC is too old", "qc_pending": "its QC is still being analysed",
     "figures_stale": "figures upstream are stale", "linker_layer_too_old":
     "its linker layer is too old", "colloid_not_released": "its colloid is not released",
@@ -76,11 +76,12 @@ def supporting_figures(substrate) -> list[KeyFigure]:
                               f"{qc.measured_on:%Y-%m-%d}: enhancement factor {ef}, "
                               f"uniformity RSD {rsd}", qc.code))
     run = substrate.deposition_run
-    if run is not None and run.film_height_nm is not None:
+    if run is not None:
         ratio = "" if run.height_over_diameter is None else \
             f", h/D {run.height_over_diameter:.3f}"
-        rows.append(KeyFigure("Film", f"{with_u(run.film_height_nm, None, 'nm')} high{ratio}",
-                              run.code))
+        rows.append(KeyFigure("Film", "height not known (no chronoamperogram)"
+                              if run.film_height_nm is None else
+                              f"{with_u(run.film_height_nm, None, 'nm')} high{ratio}", run.code))
     for batch in record_get_ancestors(substrate).of_kind(NanoparticleBatch):
         size = nanoparticle_batch_get_latest_size(batch)
         rows.append(KeyFigure("Colloid", "no UV-vis yet" if size is None or size.diameter_nm
