@@ -15,6 +15,7 @@ from django.apps import apps
 from django.db import models
 from django.db.models import Count, Q
 
+from bench.field_labels import FIELD_LABELS, FRACTION_LABELS, UNIT_OVERRIDES
 from inventory import selectors
 from inventory.flags import flags_open
 from inventory.models import LifecycleRecord, Status
@@ -69,9 +70,10 @@ def _stale(field, record) -> bool:
 
 # Labels a person reads, for fields whose own name is an abbreviation or a flag.
 HUMAN_LABELS = {"passed": "QC result", "snr": "signal-to-noise ratio",
-                "rsd_percent": "uniformity RSD", "ef": "enhancement factor"}
+                "rsd_percent": "uniformity RSD", "ef": "enhancement factor", **FIELD_LABELS}
 # Stored as a fraction (0–1) though the name ends in "_percent" ("within 20 percent").
-FRACTIONS_SHOWN_AS_PERCENT = {"fraction_within_20_percent": "points within ±20 % of the median"}
+FRACTIONS_SHOWN_AS_PERCENT = {"fraction_within_20_percent": "points within ±20 % of the median",
+                              **FRACTION_LABELS}
 
 
 @dataclass(frozen=True)
@@ -96,7 +98,8 @@ def field_rows(record) -> list[FieldRow]:
         if field.is_relation:
             related = getattr(record, field.name)
             code = getattr(related, "code", "")
-            rows.append(FieldRow(str(field.verbose_name), related, "", code))
+            rows.append(FieldRow(HUMAN_LABELS.get(field.name, str(field.verbose_name)), related,
+                                 "", code))
             continue
         if field.name in FRACTIONS_SHOWN_AS_PERCENT:
             fraction = getattr(record, field.name)
@@ -108,7 +111,13 @@ def field_rows(record) -> list[FieldRow]:
             rows.append(FieldRow(HUMAN_LABELS["passed"],
                                  "passed" if record.passed else "failed", ""))
             continue
+        if isinstance(field, models.BooleanField):  # words, never "True"/"False"
+            flag = getattr(record, field.name)
+            rows.append(FieldRow(HUMAN_LABELS.get(field.name, str(field.verbose_name)),
+                                 None if flag is None else "yes" if flag else "no", ""))
+            continue
         unit, bare_name = unit_of(field.name)
+        unit = UNIT_OVERRIDES.get(field.name, unit)
         label = HUMAN_LABELS.get(field.name, str(field.verbose_name))
         if unit and label == field.name.replace("_", " "):  # not named by hand: drop the unit
             label = bare_name.replace("_", " ")

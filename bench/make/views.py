@@ -14,6 +14,7 @@ from inventory.ghs import STATEMENTS
 from inventory.roles import MAKER, require_role, roles_of, user_has_role
 from qc.models import QcImport
 
+from ..verdicts import MAKE_RESULT_VERDICTS
 from .results import RESULTS
 from .steps import GROUPS, SDS, STEP_BY_SLUG, STEPS
 
@@ -67,4 +68,6 @@ def result(request, code: str):
     build = RESULTS.get(type(record))
     if build is None:
         return redirect("record", record.code)
-    return render(request, "make/result.html", {"record": record, "result": build(record)})
+    verdict = MAKE_RESULT_VERDICTS.get(type(record))
+    return render(request, "make/result.html", {
+        "record": record, "result": build(record), "verdict": verdict and verdict(record)})

@@ -8,7 +8,14 @@ from django.shortcuts import render
 from django.urls import reverse
 
 from bench import labels, page_queries
-from bench.verdicts import qc_verdict
+from bench.field_labels import UVVIS_BREACH_WORDS
+from bench.verdicts import (
+    batch_verdict,
+    deposition_verdict,
+    qc_verdict,
+    readiness_verdict,
+    uvvis_verdict,
+)
 from inventory import ghs
 from inventory.codes import RecordNotFound, record_get
 from inventory.models import (
@@ -27,7 +34,7 @@ from inventory.selectors import (
 from qc.models import QcMeasurement, ReferenceMeasurement, UvVisRecord
 from qc.selectors import nanoparticle_batch_get_uvvis_series
 
-from ..make.results import qc_figures, uvvis_figures
+from ..make.results import qc_figures
 from ._common import code_from_scan, record_or_404
 
 MAX_LABELS = 60  # one printed sheet; more is a mistake in the list of codes
@@ -39,9 +46,13 @@ def readiness_check(request):
     context = {"code": code, "result": None, "error": None}
     if code:
         try:
-            context["result"] = substrate_check_readiness(code)
+            result = substrate_check_readiness(code)
         except (RecordNotFound, ValueError) as error:
             context["error"] = str(error)
+        else:
+            substrate = Substrate.objects.select_related("deposition_run").get(
+                code=result.substrate_code)
+            context.update(result=result, verdict=readiness_verdict(result, substrate))
     return render(request, "inventory/readiness.html", context)
 
 
@@ -63,16 +74,21 @@ def _qc_panel(record) -> dict:
                                         .order_by("-measured_on", "-id")[:20])}
     if isinstance(record, QcMeasurement):
         return {"laser_caution": True, "raman_plot": True, "figures": qc_figures(record),
-                "qc_verdict": qc_verdict(record), "heatmap": record.has_heatmap}
+                "verdict": qc_verdict(record), "heatmap": record.has_heatmap}
     if isinstance(record, ReferenceMeasurement):
         return {"laser_caution": True, "raman_plot": True}
     if isinstance(record, NanoparticleBatch):
         series = nanoparticle_batch_get_uvvis_series(record)
-        return {"uvvis_series": series, "uvvis_plot": bool(series)}
-    if isinstance(record, UvVisRecord):
-        return {"uvvis_plot": True, "figures": uvvis_figures(record)}
+        latest = UvVisRecord.objects.get(code=series[-1].code) if series else None
+        rows = [(point, ", ".join(UVVIS_BREACH_WORDS.get(limit, limit)
+                                  for limit in point.breaches)) for point in series]
+        return {"uvvis_series": rows, "uvvis_plot": bool(series),
+                "verdict": batch_verdict(record, latest)}
+    if isinstance(record, UvVisRecord):  # its figures lead, in the verdict
+        return {"uvvis_plot": True, "verdict": uvvis_verdict(record)}
     if isinstance(record, DepositionRun):
-        return {"deposition_plot": bool(record.chronoamperogram_sha256)}
+        return {"deposition_plot": bool(record.chronoamperogram_sha256),
+                "verdict": deposition_verdict(record)}
     return {}
 
 

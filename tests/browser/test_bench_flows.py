@@ -71,7 +71,7 @@ def test_log_a_three_piece_deposition_run_and_see_the_film_height(page, sign_in,
     # generate.py scaled this trace to h/D = 0.50 for 600 nm spheres: h = 300 nm.
     assert abs(float(re.search(r"([\d.]+) nm", height).group(1)) - 300) < 6
     assert abs(float(ratio.split()[-1]) - 0.50) < 0.01
-    assert page.locator("#verdict").inner_text() == "ON TARGET"
+    assert page.locator("#verdict").inner_text().startswith("ON TARGET")
     screenshot("make-deposition-result")
 
 

@@ -20,7 +20,10 @@ PHONE = {"width": 390, "height": 844}
 
 
 def main_pages(lab) -> dict[str, str]:
+    from qc.models import UvVisRecord
+
     good = lab.good.code
+    uvvis = UvVisRecord.objects.filter(batch=lab.batch).order_by("measured_on").last()
     return {
         "dashboard": "/", "make": "/make/", "stock": "/stock/", "review": "/review/",
         "check-ready": f"/check/?code={good}", "record-substrate": f"/r/{good}/",
@@ -31,6 +34,10 @@ def main_pages(lab) -> dict[str, str]:
         "audit-report": f"/trace/{lab.dataset.code}/report/",
         "make-qc-form": "/make/qc/", "make-deposition-form": "/make/deposition/",
         "label": f"/r/{good}/label/",
+        # The verdict-first result pages (issue 18), after a step and on their records.
+        "record-uvvis": f"/r/{uvvis.code}/", "check-not-ready": f"/check/?code={lab.failed.code}",
+        "make-result-deposition": f"/make/done/{lab.run.code}/",
+        "make-result-uvvis": f"/make/done/{uvvis.code}/",
     }
 
 
@@ -40,7 +47,7 @@ def lab(chain, viewer, maker, reviewer, administrator):
                              "administrator": administrator})
 
 
-def _signed_in_tab(browser, live_server, viewport, user, role):
+def signed_in_tab(browser, live_server, viewport, user, role):
     context = browser.new_context(viewport=viewport, base_url=live_server.url)
     tab = context.new_page()
     tab.set_default_timeout(20_000)
@@ -52,20 +59,25 @@ def _signed_in_tab(browser, live_server, viewport, user, role):
     return context, tab
 
 
-def test_main_pages_fit_a_phone_and_are_photographed_at_both_widths(browser, live_server, lab):
+def photograph_and_measure(tab, name: str, viewport: dict, too_wide: dict) -> None:
+    """Save the open page as ``name-<width>.png``; at phone width note it if it is too wide."""
     SCREENSHOTS.mkdir(parents=True, exist_ok=True)
-    too_wide = {}
-    for width_name, viewport in (("1280", DESK), ("390", PHONE)):
-        context, tab = _signed_in_tab(browser, live_server, viewport, lab.users["maker"],
-                                      "maker")
+    tab.screenshot(path=str(SCREENSHOTS / f"{name}-{viewport['width']}.png"), full_page=True)
+    if viewport is PHONE:
+        scroll, inner = tab.evaluate(
+            "() => [document.documentElement.scrollWidth, window.innerWidth]")
+        if scroll > inner:
+            too_wide[name] = scroll
+
+
+def test_main_pages_fit_a_phone_and_are_photographed_at_both_widths(browser, live_server, lab):
+    too_wide: dict[str, int] = {}
+    for viewport in (DESK, PHONE):
+        context, tab = signed_in_tab(browser, live_server, viewport, lab.users["maker"],
+                                     "maker")
         for name, url in main_pages(lab).items():
             tab.goto(url)
             tab.locator("main").wait_for()
-            tab.screenshot(path=str(SCREENSHOTS / f"{name}-{width_name}.png"), full_page=True)
-            if viewport is PHONE:
-                scroll, inner = tab.evaluate(
-                    "() => [document.documentElement.scrollWidth, window.innerWidth]")
-                if scroll > inner:
-                    too_wide[name] = scroll
+            photograph_and_measure(tab, name, viewport, too_wide)
         context.close()
     assert not too_wide, f"pages wider than the 390 px phone (scrollWidth): {too_wide}"

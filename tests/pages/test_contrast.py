@@ -20,7 +20,8 @@ AA_BODY_TEXT = 4.5  # WCAG 2.1 SC 1.4.3, normal-size text
 PAIRS = [
     ("--ink", "--paper"), ("--ink", "--sheet"), ("--muted", "--paper"), ("--muted", "--sheet"),
     ("--teal-dark", "--paper"), ("--teal-dark", "--sheet"), ("#fff", "--teal"),
-    ("#fff", "--teal-dark"), ("#fff", "--go"), ("#fff", "--stop"), ("--amber", "--sheet"),
+    ("#fff", "--teal-dark"), ("#fff", "--go"), ("#fff", "--stop"), ("#fff", "--muted"),
+    ("--amber", "--sheet"),
     ("--ink", "--amber-bg"), ("--ink", "--info-bg"), ("--go", "--sheet"), ("--stop", "--sheet"),
     ("--muted", "#eef0ea"),
 ]

@@ -6,25 +6,7 @@ limits as they were when the measurement was judged); the judging itself lives i
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
-
-
-@dataclass(frozen=True)
-class Verdict:
-    passed: bool
-    headline: str  # "PASS" / "FAIL"
-    sentence: str
-    next_step: str
-    figures: list[tuple[str, str]] = field(default_factory=list)
-
-
-SUPERSCRIPT = str.maketrans("-0123456789", "⁻⁰¹²³⁴⁵⁶⁷⁸⁹")
-
-
-def _sci(value: float) -> str:
-    """3.00 × 10⁶: scientific notation as printed, not as typed."""
-    mantissa, exponent = f"{value:.2e}".split("e")
-    return f"{mantissa} × 10{str(int(exponent)).translate(SUPERSCRIPT)}"
+from .base import Verdict, figures, sci
 
 
 def _comparisons(m, limits: dict) -> list[tuple[bool, str]]:
@@ -32,8 +14,8 @@ def _comparisons(m, limits: dict) -> list[tuple[bool, str]]:
     out = []
     floor, ef = limits.get("min_enhancement_factor"), m.enhancement_factor
     if floor and ef is not None:
-        out.append((ef >= floor, f"enhancement factor {_sci(ef)} is {ef / floor:.2g}× the "
-                                 f"floor of {_sci(floor)}"))
+        out.append((ef >= floor, f"enhancement factor {sci(ef)} is {ef / floor:.2g}× the "
+                                 f"floor of {sci(floor)}"))
     ceiling, rsd = limits.get("max_rsd_percent"), m.rsd_percent
     if ceiling is not None and rsd is not None:
         side = "under" if rsd <= ceiling else "over"
@@ -64,14 +46,14 @@ def qc_verdict(m) -> Verdict:
                      "new map) or reject the piece with a signature.")
     if limits.get("is_example"):
         next_step += " The limits used are the lab's defaults, still to be reviewed."
-    ef = "—" if m.enhancement_factor is None else _sci(m.enhancement_factor) + (
-        f" ± {_sci(m.enhancement_factor_u)}" if m.enhancement_factor_u else "")
+    ef = "—" if m.enhancement_factor is None else sci(m.enhancement_factor) + (
+        f" ± {sci(m.enhancement_factor_u)}" if m.enhancement_factor_u else "")
     stale = getattr(m, "stale_reason", "")
     if stale:  # the verdict rests on an EF whose inputs changed: not presented as current
         sentence = f"{substrate}'s QC result is not current: stale: {stale}"
         next_step = "Next: import the map again so the EF is worked out from the current film."
         ef = f"stale (last worked out as {ef})"
-    figures = [
+    rows = [
         ("Enhancement factor (SSEF; Le Ru et al., J. Phys. Chem. C 2007)", ef),
         ("Uniformity RSD", "—" if m.rsd_percent is None else f"{m.rsd_percent:.1f} %"),
         ("Signal-to-noise", "—" if m.snr is None else f"{m.snr:.0f}"),
@@ -81,4 +63,4 @@ def qc_verdict(m) -> Verdict:
         ("Points measured", f"{m.n_points}"),
     ]
     headline = "STALE" if stale else "PASS" if m.passed else "FAIL"
-    return Verdict(bool(m.passed) and not stale, headline, sentence, next_step, figures)
+    return Verdict(bool(m.passed) and not stale, headline, sentence, next_step, figures(rows))
