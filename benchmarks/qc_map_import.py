@@ -1,6 +1,6 @@
 """Benchmark: a big QC map from upload to judged result, and its plot (issue 22's table).
 
-For invented maps of 400 (20 × 20), 10,000 (100 × 100) and optionally 40,000 (200 × 200)
+For invented maps of 400 (20 × 20), 10,000 (100 × 100) and 40,000 (200 × 200)
 points × 1,024 shifts, written as wide CSV with two decimals (about 5 MB per 1,000 points),
 measured in one run on the demo laboratory (own SQLite database in benchmarks/out/):
 
@@ -8,12 +8,15 @@ measured in one run on the demo laboratory (own SQLite database in benchmarks/ou
   every check, the file stored, the task queued) until the 202;
 * time to result: the upload plus the worker's run (``qc_import_run``: read, analyse, judge,
   store), the worker started beforehand as in a lab (its start-up is not counted);
-* peak memory: the worker process's peak resident set (``ru_maxrss``) above its resident set
-  after start-up, and the traced Python/numpy peak, next to the map's float64 array;
+* peak memory: the worker process's peak resident set (VmHWM, and ``ru_maxrss``), whole and
+  above its resident set after start-up, and the traced Python/numpy peak (tracemalloc),
+  next to the map's float64 array; the parse and analysis stages timed apart;
 * plot: the Raman plot of the stored map (first request renders it, then the server's cache,
   then a browser revalidating with its ETag) against the API detail of the same measurement.
 
-Also the memory-bandwidth floor: five passes (reads) over a 10,000 × 1,024 float64 array.
+Also, in the same run, the map pipeline against the per-spectrum pybaselines loop
+(``qc_map_pipeline.py --rounds 2``) and the memory-bandwidth floor: five passes (reads) over a
+10,000 × 1,024 float64 array.
 ``python benchmarks/qc_map_import.py [--sizes 400 10000 40000]``; results in
 benchmarks/out/qc_map_import.json.
 """
@@ -23,6 +26,7 @@ from __future__ import annotations
 import argparse
 import json
 import os
+import resource
 import statistics
 import subprocess
 import sys
@@ -89,19 +93,34 @@ def work(pending_id: str) -> None:
     django.setup()
     from benchmarks.qc_map_pipeline import SETTINGS, synthetic_map
     from qc.analysis.qc_pipeline import analyse_qc_map
+    from qc.analysis.readers import read_spectrum_or_map
+    from qc.services import background
     from qc.services.background import qc_import_run
 
-    # A running worker has its compiled kernels loaded: warm them on a small map first.
+    # A running worker has its compiled kernels and the CSV reader loaded: warm them first.
     analyse_qc_map(*synthetic_map(4, 4, 1024), **SETTINGS)
+    read_spectrum_or_map(_map_file(400).read_bytes(), "map_400.csv")
     baseline_kib = _status_kib("VmRSS")
+    reported = background._report
+    stages: dict[str, float] = {}
+
+    def timed_report(pending, worker, state):  # when each stage begins
+        stages[state] = time.perf_counter()
+        reported(pending, worker, state)
+
+    background._report = timed_report
     tracemalloc.start()
     start = time.perf_counter()
     code = qc_import_run(pending_id)
     seconds = time.perf_counter() - start
     traced = tracemalloc.get_traced_memory()[1]
-    peak_kib = _status_kib("VmHWM")  # high-water mark; the warm-up map is far smaller
+    peak_kib = _status_kib("VmHWM")  # high-water mark; the warm-up maps are far smaller
+    usage = resource.getrusage(resource.RUSAGE_SELF)
     print(json.dumps({"code": code, "seconds": seconds, "baseline_mib": baseline_kib / 1024,
-                      "peak_mib": peak_kib / 1024, "traced_mib": traced / 2 ** 20}))
+                      "peak_mib": peak_kib / 1024, "traced_mib": traced / 2 ** 20,
+                      "maxrss_mib": usage.ru_maxrss / 1024,
+                      "parse_s": stages["analysing"] - stages["parsing"],
+                      "analyse_s": stages["judging"] - stages["analysing"]}))
 
 
 def _median_ms(call, repeat: int = 7) -> float:
@@ -167,6 +186,7 @@ def measure(sizes: list[int]) -> dict:
         rows.append({
             "points": points, "file_mb": path.stat().st_size / 1e6, "upload_s": upload_s,
             "worker_s": done["seconds"], "result_s": upload_s + done["seconds"],
+            "parse_s": done["parse_s"], "analyse_s": done["analyse_s"],
             "peak_above_start_mib": done["peak_mib"] - done["baseline_mib"],
             "worker_peak_rss_mib": done["peak_mib"], "traced_mib": done["traced_mib"],
             "array_float64_mib": array_mib, "api_detail_ms": detail_ms,
@@ -174,23 +194,32 @@ def measure(sizes: list[int]) -> dict:
             "plot_304_ms": plot_304_ms, "passed": measurement.passed,
             "rsd_percent": measurement.rsd_percent})
         print(json.dumps(rows[-1]), flush=True)
+    load_before = Path("/proc/loadavg").read_text().split()[:3]
+    pipeline = subprocess.run([sys.executable, str(ROOT / "benchmarks" / "qc_map_pipeline.py"),
+                               "--rounds", "2"], capture_output=True, text=True, check=True)
+    print(pipeline.stdout, flush=True)
     return {"rows": rows, "memory_floor_5_passes_s": _memory_floor_s(),
             "loadavg": Path("/proc/loadavg").read_text().split()[:3],
+            "loadavg_before_pipeline": load_before, "pipeline_vs_loop": pipeline.stdout,
             "when": time.strftime("%Y-%m-%d %H:%M UTC", time.gmtime()),
             "max_upload_mb": 500}
 
 
 def report(result: dict) -> str:
-    lines = ["| map | file | upload response | time to result (worker) | worker peak above start "
-             "(traced) / float64 array | API detail | plot: first / cached / 304 |",
-             "|---|---|---|---|---|---|---|"]
+    lines = ["| map | file | upload response | time to result (worker) | parse / analysis | "
+             "worker peak: whole process, above start (traced) / float64 array | API detail | "
+             "plot: first / cached / 304 |",
+             "|---|---|---|---|---|---|---|---|"]
     for r in result["rows"]:
         lines.append(
             f"| {r['points']:,} points | {r['file_mb']:.0f} MB | {r['upload_s']:.2f} s | "
-            f"{r['result_s']:.2f} s ({r['worker_s']:.2f} s) | {r['peak_above_start_mib']:.0f} "
-            f"MiB ({r['traced_mib']:.0f}) / {r['array_float64_mib']:.0f} MiB | "
+            f"{r['result_s']:.2f} s ({r['worker_s']:.2f} s) | {r['parse_s']:.2f} / "
+            f"{r['analyse_s']:.2f} s | {r['worker_peak_rss_mib']:.0f} MiB, "
+            f"{r['peak_above_start_mib']:.0f} MiB ({r['traced_mib']:.0f}) / "
+            f"{r['array_float64_mib']:.0f} MiB | "
             f"{r['api_detail_ms']:.1f} ms | {r['plot_first_ms']:.0f} / "
             f"{r['plot_cached_ms']:.1f} / {r['plot_304_ms']:.1f} ms |")
+    lines.append("\n" + result["pipeline_vs_loop"])
     lines.append(f"\nMemory-bandwidth floor (five passes over 10,000 × 1,024 float64): "
                  f"{result['memory_floor_5_passes_s'] * 1000:.0f} ms; load "
                  f"{' '.join(result['loadavg'])} at {result['when']}.")
@@ -199,8 +228,8 @@ def report(result: dict) -> str:
 
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    parser.add_argument("--sizes", type=int, nargs="+", default=[400, 10_000],
-                        choices=sorted(GRID), help="map sizes in points (40000 is optional)")
+    parser.add_argument("--sizes", type=int, nargs="+", default=[400, 10_000, 40_000],
+                        choices=sorted(GRID), help="map sizes in points")
     parser.add_argument("--work", help=argparse.SUPPRESS)
     arguments = parser.parse_args()
     if arguments.work:

@@ -8,14 +8,29 @@ reference spectrum, and helpers to measure or upload the invented maps of fixtur
 from __future__ import annotations
 
 from pathlib import Path
+from unittest import mock
 
 from django.core.files.uploadedfile import SimpleUploadedFile
+from django.core.management import call_command
 
 FIXTURES = Path(__file__).resolve().parents[1] / "fixtures"
 RAMAN = FIXTURES / "raman"
 
 # fixtures/raman/generate.py: "Acquisition settings assumed".
 MAP_SETTINGS = {"laser_nm": 785.0, "power_mW": 2.0, "integration_s": 1.0, "accumulations": 1}
+
+
+def run_db_worker() -> None:
+    """Run the task database backend's real worker in this process until the queue is empty.
+
+    The worker calls ``close_old_connections`` between tasks, which closes a connection that
+    is inside a transaction; under a test that is the test's own transaction (on PostgreSQL
+    the connection really closes; SQLite's in-memory database ignores it).  A worker process
+    holds no transaction there, so here, and only here, that call is left out.
+    """
+    with mock.patch("django_tasks_db.management.commands.db_worker.close_old_connections"):
+        call_command("db_worker", "--batch", "--no-startup-delay", "--interval", "0",
+                     verbosity=0)
 
 
 class QcLab:

@@ -13,8 +13,6 @@ MAX_LINES = 400
 # Being reworked on other branches of issue 19 when this check was added; each leaves this
 # list when its split lands.  Nothing else may pass the limit.
 BEING_SPLIT = {
-    "qc/analysis/readers.py",
-    "qc/analysis/baseline.py",
     "exchange/kinds.py",
     "exchange/importer.py",
 }

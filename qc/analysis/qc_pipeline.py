@@ -117,6 +117,9 @@ class MapQcResult:
 PERCENTILE_SAMPLE = 1000  # points; percentiles of a sample this size move by < 1 % of a band
 SAMPLE_BASELINES = 12  # points whose baselines are kept for display
 PERCENTILES = (5.0, 25.0, 50.0, 75.0, 95.0)
+# Points analysed at once: each float64 work array of a 1,024-shift block is 8 MiB, so the
+# whole map is held only as float32 (as read, and processed); spectra are independent.
+MAP_BLOCK_POINTS = 1024
 
 
 def _evenly_spaced(n_points: int, count: int) -> np.ndarray:
@@ -237,11 +240,12 @@ def analyse_qc_map(
 ) -> MapQcResult:
     """Vectorised QC of a whole map: spikes, baseline, band metrics per point, uniformity.
 
-    Steps, each on the whole (n_points, n_shift) array at once: spike removal (Whitaker &
-    Hayes 2018), batched P-spline ASLS baselines (:func:`~qc.analysis.baseline.
-    asls_baseline_map`), normalisation to counts/(mW·s), direct band height/area per point
-    (:func:`~qc.analysis.band_maps.band_metrics_map`), RSD and share within ±tolerance of the
-    median (:func:`~qc.analysis.uniformity.map_uniformity`).
+    Steps: on blocks of ``MAP_BLOCK_POINTS`` spectra (in float64; only the map as given and
+    the processed map, in float32, are held whole) spike removal (Whitaker & Hayes 2018),
+    batched P-spline ASLS baselines (:func:`~qc.analysis.baseline.asls_baseline_map`) and
+    normalisation to counts/(mW·s); then the mean-spectrum band fit, the fitted band
+    height/area per point (:func:`~qc.analysis.band_maps.band_heights_map`), RSD and share
+    within ±tolerance of the median (:func:`~qc.analysis.uniformity.map_uniformity`).
 
     Parameters
     ----------
@@ -260,20 +264,20 @@ def analyse_qc_map(
     -------
     MapQcResult
     """
-    spectra = np.asarray(counts_2d, dtype=float)
-    if spectra.ndim != 2 or spectra.shape[0] < 2:
+    spectra = np.asarray(counts_2d)
+    if spectra.ndim != 2 or spectra.shape[0] < 2 or spectra.dtype.kind not in "fiu":
         raise AnalysisInputError(
-            f"expected (n_points ≥ 2, n_shift), got shape {spectra.shape}", field="counts_2d"
+            f"expected numbers of shape (n_points ≥ 2, n_shift), got shape {spectra.shape}",
+            field="counts_2d",
         )
-    axis, spectra = _ascending(shift_cm1, spectra)
+    axis = as_strictly_monotonic_axis(shift_cm1, field="shift_cm1", min_points=7)
+    descending = bool(axis[0] > axis[-1])
+    axis = axis[::-1].copy() if descending else axis
     if spectra.shape[1] != axis.size:
         raise AnalysisInputError(
             f"has {spectra.shape[1]} shifts per point but shift_cm1 has {axis.size}",
             field="counts_2d",
         )
-    if not all_finite(spectra):
-        row = int(np.flatnonzero(~np.isfinite(spectra).all(axis=1))[0])
-        raise AnalysisInputError(f"point {row} holds NaN or infinity", field="counts_2d")
     check_band_window(axis, band_center_cm1, band_window_cm1)
     scale = normalised_intensity(
         1.0,
@@ -282,20 +286,36 @@ def analyse_qc_map(
         accumulations=accumulations,
         accumulations_summed=accumulations_summed,
     )
-    despiked = remove_spikes(spectra, threshold=spike_threshold)
-    processed = despiked.cleaned
-    baseline, diagnostics = asls_baseline_map(
-        axis, processed, lam=lam_for_spacing(axis, baseline_stiffness_cm4), p=baseline_p
-    )
-    sample_index = _evenly_spaced(processed.shape[0], SAMPLE_BASELINES)
-    sample_spectra = processed[sample_index] * scale
-    sample_baselines = baseline[sample_index] * scale
-    processed -= baseline  # in place: the cleaned copy is ours
-    processed *= scale
-    del baseline
+    n_points = spectra.shape[0]
+    sample_index = _evenly_spaced(n_points, SAMPLE_BASELINES)
+    processed = np.empty(spectra.shape, dtype=np.float32)
+    spikes_per_point = np.empty(n_points, dtype=np.int64)
+    sample_spectra = np.empty((sample_index.size, axis.size))
+    sample_baselines = np.empty_like(sample_spectra)
+    converged = True
+    lam = lam_for_spacing(axis, baseline_stiffness_cm4)
+    for first in range(0, n_points, MAP_BLOCK_POINTS):
+        rows = slice(first, min(first + MAP_BLOCK_POINTS, n_points))
+        block = np.array(spectra[rows, ::-1] if descending else spectra[rows], dtype=np.float64)
+        if not all_finite(block):
+            row = first + int(np.flatnonzero(~np.isfinite(block).all(axis=1))[0])
+            raise AnalysisInputError(f"point {row} holds NaN or infinity", field="counts_2d")
+        despiked = remove_spikes(block, threshold=spike_threshold)
+        del block
+        cleaned = despiked.cleaned
+        baseline, diagnostics = asls_baseline_map(axis, cleaned, lam=lam, p=baseline_p)
+        converged = converged and bool(diagnostics["converged"].all())
+        kept = (sample_index >= rows.start) & (sample_index < rows.stop)
+        sample_spectra[kept] = cleaned[sample_index[kept] - first] * scale
+        sample_baselines[kept] = baseline[sample_index[kept] - first] * scale
+        cleaned -= baseline  # in place: the cleaned copy is ours
+        cleaned *= scale
+        processed[rows] = cleaned  # float32: 7 digits, far below the counts' noise
+        spikes_per_point[rows] = despiked.replaced_per_spectrum
+        del despiked, cleaned, baseline
     percentile_spectra = np.percentile(
-        processed[_evenly_spaced(processed.shape[0], PERCENTILE_SAMPLE)], PERCENTILES, axis=0)
-    mean_spectrum = processed.mean(axis=0)
+        processed[_evenly_spaced(n_points, PERCENTILE_SAMPLE)], PERCENTILES, axis=0)
+    mean_spectrum = processed.mean(axis=0, dtype=np.float64)
     mean_band = fit_band(
         axis,
         mean_spectrum,
@@ -303,9 +323,14 @@ def analyse_qc_map(
         band_window_cm1=band_window_cm1,
         profile=profile,
     )
-    heights, areas = band_heights_map(axis, processed, band=mean_band)
+    # The band functions read only the window; hand them its columns (and one beyond each
+    # side, so the window still lies inside the axis) instead of a float64 copy of the map.
+    inside = np.flatnonzero(check_band_window(axis, band_center_cm1, band_window_cm1))
+    near = slice(max(inside[0] - 1, 0), min(inside[-1] + 2, axis.size))
+    heights, areas = band_heights_map(axis[near], processed[:, near], band=mean_band)
     positions = band_metrics_map(
-        axis, processed, band_center_cm1=band_center_cm1, band_window_cm1=band_window_cm1
+        axis[near], processed[:, near], band_center_cm1=band_center_cm1,
+        band_window_cm1=band_window_cm1,
     ).position_cm1
     uniformity = map_uniformity(
         heights, grid_shape=grid_shape, tolerance_fraction=tolerance_fraction
@@ -314,7 +339,7 @@ def analyse_qc_map(
         areas, grid_shape=grid_shape, tolerance_fraction=tolerance_fraction
     )
     return MapQcResult(
-        n_points=int(spectra.shape[0]),
+        n_points=int(n_points),
         height_per_point=heights,
         area_per_point=areas,
         position_per_point_cm1=positions,
@@ -323,13 +348,13 @@ def analyse_qc_map(
         median_height_counts_per_mW_s=uniformity.median,
         rsd_percent=uniformity.rsd_percent,
         fraction_within_tolerance=uniformity.fraction_within_tolerance,
-        spikes_removed=despiked.replaced_count,
-        spikes_per_point=despiked.replaced_per_spectrum,
+        spikes_removed=int(spikes_per_point.sum()),
+        spikes_per_point=spikes_per_point,
         mean_band=mean_band,
         snr=mean_band.snr,
         shift_cm1=axis,
         mean_spectrum=mean_spectrum,
-        baseline_converged=bool(diagnostics["converged"].all()),
+        baseline_converged=converged,
         percentile_q=np.array(PERCENTILES),
         percentile_spectra=percentile_spectra,
         sample_index=sample_index,

@@ -13,11 +13,17 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from ._validation import as_finite_1d
+from ._validation import all_finite, as_finite_1d
 from .errors import AnalysisInputError
 
 
 def _frozen_copy(array: np.ndarray, dtype=float) -> np.ndarray:
+    """A read-only copy; an array that is already read-only, owns its data and has the dtype
+    (a reader's own, handed over) is kept as it is: nobody can change it, and a big map is
+    not held twice."""
+    if (array.dtype == dtype and not array.flags.writeable and array.flags.owndata
+            and array.flags.c_contiguous):
+        return array
     copy = np.array(array, dtype=dtype, copy=True)
     copy.setflags(write=False)
     return copy
@@ -153,7 +159,7 @@ class RamanMap:
                 f"got {intensity.shape}",
                 field="intensity",
             )
-        if not np.all(np.isfinite(intensity)):
+        if not all_finite(intensity):
             point, column = np.argwhere(~np.isfinite(intensity))[0]
             raise AnalysisInputError(
                 f"intensity at point {point}, shift index {column} is not a finite number",

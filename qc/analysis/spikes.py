@@ -183,8 +183,9 @@ def _row_median_in_place(values: np.ndarray) -> np.ndarray:
     return values[:, middle - 1 : middle + 1].mean(axis=1, keepdims=True)
 
 
-# Rows per thread below which one thread does all (thread start-up would dominate).
-_ROWS_PER_THREAD = 2000
+# Rows per thread below which one thread does all (thread start-up would dominate; a
+# map arrives in blocks of about a thousand spectra).
+_ROWS_PER_THREAD = 500
 
 
 def _spike_points_threaded(spectra, threshold, max_width, sharpness):

@@ -91,6 +91,9 @@ def qc_measurement_submit(*, actor: User | None, request: QcImportRequest | None
     if len(request.content) <= settings.SERSLEDGER_INLINE_ANALYSIS_BYTES:
         return qc_measurement_import(actor=actor, request=request)
     checked = qc_import_check(actor=actor, request=request)
+    if request.reference is not None:
+        # The EF's surface area needs no file: refuse it now (400), not from the worker.
+        request.coverage(checked.analyte, checked.substrate)
     read_upload_checks(request)
     refuse_qc_reimport(checked.substrate, request.content,
                        shared=request.shared_measurement)
@@ -153,7 +156,8 @@ def qc_import_run(pending_id, *, worker: str | None = None) -> str | None:
     try:
         request = _request_of(pending)
         actor = pending.created_by
-        checked = qc_import_check(actor=actor, request=request)
+        with transaction.atomic():  # the checks lock their rows (PostgreSQL needs a transaction)
+            checked = qc_import_check(actor=actor, request=request)
         is_map, band = qc_import_analyse(
             request, checked, progress=lambda state: _report(pending_id, worker, state))
         _report(pending_id, worker, QcImport.State.JUDGING)

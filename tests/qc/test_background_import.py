@@ -2,11 +2,12 @@
 
 from __future__ import annotations
 
+import threading
 from datetime import timedelta
 
 import pytest
 from django.core.exceptions import ValidationError
-from django.core.management import call_command
+from django.db import connection, connections
 from django.utils import timezone
 
 from inventory.readiness import substrate_check_readiness
@@ -17,7 +18,7 @@ from qc.services import (
     qc_measurement_submit,
     substrate_release_check,
 )
-from tests.qc_lab import MAP_SETTINGS, RAMAN, QcLab
+from tests.qc_lab import MAP_SETTINGS, RAMAN, QcLab, run_db_worker
 
 GOOD = "good_substrate_map.csv"
 
@@ -38,11 +39,6 @@ def _submit(lab, substrate, name=GOOD, content=None, capture=None):
             **MAP_SETTINGS)
 
 
-def _worker():
-    call_command("db_worker", "--batch", "--no-startup-delay", "--interval", "0",
-                 verbosity=0)
-
-
 def _reasons(lab, substrate):
     return {r.code for r in substrate_check_readiness(substrate.code).reasons}
 
@@ -57,7 +53,7 @@ def test_a_big_file_waits_for_a_worker_and_is_not_ready_until_judged(
     with pytest.raises(ValidationError) as refused:
         substrate_release_check(substrate)
     assert refused.value.error_dict["substrate"][0].code == "qc_pending"
-    _worker()
+    run_db_worker()
     pending.refresh_from_db()
     assert pending.state == QcImport.State.DONE and pending.progress_percent == 100, pending.error
     assert pending.measurement.substrate == substrate and pending.measurement.passed
@@ -96,7 +92,7 @@ def test_a_worker_killed_mid_task_leaves_it_pending_and_a_retry_completes_it(
     QcImport.objects.filter(pk=pending.pk).update(
         claimed_at=timezone.now() - timedelta(hours=1))
     assert qc_imports_resume() == 1
-    _worker()
+    run_db_worker()
     pending.refresh_from_db()
     assert pending.state == QcImport.State.DONE and pending.attempts == 2
     assert QcMeasurement.objects.filter(substrate=substrate).count() == 1
@@ -112,7 +108,7 @@ def test_a_bad_big_file_fails_with_its_line_and_saves_nothing(
     lines[header + 2] = ",".join(cells)
     pending = _submit(lab, substrate, content="\n".join(lines).encode(),
                       capture=django_capture_on_commit_callbacks)
-    _worker()
+    run_db_worker()
     pending.refresh_from_db()
     assert pending.state == QcImport.State.FAILED
     assert f"line {header + 3}" in pending.error["raw_file"][0]
@@ -128,3 +124,38 @@ def test_a_small_file_is_still_judged_at_once(lab, settings):
         content=(RAMAN / GOOD).read_bytes(), measured_on=lab.chain.day(1),
         reference=lab.reference, surface_area_assumed_one=True, **MAP_SETTINGS)
     assert isinstance(result, QcMeasurement) and not QcImport.objects.exists()
+
+
+@pytest.mark.postgres_only
+@pytest.mark.django_db(transaction=True)
+def test_two_workers_at_the_same_moment_write_one_measurement(lab):
+    """Two workers with their own connections claim one import at once (PostgreSQL row
+    locks; SQLite's in-memory test database has one writer, so the race cannot happen)."""
+    if connection.vendor != "postgresql":
+        pytest.skip("needs concurrent writers: PostgreSQL")
+    substrate = lab.chain.decorated_substrate()
+    pending = qc_measurement_submit(
+        actor=lab.chain.maker, substrate=substrate, analyte_lot=lab.lot, filename=GOOD,
+        content=(RAMAN / GOOD).read_bytes(), measured_on=lab.chain.day(1),
+        reference=lab.reference, surface_area_assumed_one=True, **MAP_SETTINGS)
+    barrier = threading.Barrier(2)
+    results: list = []
+
+    def worker(name: str) -> None:
+        try:
+            barrier.wait()
+            results.append(background.qc_import_run(pending.pk, worker=name))
+        finally:
+            connections.close_all()
+
+    threads = [threading.Thread(target=worker, args=(name,)) for name in ("a", "b")]
+    for thread in threads:
+        thread.start()
+    for thread in threads:
+        thread.join()
+    codes = [code for code in results if code is not None]
+    assert len(results) == 2 and len(codes) == 1  # one wrote it, the other found it taken
+    assert list(QcMeasurement.objects.filter(substrate=substrate)
+                .values_list("code", flat=True)) == codes
+    pending.refresh_from_db()
+    assert pending.state == QcImport.State.DONE and pending.attempts == 1
