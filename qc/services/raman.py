@@ -48,12 +48,18 @@ from .enhancement import (
 from .raman_analysis import FILE_FIELD, analyse, read_upload, read_upload_checks
 
 # The definitions live in raman_limits; named here too, so the Raman QC services stay one API.
-from .raman_limits import limit_set_for, qc_judge, qc_limit_set_define, reference_analyte_define
+from .raman_limits import (
+    limit_set_for,
+    qc_judge,
+    qc_limit_defaults_fill,
+    qc_limit_set_define,
+    reference_analyte_define,
+)
 from .raman_results import results_fields
 
 __all__ = [
     "QcImportRequest", "ReferenceImportRequest", "qc_measurement_import",
-    "qc_judge", "qc_limit_set_define", "reference_analyte_define",
+    "qc_judge", "qc_limit_defaults_fill", "qc_limit_set_define", "reference_analyte_define",
     "reference_measurement_import", "substrate_release", "substrate_release_check",
 ]
 
