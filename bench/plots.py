@@ -190,38 +190,70 @@ def chronoamperogram_figure(time_s, current_A, *, charge_C: float | None,
 # --------------------------------------------------------------------------------------
 
 
-def control_chart_figure(series) -> Figure:
+# Control charts are shown at up to their own width and shrink to fit a phone: 4.8 in is
+# 461 CSS px; a 390 px phone leaves about 333 px inside the page and figure padding, where
+# 12 pt text (16 px at full size) still shows at 11.6 px.
+CHART_WIDTH_IN = 4.8
+CHART_FONT_PT = 12
+
+
+def control_chart_figure(series, *, point_urls: Sequence[str] = ()) -> Figure:
     """Individuals and moving-range chart of a ``qc.selectors.ControlChartSeries``.
 
     Points breaking a run rule (as ``qc.analysis.control_charts`` reported) are ringed red.
+    ``point_urls`` (one per result, in order) make each point a link to its record in SVG.
+    The limits are labelled on the chart itself (no legend to shrink); a lower limit the
+    metric cannot reach is drawn at its floor and the x-axis label says so.
     """
     chart = series.chart
     if chart is None:
         return message_figure(f"{series.label}, {series.product_kind}: fewer than three QC "
                               "results so far.")
-    figure, (ax, ax_mr) = _figure(7.0, 4.6, rows=2, sharex=True,
+    figure, (ax, ax_mr) = _figure(CHART_WIDTH_IN, 4.4, rows=2, sharex=True,
                                   gridspec_kw={"height_ratios": [2, 1]})
     index = np.arange(1, chart.values.size + 1)
-    ax.plot(index, chart.values, marker="o", markersize=4, color=TEAL, linewidth=1.0)
-    for value, style, name in ((chart.centre, "-", "centre"),
-                               (chart.upper_limit, "--", "UCL"), (chart.lower_limit, "--", "LCL")):
-        ax.axhline(value, color=AMBER if name != "centre" else INK, linestyle=style,
-                   linewidth=1.0, label=f"{name} {value:.3g}")
+    ax.plot(index, chart.values, color=TEAL, linewidth=1.0)
+    points = ax.scatter(index, chart.values, s=28, color=TEAL, zorder=3)
+    if point_urls:
+        points.set_urls(list(point_urls))
+    lower = series.lower_limit_shown
+    for value, name in ((chart.centre, "centre"), (chart.upper_limit, "UCL"), (lower, "LCL")):
+        ax.axhline(value, color=INK if name == "centre" else AMBER,
+                   linestyle="-" if name == "centre" else "--", linewidth=1.0)
+        ax.annotate(f"{name} {value:.3g}", xy=(1.0, value), xycoords=("axes fraction", "data"),
+                    xytext=(3, 0), textcoords="offset points", va="center",
+                    fontsize=CHART_FONT_PT, color=INK)
     broken = sorted({v.index for v in chart.violations if v.index < chart.values.size})
     if broken:
-        ax.scatter(index[broken], chart.values[broken], s=80, facecolors="none",
-                   edgecolors=RED, linewidths=1.5, label="run rule broken", zorder=3)
-    ax.set_ylabel(series.label)
-    ax.set_title(f"{series.label} — {series.product_kind} ({chart.values.size} results)",
-                 loc="left", fontsize=11)
-    ax.legend(frameon=False, fontsize=7, ncol=4)
+        ax.scatter(index[broken], chart.values[broken], s=110, facecolors="none",
+                   edgecolors=RED, linewidths=1.8, zorder=4)
+    ax.set_ylabel(series.label, fontsize=CHART_FONT_PT)
+    ringed = f"; {len(broken)} ringed: run rule" if broken else ""
+    ax.set_title(f"{series.label}, {series.product_kind}: {chart.values.size} results{ringed}",
+                 loc="left", fontsize=CHART_FONT_PT)
     ax_mr.plot(index[1:], chart.moving_ranges, marker="o", markersize=3, color=INK,
                linewidth=0.8)
     ax_mr.axhline(chart.mr_upper_limit, color=AMBER, linestyle="--", linewidth=1.0)
-    ax_mr.set_ylabel("moving range")
-    ax_mr.set_xlabel("result number (in order measured)")
+    ax_mr.set_ylabel("moving range", fontsize=CHART_FONT_PT)
+    note = series.lower_limit_note
+    ax_mr.set_xlabel("result number (in order measured)" + (f"\n{note}" if note else ""),
+                     fontsize=CHART_FONT_PT)
     ax_mr.xaxis.set_major_locator(MaxNLocator(integer=True))
+    for axes in (ax, ax_mr):
+        axes.tick_params(labelsize=CHART_FONT_PT)
     return figure
+
+
+def linked_svg(figure: Figure) -> bytes:
+    """SVG with real text and links that open in the page, not a new tab (for ``<object>``).
+
+    Text stays text (``svg.fonttype`` none), so its size is what the browser draws and a
+    reader can select it; matplotlib marks links ``target="_blank"``, made ``_top`` here so a
+    click on a point inside an embedded chart opens the record in the same tab.
+    """
+    with matplotlib.rc_context({"svg.fonttype": "none"}):
+        body = figure_bytes(figure, "svg")
+    return body.replace(b'target="_blank"', b'target="_top"')
 
 
 # --------------------------------------------------------------------------------------

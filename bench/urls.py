@@ -1,6 +1,6 @@
 """The pages, mounted at the site root by sersledger/urls.py; URL names as templates use them."""
 
-from django.urls import include, path
+from django.urls import include, path, re_path
 
 from . import views
 
@@ -19,6 +19,12 @@ urlpatterns = [
     path("r/<str:code>/label/", views.record_label, name="record_label"),
     path("account/api-tokens/", views.api_tokens, name="api_tokens"),
     path("review/", views.review, name="review"),
+    path("limits/", views.limits, name="limits"),
+    path("limits/qc/<int:analyte_id>/<str:stage>/", views.limit_edit_qc, name="limit_edit_qc"),
+    path("limits/colloid/<str:metal>/", views.limit_edit_colloid, name="limit_edit_colloid"),
+    # A general rule per kind of record, or (reagent lots) one per kind of reagent.
+    re_path(r"^limits/shelf-life/(?P<record_kind>\w+)/(?:(?P<reagent_kind>\w+)/)?$",
+            views.limit_edit_shelf_life, name="limit_edit_shelf_life"),
     path("qc/imports/<uuid:pk>/", views.qc_import_page, name="qc_import_page"),
     path("review/<str:code>/", views.review_sign, name="review_sign"),
     path("flags/<str:code>/resolve/", views.flag_resolve, name="flag_resolve"),

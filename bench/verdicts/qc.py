@@ -29,6 +29,17 @@ def _comparisons(m, limits: dict) -> list[tuple[bool, str]]:
     return out
 
 
+def limits_version_words(limits: dict) -> str:
+    """Which limits judged a measurement, from the snapshot stored with its verdict."""
+    if not limits:
+        return "no limits recorded"
+    version = limits.get("version")
+    which = f"version {version}" if version else "the version then current (not recorded)"
+    scope = " / ".join(str(limits[key]) for key in ("product_kind", "analyte") if limits.get(key))
+    defaults = ", defaults to review" if limits.get("is_example") else ""
+    return f"limits {which} ({scope}{defaults}); later changes do not re-judge it"
+
+
 def qc_verdict(m) -> Verdict:
     limits = m.limits_used or {}
     comparisons = _comparisons(m, limits)
@@ -61,6 +72,7 @@ def qc_verdict(m) -> Verdict:
          else f"{100 * m.fraction_within_20_percent:.0f} %"),
         ("Band position", f"{m.band_position_cm1:.1f} cm⁻¹"),
         ("Points measured", f"{m.n_points}"),
+        ("Judged by", limits_version_words(limits)),
     ]
     headline = "STALE" if stale else "PASS" if m.passed else "FAIL"
     return Verdict(bool(m.passed) and not stale, headline, sentence, next_step, figures(rows))

@@ -2,6 +2,7 @@
 
 from .account import api_tokens  # noqa: F401
 from .imports import qc_import_page  # noqa: F401
+from .limits import limit_edit_colloid, limit_edit_qc, limit_edit_shelf_life, limits  # noqa: F401
 from .overview import home, stock  # noqa: F401
 from .records import label_sheet, readiness_check, record_detail, record_label  # noqa: F401
 from .review import (  # noqa: F401

@@ -20,6 +20,7 @@ from django.shortcuts import get_object_or_404, redirect, render
 from django.urls import reverse
 from django.utils import timezone
 from django.utils.http import url_has_allowed_host_and_scheme
+from django.views.decorators.clickjacking import xframe_options_sameorigin
 from django.views.decorators.http import require_POST
 
 from bench import page_queries, plots
@@ -357,6 +358,7 @@ def plot_chronoamperogram(request, code: str):
     return _image(request, figure)
 
 
+@xframe_options_sameorigin  # embedded in the pages as <object>, so its links work
 @login_required
 def plot_control_chart(request, product_kind: str, metric: str):
     if product_kind not in Substrate.Stage.values or metric not in CHART_METRICS:
@@ -364,4 +366,10 @@ def plot_control_chart(request, product_kind: str, metric: str):
     days = int_param(request, "days", CHART_DAYS, low=1, high=36500)
     series = qc_control_chart(product_kind=product_kind, metric=metric,
                               since=timezone.localdate() - timedelta(days=days))
-    return _image(request, plots.control_chart_figure(series))
+    figure = plots.control_chart_figure(
+        series, point_urls=[reverse("record", args=[code]) for code in series.codes])
+    if request.GET.get("format", "svg") != "svg":
+        return _image(request, figure)
+    response = HttpResponse(plots.linked_svg(figure), content_type=plots.FORMATS["svg"])
+    response["Cache-Control"] = "private, max-age=300"
+    return response

@@ -209,7 +209,7 @@ class QcLimitSet(StampedRecord):
     def as_snapshot(self) -> dict:
         """The limit values as they were when a measurement was judged."""
         return {
-            "limit_set_id": self.pk, "product_kind": self.product_kind,
+            "limit_set_id": self.pk, "version": self.version, "product_kind": self.product_kind,
             "analyte": self.analyte.name, "min_enhancement_factor": self.min_enhancement_factor,
             "max_rsd_percent": self.max_rsd_percent, "min_snr": self.min_snr,
             "band_position_tolerance_cm1": self.band_position_tolerance_cm1,

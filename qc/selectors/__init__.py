@@ -2,4 +2,5 @@
 
 from .colloid import *  # noqa: F401,F403
 from .current import *  # noqa: F401,F403
+from .limits import *  # noqa: F401,F403
 from .raman import *  # noqa: F401,F403

@@ -32,6 +32,11 @@ CHART_METRICS = {
     "rsd_percent": "RSD %",
 }
 MIN_CHART_POINTS = 3  # individuals_chart needs at least three results
+# The lowest value a metric can physically take: an RSD is never negative.  A computed lower
+# control limit below it is shown at it (common practice, as for the c and np charts in
+# Montgomery, Introduction to Statistical Quality Control, 7th ed., 2012, §7.3).  log10 EF
+# has no floor: an EF below 1 is physical, and its log negative.
+CHART_FLOORS = {"rsd_percent": 0.0}
 
 
 @dataclass(frozen=True)
@@ -45,6 +50,25 @@ class ControlChartSeries:
     measured_on: tuple[date, ...]
     substrate_codes: tuple[str, ...]
     chart: IndividualsChart | None  # None below MIN_CHART_POINTS results
+    physical_floor: float | None = None  # the lowest value the metric can take
+
+    @property
+    def lower_limit_shown(self) -> float | None:
+        """The lower control limit as drawn: never below what the metric can physically be."""
+        if self.chart is None:
+            return None
+        if self.physical_floor is not None and self.chart.lower_limit < self.physical_floor:
+            return self.physical_floor
+        return self.chart.lower_limit
+
+    @property
+    def lower_limit_note(self) -> str:
+        """Why the lower limit is drawn where it is, when it is not the computed one."""
+        shown = self.lower_limit_shown
+        if shown is None or shown == self.chart.lower_limit:
+            return ""
+        return (f"LCL drawn at {shown:g}: {self.label} cannot be negative\n"
+                f"(computed LCL {self.chart.lower_limit:.3g})")
 
 
 def qc_control_chart(*, product_kind: str, metric: str, analyte=None,
@@ -71,7 +95,8 @@ def qc_control_chart(*, product_kind: str, metric: str, analyte=None,
     return ControlChartSeries(
         product_kind=product_kind, metric=metric, label=CHART_METRICS[metric],
         codes=tuple(r[0] for r in rows), measured_on=tuple(r[1] for r in rows),
-        substrate_codes=tuple(r[2] for r in rows), chart=chart)
+        substrate_codes=tuple(r[2] for r in rows), chart=chart,
+        physical_floor=CHART_FLOORS.get(metric))
 
 
 def measurement_get_stored_results(measurement) -> dict[str, np.ndarray] | None:

@@ -34,7 +34,13 @@ from .enhancement import enhancement_fields, substrate_enhancement
 from .raman_analysis import FILE_FIELD, analyse, read_upload, read_upload_checks
 
 # The definitions live in raman_limits; named here too, so the Raman QC services stay one API.
-from .raman_limits import limit_set_for, qc_judge, qc_limit_set_define, reference_analyte_define
+from .raman_limits import (
+    limit_set_for,
+    qc_judge,
+    qc_limit_defaults_fill,
+    qc_limit_set_define,
+    reference_analyte_define,
+)
 from .raman_release import FLAG_CATEGORY, substrate_release, substrate_release_check
 from .raman_requests import (
     QcImportRequest,
@@ -47,7 +53,7 @@ from .raman_results import results_fields
 
 __all__ = [
     "QcImportRequest", "ReferenceImportRequest", "qc_measurement_import",
-    "qc_judge", "qc_limit_set_define", "reference_analyte_define",
+    "qc_judge", "qc_limit_defaults_fill", "qc_limit_set_define", "reference_analyte_define",
     "reference_measurement_import", "substrate_release", "substrate_release_check",
 ]
 

@@ -18,9 +18,11 @@ from inventory.services.toolkit import require_kind as _require_kind
 from inventory.services.toolkit import stamp_history as _stamp_history
 from inventory.services.toolkit import validate as _validate
 
+from ..limit_defaults import COMMON_SOURCES, QC_DEFAULTS
 from ..models.raman import QcLimitSet, ReferenceAnalyte
 
-__all__ = ["qc_judge", "qc_limit_set_define", "reference_analyte_define"]
+__all__ = ["qc_judge", "qc_limit_defaults_fill", "qc_limit_set_define",
+           "reference_analyte_define"]
 
 
 @transaction.atomic
@@ -49,7 +51,25 @@ def reference_analyte_define(
     _stamp_history(analyte, actor=actor, reason="")
     analyte.save()
     analyte.lots.set(lots)
+    qc_limit_defaults_fill(actor=actor, analyte=analyte)
     return analyte
+
+
+@transaction.atomic
+def qc_limit_defaults_fill(*, actor: User | None, analyte: ReferenceAnalyte) -> list[QcLimitSet]:
+    """Give every substrate stage without limits for ``analyte`` the defaults, to review.
+
+    A new analyte (and so a fresh install's first one) is judged at every stage from the
+    start; the defaults (``qc.limit_defaults``) are marked ``is_example`` until an
+    administrator saves the lab's own values.  Stages that have limits keep them.
+    """
+    require_role(actor, ADMINISTRATOR, action="Setting QC limits")
+    have = set(QcLimitSet.objects.filter(analyte=analyte).values_list("product_kind", flat=True))
+    return [
+        qc_limit_set_define(actor=actor, product_kind=stage, analyte=analyte, is_example=True,
+                            rationale=f"Default to review: {default.why} {COMMON_SOURCES}",
+                            **default.as_values())
+        for stage, default in QC_DEFAULTS.items() if stage not in have]
 
 
 @transaction.atomic
