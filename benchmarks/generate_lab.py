@@ -562,7 +562,10 @@ class LabGenerator:
                 enhancement_factor=float(10 ** log10_ef[i]),
                 enhancement_factor_u=float(0.25 * 10 ** log10_ef[i]),
                 log10_enhancement_factor=float(log10_ef[i]),
-                log10_enhancement_factor_u=0.11, substrate_id=piece.id,
+                log10_enhancement_factor_u=0.11, surface_area_factor=1.0,
+                surface_area_factor_u=0.0,
+                surface_area_origin="Invented for benchmarks (assumed 1).",
+                substrate_id=piece.id,
                 limit_set_id=limits[piece.stage].id,
                 product_kind=piece.stage, passed=bool(snrs[i] >= 10.0),
                 failure_reasons=[] if snrs[i] >= 10.0 else ["snr below the limit"]))

@@ -24,14 +24,22 @@ from .analysis.window import OperatingWindow  # noqa: E402
 
 __all__ = ["groups_figure", "message_figure", "png_with_links", "setting_figure"]
 
+SCATTER_MARGINS = {"left": 0.09, "right": 0.98, "bottom": 0.13, "top": 0.83}
 INK, TEAL, AMBER, RED, GREEN, GRID = (
     "#1b2a2f", "#0b5d66", "#b0510f", "#a11d2b", "#236b3c", "#d9d4c7")
 
 
-def _figure(width_in: float, height_in: float):
-    """One axes with the house grid and open top and right sides (Agg, no pyplot state)."""
-    figure = Figure(figsize=(width_in, height_in), layout="constrained")
+def _figure(width_in: float, height_in: float, margins: dict | None = None):
+    """One axes with the house grid and open top and right sides (Agg, no pyplot state).
+
+    ``margins`` (``subplots_adjust`` fractions) fix the layout; without them matplotlib's
+    constrained layout places the axes, at the cost of drawing the figure twice.
+    """
+    figure = Figure(figsize=(width_in, height_in),
+                    layout=None if margins else "constrained")
     ax = figure.subplots()
+    if margins:
+        figure.subplots_adjust(**margins)
     ax.grid(True, color=GRID, linewidth=0.6)
     ax.set_axisbelow(True)
     ax.spines[["top", "right"]].set_visible(False)
@@ -53,7 +61,10 @@ def setting_figure(x, y, passed, urls: Sequence[str], *, xlabel: str, ylabel: st
 
     Returns the figure and its axes (for :func:`png_with_links`).  In SVG every marker
     keeps its link."""
-    figure, (ax,) = _figure(7.0, 3.6)
+    # Fixed margins, the legend above the axes: with thousands of points, constrained layout
+    # (a second draw) and a legend placed "best" (tested against every point) cost more
+    # than the scatter itself.
+    figure, (ax,) = _figure(7.0, 3.7, SCATTER_MARGINS)
     x = np.asarray(x, dtype=float)
     y = np.asarray(y, dtype=float)
     verdict = np.asarray([np.nan if p is None else float(p) for p in passed], dtype=float)
@@ -79,7 +90,8 @@ def setting_figure(x, y, passed, urls: Sequence[str], *, xlabel: str, ylabel: st
     ax.set_ylabel(ylabel)
     if title:
         ax.set_title(title, loc="left", fontsize=11)
-    ax.legend(frameon=False, fontsize=7, ncol=3, loc="best")
+    ax.legend(frameon=False, fontsize=7, ncol=4, loc="lower left", bbox_to_anchor=(0, 1.0),
+              borderaxespad=0.2)
     return figure, ax
 
 
@@ -89,7 +101,10 @@ def groups_figure(groups: Sequence[GroupSummary], *, ylabel: str, title: str = "
     shown = [g for g in groups if g.mean is not None]
     if not shown:
         return message_figure("not enough data: no group has 10 or more substrates")
-    figure, (ax,) = _figure(7.0, 0.9 + 0.32 * len(shown))
+    height_in = 0.9 + 0.32 * len(shown)  # fixed margins in inches: one draw, not two
+    figure, (ax,) = _figure(7.0, height_in, {"left": 0.28, "right": 0.97,
+                                             "bottom": 0.55 / height_in,
+                                             "top": 1 - 0.35 / height_in})
     positions = np.arange(len(shown))
     means = np.array([g.mean for g in shown])
     errors = np.array([[g.mean - g.ci_low for g in shown], [g.ci_high - g.mean for g in shown]])
@@ -124,8 +139,9 @@ def png_with_links(figure: Figure, ax, points) -> tuple[bytes, list[dict]]:
     areas = []
     if points:
         xy = ax.transData.transform(np.array([(p[0], p[1]) for p in points], dtype=float))
-        for (px, py), (_, _, href, title) in zip(xy, points, strict=True):
-            if np.isfinite(px) and np.isfinite(py):
-                areas.append({"x": int(round(px)), "y": int(round(height - py)),
-                              "r": POINT_RADIUS_PX, "href": href, "title": title})
+        shown = np.isfinite(xy).all(axis=1)
+        pixels = np.rint(np.nan_to_num(np.column_stack([xy[:, 0], height - xy[:, 1]]))).astype(int)
+        areas = [{"x": int(px), "y": int(py), "r": POINT_RADIUS_PX, "href": href, "title": title}
+                 for (px, py), (_, _, href, title), ok in zip(pixels, points, shown, strict=True)
+                 if ok]
     return buffer.getvalue(), areas

@@ -13,12 +13,14 @@ from datetime import date
 
 import numpy as np
 import pandas as pd
-from django.db.models import F
+from django.db.models import Exists, F, OuterRef
 from django.db.models.functions import Coalesce
 from django.utils import timezone
 
+from inventory.flags import flags_open
 from inventory.models import Flag, LinkerLayer, ParticleAttachment, Status, Substrate
-from qc.models import QcLimitSet, QcMeasurement, UvVisRecord
+from qc.models import QcLimitSet, ReferenceAnalyte, UvVisRecord
+from qc.selectors import qc_measurements_current, qc_measurements_standing
 
 from .columns import CATEGORICAL_SETTINGS, NUMERIC_SETTINGS, OUTCOMES
 
@@ -115,24 +117,36 @@ def insight_table(filters: InsightFilters | None = None, *,
             "aggregation_index"),
         ["batch_id", "uv_measured_on", "mie_diameter_nm", "calibrated_diameter_nm",
          "aggregation_index"])
-    measured = QcMeasurement.objects.filter(substrate_id__in=ids, voided_at__isnull=True)
-    if filters.analyte:
-        measured = measured.filter(analyte__name=filters.analyte)
-    measurements = _frame(measured.order_by("measured_on", "id").values_list(
+    measurements = _frame(_measurements(chosen, filters.analyte).values_list(
         "substrate_id", "code", "product_kind", "measured_on", "log10_enhancement_factor",
         "log10_enhancement_factor_u", "rsd_percent", "band_position_cm1", "passed",
-        "failure_reasons", "analyte__name"),
+        "failure_reasons", "analyte__name", "is_current"),
         ["substrate_id", "qc_code", "product_kind", "qc_measured_on", "log10_ef", "log10_ef_u",
-         "rsd_percent", "band_position_cm1", "passed", "failure_reasons", "analyte"])
+         "rsd_percent", "band_position_cm1", "passed", "failure_reasons", "analyte",
+         "is_current"])
+    # Every flag not voided (its category names a deviation); open ones by inventory's rule.
     flags = _frame(Flag.objects.filter(target_code__in=chosen.values("code"),
                                        voided_at__isnull=True)
-                   .order_by("id").values_list("target_code", "code", "category", "state",
+                   .annotate(is_open=Exists(flags_open().filter(pk=OuterRef("pk"))))
+                   .order_by("id").values_list("target_code", "code", "category", "is_open",
                                                "message"),
-                   ["substrate_code", "flag_code", "category", "state", "message"])
+                   ["substrate_code", "flag_code", "category", "is_open", "message"])
     table = _assemble(base, linkers, attachments, uvvis, measurements, flags)
     if filters.analyte:
         table = table[table["analyte"] == filters.analyte].reset_index(drop=True)
     return InsightData(table=table, measurements=measurements, flags=flags, today=today)
+
+
+def _measurements(chosen, analyte: str):
+    """The substrates' standing QC results, oldest first, each marked whether it is the
+    substrate's current result (both rules are qc's: ``qc.selectors.current``)."""
+    analyte_ids = (ReferenceAnalyte.objects.filter(name=analyte).values("id")
+                   if analyte else None)
+    current = qc_measurements_current(chosen, analyte_ids=analyte_ids)
+    return (qc_measurements_standing(analyte_ids=analyte_ids)
+            .filter(substrate__in=chosen)
+            .annotate(is_current=Exists(current.filter(pk=OuterRef("pk"))))
+            .order_by("measured_on", "id"))
 
 
 def _days(later: pd.Series, earlier: pd.Series) -> pd.Series:
@@ -177,7 +191,8 @@ def _colloid_at_use(attached: pd.DataFrame, uvvis: pd.DataFrame) -> pd.DataFrame
 
 
 def _outcomes(table: pd.DataFrame, measurements: pd.DataFrame) -> pd.DataFrame:
-    """The newest QC at each substrate's current stage, whether its first one passed, count."""
+    """The current QC of each substrate, whether its first QC at that stage passed, how many
+    QC results it has at that stage."""
     columns = ["substrate_id", "qc_code", "qc_measured_on", "log10_ef", "log10_ef_u",
                "rsd_percent", "band_position_cm1", "passed", "failure_reasons", "analyte",
                "passed_first_time", "qc_count"]
@@ -187,7 +202,7 @@ def _outcomes(table: pd.DataFrame, measurements: pd.DataFrame) -> pd.DataFrame:
     here = measurements[measurements["product_kind"].to_numpy()
                         == stage.reindex(measurements["substrate_id"]).to_numpy()]
     grouped = here.groupby("substrate_id", sort=False)
-    newest = grouped.tail(1).set_index("substrate_id")
+    newest = here[here["is_current"].astype(bool)].set_index("substrate_id")
     newest["passed_first_time"] = grouped["passed"].first()
     newest["qc_count"] = grouped.size()
     newest["failure_reasons"] = newest["failure_reasons"].map(
@@ -201,7 +216,7 @@ def _flag_summary(flags: pd.DataFrame) -> pd.DataFrame:
         return pd.DataFrame(columns=columns)
     grouped = flags.groupby("substrate_code")
     return pd.DataFrame({
-        "open_flags": grouped["state"].agg(lambda s: int((s == Flag.State.OPEN).sum())),
+        "open_flags": grouped["is_open"].sum().astype(int),
         "flag_categories": grouped["category"].agg(lambda s: " ".join(sorted(set(s)))),
     }).reset_index()
 

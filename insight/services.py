@@ -26,6 +26,7 @@ from .analysis.groups import GroupSummary, compare_groups
 from .analysis.mixed import EffectsFit, mixed_effects
 from .analysis.proportions import PassRate, wilson_pass_rate
 from .analysis.window import OperatingWindow, operating_window
+from .caching import cached, data_digest
 from .columns import CATEGORICAL_SETTINGS, NUMERIC_SETTINGS
 from .selectors import InsightData, InsightFilters, expired_unused, insight_table
 
@@ -79,6 +80,7 @@ class InsightReport:
     filters: InsightFilters
     target: float
     data: InsightData
+    digest: str  # of ``data``: the cache key of this report and of the page's plots
     steps: list[StepYield]
     overall: StepYield
     by_week: list[tuple[str, PassRate]]
@@ -193,9 +195,12 @@ def _expiry_pareto(table: pd.DataFrame, expired: pd.Series) -> list[ParetoItem]:
 
 
 def _by(table: pd.DataFrame, key: pd.Series) -> list[tuple[str, PassRate]]:
-    judged = table.assign(key=key)[table["passed_first_time"].notna()]
-    return [(str(k), _rate(part["passed_first_time"]))
-            for k, part in judged.groupby("key", sort=True)]
+    """First-time pass rate per week or lot (counted in one pass, not group by group)."""
+    judged = table["passed_first_time"].notna()
+    passed = table.loc[judged, "passed_first_time"].astype(bool)
+    counts = passed.groupby(key[judged], sort=True).agg(["sum", "size"])
+    return [(str(k), wilson_pass_rate(int(n_passed), int(n)))
+            for k, n_passed, n in counts.itertuples()]
 
 
 def _windows(table: pd.DataFrame, target: float, refusals: dict) -> list[OperatingWindow]:
@@ -262,10 +267,22 @@ def _drift(table: pd.DataFrame, fits: dict[str, EffectsFit]) -> list[DriftFindin
 
 def insight_report(filters: InsightFilters | None = None, *, target: float = DEFAULT_TARGET,
                    today: date | None = None) -> InsightReport:
-    """Every figure of the insight page for the substrates the filters select."""
+    """Every figure of the insight page for the substrates the filters select.
+
+    The table is read each time; the statistics are computed once per distinct table (the
+    cache key is its digest, so a changed record means a new report, never a stale one).
+    """
     if not 0 < target < 1:
         raise ValueError("target must be a fraction between 0 and 1")
+    filters = filters or InsightFilters()
     data = insight_table(filters, today=today)
+    digest = data_digest(data)
+    return cached("report", digest, (filters, target),
+                  lambda: _report(data, filters, target, digest))
+
+
+def _report(data: InsightData, filters: InsightFilters, target: float,
+            digest: str) -> InsightReport:
     table = data.table
     expired = expired_unused(table, data.today)
     steps = [_step_yield(step, label, data, expired) for step, label in STEPS]
@@ -274,7 +291,7 @@ def insight_report(filters: InsightFilters | None = None, *, target: float = DEF
     fits = _fits(table, windows[0] if windows else None, refusals)
     weeks = pd.to_datetime(table["made_on"]).dt.strftime("%G-W%V")
     return InsightReport(
-        filters=filters or InsightFilters(), target=target, data=data, steps=steps,
+        filters=filters, target=target, data=data, digest=digest, steps=steps,
         overall=_overall(data, steps, expired), by_week=_by(table, weeks),
         by_lot=_by(table, table["sphere_lot"]), failure_pareto=_failure_pareto(data),
         expiry_pareto=_expiry_pareto(table, expired), windows=windows, fits=fits,

@@ -66,9 +66,12 @@ def compare_groups(labels, outcome, passed, *, min_n: int = MIN_PER_GROUP) -> li
             continue
         judged = part["passed"].dropna().astype(bool)
         rate = wilson_pass_rate(int(judged.sum()), len(judged)) if len(judged) else None
+        mean: float | None
+        low: float | None
+        high: float | None
         try:
             mean, low, high = mean_interval(part["y"])
-        except NotEnoughData:
+        except NotEnoughData:  # a group with no finite outcome: its size and rate only
             mean = low = high = None
         out.append(GroupSummary(str(label), n, mean, low, high, rate))
     if sum(1 for g in out if not g.refusal) < 2:

@@ -13,6 +13,7 @@ from .errors import MIN_PER_GROUP, NotEnoughData
 
 MIN_GROUPS = 3          # fewer lots cannot separate a lot from a setting
 MIN_COVERAGE = 0.5      # a setting known for fewer substrates than this is left out
+MONOTONE_RHO = 0.999    # rank correlation at which one setting is a function of another
 
 
 @dataclass(frozen=True)
@@ -80,12 +81,23 @@ def _separable(data: pd.DataFrame, kept: list[str], omitted: dict[str, str]) -> 
     """Keep settings in order while each adds a direction the earlier ones do not span.
 
     Settings computed from one another (film height, charge density and h/D on one sphere
-    size) cannot be told apart; the later one is named with the one it moves with.
+    size) cannot be told apart; the later one is named with the one it moves with.  Such a
+    relation need not be linear: charge density is a cubic-like function of h/D (the metal
+    fills spherical caps), which a rank test of the columns misses, and left in, its bend
+    takes part of a curvature term's.  A setting whose ranks follow an earlier one's
+    (Spearman |ρ| ≥ ``MONOTONE_RHO``) is therefore that setting again, whatever the curve.
     """
     chosen: list[str] = []
     columns = [np.ones(len(data))]
+    ranks = data[kept].rank()
     for name in kept:
         values = data[name].to_numpy(dtype=float)
+        twin = next((other for other in chosen
+                     if abs(ranks[name].corr(ranks[other])) >= MONOTONE_RHO), None)
+        if twin is not None:
+            omitted[name] = (f"not enough data: a monotone function of {twin} here, "
+                             "cannot be separated")
+            continue
         scale = values.std() or 1.0
         trial = np.column_stack([*columns, (values - values.mean()) / scale])
         if np.linalg.matrix_rank(trial, tol=1e-6 * np.sqrt(len(data))) == trial.shape[1]:

@@ -83,7 +83,7 @@ def operating_window(x, passed, *, setting: str = "x", target: float = 0.9,
     starts = np.searchsorted(x, edges, side="left")
     stops = np.searchsorted(x, edges, side="right")
     passes = np.concatenate([[0], np.cumsum(ok)])
-    best = None
+    best: tuple[int, float, int, int] | None = None
     for i, start in enumerate(starts):
         stop = stops[i:]
         n = stop - start
@@ -99,10 +99,10 @@ def operating_window(x, passed, *, setting: str = "x", target: float = 0.9,
     if best is None:
         raise NotEnoughData(f"no range of {min_n} or more substrates reaches the target "
                             f"{target:.0%}", field=setting)
-    _, _, start, stop = best
-    inside_n, inside_pass = stop - start, int(ok[start:stop].sum())
+    _, _, first, end = best
+    inside_n, inside_pass = end - first, int(ok[first:end].sum())
     outside_n = x.size - inside_n
     outside = (wilson_pass_rate(int(ok.sum()) - inside_pass, outside_n)
                if outside_n else None)
-    return OperatingWindow(setting, float(x[start]), float(x[stop - 1]),
+    return OperatingWindow(setting, float(x[first]), float(x[end - 1]),
                            wilson_pass_rate(inside_pass, inside_n), outside, target)

@@ -11,14 +11,51 @@ from __future__ import annotations
 from collections.abc import Iterable, Sequence
 from datetime import date
 
+from django.db.models import Exists, F, OuterRef, Q, QuerySet
+
 from inventory.models import Substrate
 
 from ..models.raman import QcMeasurement
 
-__all__ = ["qc_measurement_get_latest", "qc_measurements_get_latest"]
+__all__ = ["qc_measurement_get_latest", "qc_measurements_current", "qc_measurements_get_latest",
+           "qc_measurements_standing"]
 
 # Per-point data a list or a verdict never shows; a detail read asks for it with ``fields``.
 _HEAVY_FIELDS = ("point_values", "ef_inputs")
+
+
+def qc_measurements_standing(*, on_date: date | None = None,
+                             analyte_ids: Iterable[int] | QuerySet | None = None,
+                             ) -> QuerySet[QcMeasurement]:
+    """Every QC result that still speaks for its substrate: not voided, measured on or before
+    ``on_date``, with one of ``analyte_ids`` (a list or a subquery) when given."""
+    rows = QcMeasurement.objects.filter(voided_at__isnull=True)
+    if on_date is not None:
+        rows = rows.filter(measured_on__lte=on_date)
+    if analyte_ids is not None:
+        rows = rows.filter(analyte_id__in=analyte_ids)
+    return rows
+
+
+def qc_measurements_current(substrates: QuerySet[Substrate], *,
+                            product_kind: str | None = None, on_date: date | None = None,
+                            analyte_ids: Iterable[int] | QuerySet | None = None,
+                            ) -> QuerySet[QcMeasurement]:
+    """The current QC of every substrate ``substrates`` selects, as one query of any size.
+
+    A standing result (``qc_measurements_standing``) at the substrate's stage (or at
+    ``product_kind``) with no newer standing one at that stage, newer meaning measured later,
+    or the same day and recorded later.  The bulk form for tables: the rule runs in the
+    database, so callers pick their columns with ``values()`` and no id list travels.
+    """
+    standing = qc_measurements_standing(on_date=on_date, analyte_ids=analyte_ids)
+    newer = standing.filter(
+        Q(measured_on__gt=OuterRef("measured_on"))
+        | Q(measured_on=OuterRef("measured_on"), id__gt=OuterRef("id")),
+        substrate_id=OuterRef("substrate_id"), product_kind=OuterRef("product_kind"))
+    return (standing.filter(substrate__in=substrates,
+                            product_kind=product_kind or F("substrate__stage"))
+            .exclude(Exists(newer)))
 
 
 def qc_measurements_get_latest(
@@ -32,27 +69,19 @@ def qc_measurements_get_latest(
     after it; ``analyte_ids`` keeps results with those reference analytes only; ``fields``
     loads only those columns (else everything but the per-point data).
     """
-    kind_of = {s.pk: product_kind or s.stage for s in substrates}
-    if not kind_of:
+    ids = [s.pk for s in substrates]
+    if not ids:
         return {}
-    rows = QcMeasurement.objects.filter(substrate_id__in=list(kind_of),
-                                        product_kind__in=set(kind_of.values()),
-                                        voided_at__isnull=True)
-    if on_date is not None:
-        rows = rows.filter(measured_on__lte=on_date)
-    if analyte_ids is not None:
-        rows = rows.filter(analyte_id__in=list(analyte_ids))
+    rows = qc_measurements_current(
+        Substrate.objects.filter(pk__in=ids), product_kind=product_kind, on_date=on_date,
+        analyte_ids=None if analyte_ids is None else list(analyte_ids))
     if fields:
         rows = rows.only(*fields, "substrate_id", "product_kind")
     else:
         rows = rows.defer(*_HEAVY_FIELDS)
     if select_related:
         rows = rows.select_related(*select_related)
-    newest: dict[int, QcMeasurement] = {}
-    for measurement in rows.order_by("substrate_id", "-measured_on", "-id"):
-        if measurement.product_kind == kind_of[measurement.substrate_id]:
-            newest.setdefault(measurement.substrate_id, measurement)
-    return newest
+    return {measurement.substrate_id: measurement for measurement in rows}
 
 
 def qc_measurement_get_latest(substrate: Substrate, *, product_kind: str | None = None,

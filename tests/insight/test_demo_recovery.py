@@ -41,14 +41,13 @@ def test_report_recovers_the_planted_optimum_ageing_and_bad_lot(demo):
     ageing = effects["colloid_age_at_use_d"]
     assert ageing.ci_low <= PLANTED["colloid_ageing_log10_per_day"] <= ageing.ci_high
     assert ageing.ci_high < 0
-    # The curvature in h/D is found (its whole interval below zero) and near the planted
-    # value.  Not "the 95 % interval holds the planted value": for one fixed noise draw that
-    # fails one time in twenty by design; the demo's draw gives -7.2 (CI -7.9 to -6.5)
-    # against -8 planted, which the closing note of this change records for follow-up.
+    # The curvature in h/D: the planted value inside its 95 % interval (fixed seed).  Charge
+    # density, a curved function of h/D on one sphere size, is left out of the fit: in it,
+    # its bend took part of the curvature (-7.2, CI -7.9 to -6.5).
     curvature = effects[curvature_column("height_over_diameter")]
-    assert curvature.ci_high < 0
-    assert abs(curvature.estimate + PLANTED["curvature_per_unit2"]) \
-        <= 0.15 * PLANTED["curvature_per_unit2"]
+    assert curvature.ci_low <= -PLANTED["curvature_per_unit2"] <= curvature.ci_high
+    assert "charge_density_mC_per_cm2" not in effects
+    assert fit.omitted["charge_density_mC_per_cm2"].startswith("not enough data: a monotone")
     # Linker immersion time was varied with no effect: its interval holds zero.
     immersion = effects["linker_immersion_h"]
     assert immersion.ci_low <= 0 <= immersion.ci_high

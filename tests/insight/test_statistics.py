@@ -65,6 +65,17 @@ def test_mixed_model_names_a_setting_that_never_varies():
     assert fit.omitted["Evit_constant"].startswith("not enough data")
 
 
+def test_mixed_model_leaves_out_a_setting_computed_from_another_by_a_curve():
+    # A cubic of Time (as charge density is of h/D) is Time again: left out and named, so
+    # the fit is the published one above (statsmodels documentation, dietox: Time 6.943).
+    data = _dietox().assign(Time_cubed=lambda f: f["Time"] ** 3 + f["Time"])
+    fit = mixed_effects(data, outcome="Weight", settings=["Time", "Time_cubed"], group="Pig")
+    assert [e.setting for e in fit.effects] == ["Time"]
+    assert fit.effects[0].estimate == pytest.approx(6.943, abs=5e-4)
+    assert fit.omitted["Time_cubed"] == ("not enough data: a monotone function of Time here, "
+                                         "cannot be separated")
+
+
 def test_mixed_model_refuses_too_few_substrates_instead_of_a_number():
     small = _dietox().head(15)  # two pigs' worth: fewer than 10 per coefficient and 3 groups
     with pytest.raises(NotEnoughData, match="^not enough data"):
