@@ -6,11 +6,13 @@ Run from the repository root::
     .venv/bin/python benchmarks/sheet_import.py --db postgres
 
 Each run uses its own database (SQLite ``benchmarks/out/sheet_import.sqlite3``, PostgreSQL
-``sersledger_sheet_bench``), dropped and migrated first; the lab's database is never
-touched.  The sheet is an invented xlsx of sphere lots (the kind with the most rows in a
-lab's sheets) built with openpyxl.  Reference in the same run: the same rows written by
-calling ``sphere_lot_receive`` in a plain loop (no sheet, no savepoints), so the report can
-say how much of the time is the importer and how much the services every row goes through.
+``sersledger_sheet_bench`` or ``--pg-database``), dropped and migrated first; the lab's
+database is never touched. The sheet is an invented xlsx of sphere lots (the kind with the
+most rows in a lab's sheets) built with openpyxl. Reference in the same run: the same rows
+written by calling ``sphere_lot_receive`` in a plain loop (no sheet, no savepoints), so the
+report can say how much of the time is the importer and how much the services every row goes
+through; and the same loop with Django's own constraint validation (a query per CHECK
+constraint), the way every record was validated before, as the before/after reference.
 Wall and CPU seconds and /proc/loadavg before and after go to
 ``benchmarks/out/sheet-import-<db>.json``.
 """
@@ -35,7 +37,7 @@ HEADER = ["Code or your ID", "Material", "Nominal diameter (nm)", "Size CV (%)",
           "Supplier", "Supplier lot number", "Received on", "Volume (mL)"]
 
 
-def configure(db: str) -> None:
+def configure(db: str, pg_database: str = PG_DATABASE) -> None:
     sys.path.insert(0, str(ROOT))
     OUT_DIR.mkdir(parents=True, exist_ok=True)
     if db == "sqlite":
@@ -45,9 +47,9 @@ def configure(db: str) -> None:
         import psycopg
 
         with psycopg.connect(f"{PG_SERVER}/postgres", autocommit=True) as connection:
-            connection.execute(f"DROP DATABASE IF EXISTS {PG_DATABASE}")
-            connection.execute(f"CREATE DATABASE {PG_DATABASE}")
-        os.environ["DATABASE_URL"] = f"{PG_SERVER}/{PG_DATABASE}"
+            connection.execute(f"DROP DATABASE IF EXISTS {pg_database}")
+            connection.execute(f"CREATE DATABASE {pg_database}")
+        os.environ["DATABASE_URL"] = f"{PG_SERVER}/{pg_database}"
     os.environ["DJANGO_SETTINGS_MODULE"] = "sersledger.settings.test"
     import django
 
@@ -102,13 +104,29 @@ def reference_loop(rows: int) -> None:
         transaction.set_rollback(True)
 
 
+def django_validation_loop(rows: int) -> None:
+    """The reference loop with Django's own constraint validation (one SELECT per CHECK
+    constraint per record), as the services validated before the sheet-import speed work."""
+    from unittest import mock
+
+    from inventory.services import _common
+
+    def by_query(record, *, exclude):
+        record.validate_constraints(exclude=exclude)
+
+    with mock.patch.object(_common, "validate_constraints", by_query):
+        reference_loop(rows)
+
+
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--db", choices=("sqlite", "postgres"), required=True)
     parser.add_argument("--rows", type=int, default=10_000)
     parser.add_argument("--reference-rows", type=int, default=2_000)
+    parser.add_argument("--pg-database", default=PG_DATABASE,
+                        help="PostgreSQL database to drop and fill (default %(default)s)")
     args = parser.parse_args()
-    configure(args.db)
+    configure(args.db, args.pg_database)
     from exchange.importer import import_sheet
 
     result = {"db": args.db, "rows": args.rows, "loadavg_before": loadavg()}
@@ -117,6 +135,9 @@ def main() -> None:
     _, wall, cpu = timed(lambda: reference_loop(args.reference_rows))
     result["reference_ms_per_row"] = {"wall": 1000 * wall / args.reference_rows,
                                       "cpu": 1000 * cpu / args.reference_rows}
+    _, wall, cpu = timed(lambda: django_validation_loop(args.reference_rows))
+    result["django_validation_ms_per_row"] = {"wall": 1000 * wall / args.reference_rows,
+                                              "cpu": 1000 * cpu / args.reference_rows}
     for label, commit in (("dry_run", False), ("import", True)):
         report, wall, cpu = timed(lambda c=commit: import_sheet(
             kind="sphere_lots", content=content, file_name="bench.xlsx", actor=None, commit=c))

@@ -18,7 +18,7 @@ from decimal import Decimal
 from django.core.exceptions import PermissionDenied, ValidationError
 from django.db import transaction
 
-from inventory.codes import RecordNotFound, record_get
+from inventory.codes import RecordNotFound, codes_in_blocks, record_get
 from inventory.errors import refusal
 from inventory.roles import MAKER, require_role
 from inventory.services import amendable_fields, record_amend
@@ -396,7 +396,7 @@ def import_sheet(*, kind: str, content: bytes, file_name: str, actor, commit: bo
                                       "missing_column"))
         return report
     ctx = ImportContext(spec, actor, file_name=file_name, sha256=digest)
-    with transaction.atomic():
+    with transaction.atomic(), codes_in_blocks():
         for row in sheet.rows:
             _apply_row(spec, row, plans, ctx, report)
         if commit and report.ok:

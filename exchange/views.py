@@ -1,17 +1,14 @@
 """Pages: upload a sheet -> dry-run report (map unknown columns once) -> confirm; template
 and sheet downloads per kind; the notifications page; the calendar feed behind its secret.
 
-Thin: every write is one service call (exchange.importer.import_sheet, exchange.services).
+Thin: every write is one service call (exchange.uploads, exchange.services).
 """
 
 from __future__ import annotations
 
-import hashlib
-
 from django.contrib import messages
 from django.contrib.auth.decorators import login_required
 from django.core.exceptions import PermissionDenied, ValidationError
-from django.core.files.base import ContentFile
 from django.http import Http404, HttpResponse
 from django.shortcuts import get_object_or_404, redirect, render
 from django.utils import timezone
@@ -19,10 +16,9 @@ from django.views.decorators.http import require_POST
 
 from inventory.roles import MAKER, user_has_role
 
-from . import services
+from . import services, uploads
 from .calendar_feed import calendar_for
 from .exporting import CSV_CONTENT_TYPE, XLSX_CONTENT_TYPE, kind_sheet, kind_template
-from .importer import import_sheet
 from .kinds import KINDS, normalise
 from .models import DigestPreference, SheetUpload
 from .reminders import reminders_for
@@ -74,16 +70,6 @@ def sheet_download(request, kind: str, file_format: str):
                      else b"", kind, file_format)
 
 
-def _run(request, upload: SheetUpload, *, commit: bool, mapping=None):
-    upload.file.open("rb")
-    try:
-        content = upload.file.read()
-    finally:
-        upload.file.close()
-    return import_sheet(kind=upload.kind, content=content, file_name=upload.file_name,
-                        actor=request.user, commit=commit, mapping=mapping)
-
-
 def _report_page(request, upload, report, *, status=200):
     spec = KINDS[upload.kind]
     return render(request, "exchange/report.html", {
@@ -106,17 +92,13 @@ def upload(request):
         return index(request, errors=[f"{sheet.name} is {sheet.size / 2**20:.1f} MB; the limit "
                                       f"is {max_bytes() // 2**20} MB."], status=400,
                      chosen_kind=kind)
-    content = sheet.read()
-    stored = SheetUpload(kind=kind, file_name=sheet.name, uploaded_by=request.user,
-                         sha256=hashlib.sha256(content).hexdigest())
     try:
-        report = import_sheet(kind=kind, content=content, file_name=sheet.name,
-                              actor=request.user, commit=False)
+        stored, report = uploads.sheet_upload_check(actor=request.user, kind=kind,
+                                                    file_name=sheet.name, content=sheet.read())
     except ValidationError as error:
         return index(request, errors=_errors_of(error), status=400, chosen_kind=kind)
     except PermissionDenied as error:
         return index(request, errors=[str(error)], status=403, chosen_kind=kind)
-    stored.file.save(f"{stored.sha256}.upload", ContentFile(content), save=True)
     return _report_page(request, stored, report)
 
 
@@ -133,7 +115,7 @@ def save_mapping(request, upload_id: int):
                if key.startswith("map:")}
     try:
         services.column_mapping_save(actor=request.user, kind=stored.kind, mapping=mapping)
-        report = _run(request, stored, commit=False)
+        report = uploads.sheet_upload_recheck(actor=request.user, upload=stored)
     except ValidationError as error:
         return index(request, errors=_errors_of(error), status=400, chosen_kind=stored.kind)
     return _report_page(request, stored, report)
@@ -144,12 +126,11 @@ def save_mapping(request, upload_id: int):
 def confirm(request, upload_id: int):
     stored = _own_upload(request, upload_id)
     try:
-        report = _run(request, stored, commit=True)
+        report = uploads.sheet_upload_confirm(actor=request.user, upload=stored)
     except ValidationError as error:
         return index(request, errors=_errors_of(error), status=400, chosen_kind=stored.kind)
     if not report.committed:
         return _report_page(request, stored, report, status=400)
-    SheetUpload.objects.filter(pk=stored.pk).update(confirmed_at=timezone.now())
     return render(request, "exchange/done.html", {"upload": stored, "report": report,
                                                   "kind": KINDS[stored.kind]})
 

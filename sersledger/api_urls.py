@@ -7,6 +7,7 @@ routes and none knows another's.
 from django.urls import include, path
 from rest_framework.routers import DefaultRouter
 
+from exchange import api as exchange_api
 from insight import api_urls as insight_api
 from inventory.api import reports
 from inventory.api import urls as inventory_api
@@ -22,4 +23,5 @@ for prefix, viewset in ROUTES:
     reports.DETAIL_ROUTES[viewset.queryset.model._meta.model_name] = prefix
 
 urlpatterns = [*inventory_api.urlpatterns, *insight_api.urlpatterns, *qc_api.urlpatterns,
+               *exchange_api.urlpatterns,
                path("", include(router.urls))]

@@ -9,7 +9,7 @@ from pathlib import PurePosixPath
 
 from django.conf import settings
 from django.contrib.auth.models import AbstractBaseUser
-from django.core.exceptions import ValidationError
+from django.core.exceptions import NON_FIELD_ERRORS, ValidationError
 from django.db.models import FileField, Model
 from django.utils import timezone
 
@@ -28,6 +28,7 @@ from ..models import (
 )
 from ..models.ranges import PastDate
 from ..shelf_life import refresh_expiry
+from ._constraints import validate_constraints
 
 User = AbstractBaseUser
 
@@ -92,11 +93,26 @@ def _check_fields(record: Model) -> None:
 
 
 def _full_clean(record: Model) -> None:
-    """``full_clean``, with a violated constraint reported under the field it guards."""
+    """``full_clean``, with a violated constraint reported under the field it guards.
+
+    The CHECK constraints made from the kind's ``RANGES`` table are checked here in Python
+    (``_check_ranges``: the same table, stricter) and simple ones evaluated in Python
+    (``_constraints``) instead of by one ``SELECT`` each; the database still enforces all of
+    them on insert.
+    """
+    _check_ranges(record)
+    errors: dict = {}
     try:
-        record.full_clean()
+        record.full_clean(validate_constraints=False)
     except ValidationError as error:
-        raise constraints_refusal(record, error) from None
+        errors = error.update_error_dict(errors)
+    exclude = {name for name in errors if name != NON_FIELD_ERRORS}
+    try:
+        validate_constraints(record, exclude=exclude)
+    except ValidationError as error:
+        errors = error.update_error_dict(errors)
+    if errors:
+        raise constraints_refusal(record, ValidationError(errors)) from None
 
 
 def _validate(record: Model) -> None:

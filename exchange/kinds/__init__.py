@@ -1,0 +1,57 @@
+"""The record kinds a lab keeps in sheets: their columns (with units) and how a row is written.
+
+A row is written by the service the pages and API call (inventory.services, qc.services,
+exchange.services), so every check of those services applies to every row.  Split by
+topic: ``base`` (what a kind declares), ``materials``, ``fabrication``, ``qc_results``.
+"""
+
+from __future__ import annotations
+
+import math
+from datetime import date
+
+from django.db.models import Model
+
+from .base import Column, Kind, header_variants, normalise
+from .fabrication import (
+    DEPOSITION_RUNS,
+    LINKER_LAYERS,
+    PARTICLE_ATTACHMENTS,
+    SUBSTRATES,
+    TEMPLATES,
+)
+from .materials import COLLOID_BATCHES, REAGENT_LOTS, SPHERE_LOTS
+from .qc_results import QC_RESULTS
+
+__all__ = ["KINDS", "Column", "Kind", "example_row", "export_rows", "export_value",
+           "header_variants", "normalise"]
+
+KINDS: dict[str, Kind] = {kind.name: kind for kind in (
+    SPHERE_LOTS, REAGENT_LOTS, COLLOID_BATCHES, TEMPLATES, DEPOSITION_RUNS, SUBSTRATES,
+    LINKER_LAYERS, PARTICLE_ATTACHMENTS, QC_RESULTS)}
+
+
+def export_value(kind: Kind, column: Column, record) -> object:
+    """The value a record shows in ``column`` of its kind's sheet (codes for references)."""
+    if column.field in kind.export_value:
+        value = kind.export_value[column.field](record)
+    else:
+        value = getattr(record, column.field, None)
+    if isinstance(value, Model):
+        value = getattr(value, "code", str(value))
+    if isinstance(value, list):
+        value = "; ".join(value)
+    if isinstance(value, float) and not math.isfinite(value):
+        value = None
+    return value
+
+
+def export_rows(kind: Kind) -> list[list]:
+    records = (kind.export_queryset() if kind.export_queryset
+               else kind.model.objects.order_by("id"))
+    return [[export_value(kind, column, record) for column in kind.columns] for record in records]
+
+
+def example_row(kind: Kind) -> list:
+    return [column.example.isoformat() if isinstance(column.example, date) else column.example
+            for column in kind.columns]
