@@ -28,7 +28,7 @@ from inventory.errors import refusal
 from inventory.roles import MAKER, VIEWER
 
 from . import uploads
-from .importer import ImportReport
+from .import_report import ImportReport
 from .kinds import KINDS
 from .models import SheetUpload
 from .sheets import max_bytes

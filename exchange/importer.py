@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import hashlib
 import math
-from dataclasses import asdict, dataclass, field
+from dataclasses import dataclass
 from datetime import date
 from decimal import Decimal
 
@@ -32,6 +32,7 @@ from .cells import (
     read_text,
     split_header,
 )
+from .import_report import ImportReport, RowError, RowOutcome
 from .kinds import KINDS, Column, Kind, header_variants, normalise
 from .models import ColumnMapping, SheetKey
 from .provenance import sheet_source, source_text
@@ -39,47 +40,6 @@ from .sheets import Sheet, read_sheet
 
 MAX_ROWS = 50_000
 REF_SEPARATORS = (";", ",", "\n")
-
-
-@dataclass
-class RowError:
-    row: int
-    column: str
-    reason: str
-    code: str
-
-
-@dataclass
-class RowOutcome:
-    row: int
-    action: str  # create | change | unchanged
-    key: str
-    code: str = ""
-    changes: list[str] = field(default_factory=list)
-
-
-@dataclass
-class ImportReport:
-    kind: str
-    file_name: str
-    sha256: str
-    rows: int = 0
-    created: list[RowOutcome] = field(default_factory=list)
-    changed: list[RowOutcome] = field(default_factory=list)
-    unchanged: list[RowOutcome] = field(default_factory=list)
-    errors: list[RowError] = field(default_factory=list)
-    columns: dict[str, str] = field(default_factory=dict)  # header -> field
-    unmapped_headers: list[str] = field(default_factory=list)
-    committed: bool = False
-
-    @property
-    def ok(self) -> bool:
-        return not self.errors
-
-    def as_dict(self) -> dict:
-        data = asdict(self)
-        data["ok"] = self.ok
-        return data
 
 
 @dataclass(frozen=True)

@@ -18,7 +18,8 @@ from django.utils import timezone
 
 from inventory.errors import refusal
 
-from .importer import ImportReport, import_sheet
+from .import_report import ImportReport
+from .importer import import_sheet
 from .models import SheetUpload
 
 
