@@ -47,10 +47,18 @@ def _limits(record, limit_breaches: list[dict]) -> str:
     metal = record.batch.metal
     if not record.limit_set_id:
         return f"no colloid limits are set for {metal}, so it was not judged against limits"
+    which = colloid_limits_version_words(record)
     if limit_breaches:
-        return f"outside the lab's {metal} colloid limits: " + "; ".join(
+        return f"outside the lab's {metal} colloid limits ({which}): " + "; ".join(
             breach["message"] for breach in limit_breaches)
-    return f"within the lab's {metal} colloid limits"
+    return f"within the lab's {metal} colloid limits ({which})"
+
+
+def colloid_limits_version_words(record) -> str:
+    """Which version of the colloid limits judged a spectrum (stored at import)."""
+    if record.limits_version is None:
+        return "the version then current, not recorded"
+    return f"version {record.limits_version}; later changes do not re-judge it"
 
 
 def uvvis_verdict(record, *, lead: str = "") -> Verdict:

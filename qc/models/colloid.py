@@ -214,6 +214,9 @@ class UvVisRecord(CodedRecord):
     # Evaluation against the lab's limits at import time.
     limit_set = models.ForeignKey(ColloidLimitSet, null=True, blank=True,
                                   on_delete=models.PROTECT, related_name="records")
+    # The version of that limit set which judged this spectrum: the set is changed in place
+    # (a new version each time), and a later change never re-judges an earlier spectrum.
+    limits_version = models.PositiveIntegerField(null=True, blank=True, editable=False)
     limits_note = models.CharField(max_length=300, blank=True)
     breaches = models.JSONField(default=list, blank=True)
     # Why the figures no longer follow from the batch as it is now recorded (its metal was

@@ -44,6 +44,7 @@ def evaluate_limits(record: UvVisRecord, limits: ColloidLimitSet | None) -> list
         record.limits_note = f"no colloid limits are set for {record.batch.metal}; not evaluated"
         return []
     record.limit_set = limits
+    record.limits_version = limits.version
     notes, breaches = [], []
     if record.peak_nm is None:
         record.limits_note = "no plasmon maximum: peak, width and aggregation limits not evaluated"

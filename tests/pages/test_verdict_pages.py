@@ -115,13 +115,33 @@ def test_gold_colloid_within_limits_names_its_calibration_and_concentration(
     assert text_after_heading(batch_page).startswith("WITHIN LIMITS")
 
 
+def test_a_colloid_limits_change_judges_later_spectra_and_leaves_earlier_verdicts(
+        chain, viewer, administrator, client):
+    # Issue 18: a limits change applies to measurements made after it; earlier verdicts keep
+    # the limits they were judged by, and their pages say which version that was.
+    colloid_limits(administrator, "Au", peak_min_nm=500, peak_max_nm=560)
+    batch = gold_batch(chain)
+    earlier = uvvis(chain, batch, "au_batch_day00.csv", dilution=2.0, days_ago=2)
+    # The new window excludes this gold colloid's peak (fixtures/uvvis/README.txt: 20 nm,
+    # unchanged on day 14; its plasmon peak lies near 520 nm, common practice for citrate
+    # gold).
+    colloid_limits(administrator, "Au", peak_min_nm=540, peak_max_nm=560)
+    later = uvvis(chain, batch, "au_batch_day14.csv", dilution=2.0, days_ago=1)
+    _page, sentence = _opened(client, viewer, earlier.code, "WITHIN LIMITS")
+    assert "within the lab's Au colloid limits (version 1; later changes" in sentence
+    _page, sentence = _opened(client, viewer, later.code, "OUT OF LIMITS")
+    assert "outside the lab's Au colloid limits (version 2; later changes" in sentence
+    assert "is outside 540–560 nm" in sentence
+
+
 def test_silver_colloid_outside_the_peak_window_is_flagged_and_not_to_be_used(
         chain, viewer, administrator, client):
     colloid_limits(administrator, "Ag", peak_min_nm=420, peak_max_nm=450)
     record = uvvis(chain, chain.batch(days_ago=3), "ag_stable_day00.csv", dilution=10.0)
     page, sentence = _opened(client, viewer, record.code, "OUT OF LIMITS")
     # README: 40 nm silver, whose plasmon peak lies near 400 nm (below the 420 nm window).
-    assert "outside the lab's Ag colloid limits: peak at" in sentence
+    assert "outside the lab's Ag colloid limits (version 1; later changes do not " \
+        "re-judge it): peak at" in sentence
     assert "is outside 420–450 nm" in sentence
     assert "the calibration gives no uncertainty" in sentence  # the silver table has none
     assert re.search(r"open flag FLG-\d+", sentence)
