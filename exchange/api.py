@@ -61,7 +61,9 @@ class SheetImportIn(serializers.Serializer):
 
 
 REPORT_SCHEMA = inline_serializer("SheetImportReport", {
-    "upload": serializers.IntegerField(allow_null=True),
+    "upload": serializers.IntegerField(
+        allow_null=True, help_text="The stored upload to confirm or abandon; null when the "
+        "sheet had row errors (nothing kept). Unit: none (the id of the upload)."),
     "confirm_url": serializers.CharField(allow_null=True),
     "report": serializers.DictField()})
 

@@ -61,6 +61,7 @@ _DIMENSIONLESS = {
     "aggregation_index": "dimensionless",
     "aggregation_index_max": "dimensionless",
     "aggregation_index_change": "dimensionless",
+    "limits_version": "count (version of the limit set that judged the record)",
     "snr": "dimensionless (signal-to-noise ratio)",
     "min_snr": "dimensionless (signal-to-noise ratio)",
     "min_map_points": "count (points of a map)",

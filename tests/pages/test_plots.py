@@ -11,6 +11,7 @@ from django.urls import reverse
 from bench import plots
 from qc.analysis import control_charts, qc_pipeline
 from qc.analysis.readers import read_map
+from qc.selectors.raman import ControlChartSeries
 
 from .conftest import MAP_SETTINGS, fixture_bytes
 
@@ -43,10 +44,12 @@ def test_heatmap_grid_has_the_dimensions_of_the_analysed_map():
 def test_control_chart_marks_the_points_the_run_rules_flag():
     values = [5.0, 5.1, 4.9, 5.0, 5.05, 4.95, 5.0, 6.5]  # last point far outside 3 sigma
     chart = control_charts.individuals_chart(values)
-    series = type("Series", (), {"chart": chart, "label": "log10 EF",
-                                 "product_kind": "particles"})()
+    series = ControlChartSeries(
+        product_kind="particles", metric="log10_enhancement_factor", label="log10 EF",
+        codes=tuple(f"QC-{n:05d}" for n in range(len(values))), measured_on=(),
+        substrate_codes=(), chart=chart)
     figure = plots.control_chart_figure(series)
-    ringed = figure.axes[0].collections[0].get_offsets()
+    ringed = figure.axes[0].collections[-1].get_offsets()  # drawn last, over the points
     flagged = sorted({v.index for v in chart.violations})
     assert flagged and [int(x) - 1 for x, _ in ringed] == flagged
     assert _is_svg(plots.figure_bytes(figure))
