@@ -3,9 +3,11 @@
 from __future__ import annotations
 
 from datetime import date, timedelta
+from pathlib import Path
 
 import pytest
 
+CHRONOAMPEROGRAMS = Path(__file__).resolve().parents[1] / "fixtures" / "chronoamperograms"
 TODAY = date(2026, 6, 15)
 
 
@@ -105,9 +107,9 @@ class ChainBuilder:
                                          received_on=self.day(days_ago), **extra)
         return self.release(lot) if release else lot
 
-    def spheres(self, days_ago=30, release=True):
+    def spheres(self, days_ago=30, release=True, diameter_nm=500):
         lot = self.s.sphere_lot_receive(actor=self.maker, material="polystyrene",
-                                        nominal_diameter_nm=500, solids_percent_w_v=10,
+                                        nominal_diameter_nm=diameter_nm, solids_percent_w_v=10,
                                         received_on=self.day(days_ago))
         return self.release(lot) if release else lot
 
@@ -124,6 +126,19 @@ class ChainBuilder:
             bath_lot=bath or self.lot("plating_bath"), metal="Au", electrons_per_atom=1,
             mode="potentiostatic", electrode_area_cm2=1.0, made_on=self.day(days_ago),
             pieces=pieces)
+
+    def measured_run(self, *, diameter_nm=600, filename="au_600nm_hd050.csv", target=0.50,
+                     pieces=1):
+        """A run through ``diameter_nm`` spheres, planned for h/D ``target``, with an invented
+        chronoamperogram of fixtures/chronoamperograms attached (its README gives the h/D
+        each file was made for, through 600 nm spheres on 1.00 cm²)."""
+        path = CHRONOAMPEROGRAMS / filename
+        return self.s.deposition_run_record(
+            actor=self.maker, template=self.template(spheres=self.spheres(
+                diameter_nm=diameter_nm)), bath_lot=self.lot("plating_bath"), metal="Au",
+            electrons_per_atom=1, mode="potentiostatic", electrode_area_cm2=1.0,
+            made_on=self.day(9), pieces=pieces, target_height_over_diameter=target,
+            chronoamperogram=(path.name, path.read_bytes()))
 
     def batch(self, days_ago=5, release=True, sources=()):
         batch = self.s.nanoparticle_batch_make(actor=self.maker, metal="Ag",

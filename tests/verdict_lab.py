@@ -17,16 +17,7 @@ FIXTURES = Path(__file__).resolve().parents[1] / "fixtures"
 
 def run_600nm(chain, filename: str, *, target: float = 0.50, pieces: int = 1):
     """A run through 600 nm spheres planned for h/D ``target``, with ``filename`` attached."""
-    spheres = chain.s.sphere_lot_receive(actor=chain.maker, material="polystyrene",
-                                         nominal_diameter_nm=600, solids_percent_w_v=10,
-                                         received_on=chain.day(30))
-    template = chain.template(spheres=chain.release(spheres))
-    run, _pieces = chain.s.deposition_run_record(
-        actor=chain.maker, template=template, bath_lot=chain.lot("plating_bath"), metal="Au",
-        electrons_per_atom=1, mode="potentiostatic", electrode_area_cm2=1.0,
-        made_on=chain.day(9), pieces=pieces, target_height_over_diameter=target,
-        chronoamperogram=(filename,
-                          (FIXTURES / "chronoamperograms" / filename).read_bytes()))
+    run, _pieces = chain.measured_run(filename=filename, target=target, pieces=pieces)
     return run
 
 

@@ -19,7 +19,7 @@ from inventory.selectors import record_get_history
 from inventory.services import record_amend
 from qc.models import UvVisRecord
 from qc.services import uvvis_record_import
-from tests.api.conftest import CHRONO, UVVIS, client_for
+from tests.api.conftest import UVVIS, client_for
 
 pytestmark = pytest.mark.django_db
 
@@ -27,18 +27,7 @@ pytestmark = pytest.mark.django_db
 @pytest.fixture
 def run_500nm(chain):
     """A run whose sphere lot was recorded as 500 nm, with the file made for 600 nm."""
-    spheres = chain.release(chain.s.sphere_lot_receive(
-        actor=chain.maker, material="polystyrene", nominal_diameter_nm=500,
-        solids_percent_w_v=10, received_on=chain.day(30)))
-    run, pieces = chain.s.deposition_run_record(
-        actor=chain.maker, template=chain.template(spheres=spheres),
-        bath_lot=chain.lot("plating_bath"), metal="Au", electrons_per_atom=1,
-        mode="potentiostatic", electrode_area_cm2=1.0, made_on=chain.day(9), pieces=1,
-        target_height_over_diameter=0.5)
-    path = CHRONO / "au_600nm_hd050.csv"
-    chain.s.deposition_run_attach_chronoamperogram(actor=chain.maker, run=run,
-                                                   filename=path.name,
-                                                   content=path.read_bytes())
+    run, _pieces = chain.measured_run(diameter_nm=500)
     return DepositionRun.objects.get(pk=run.pk)
 
 

@@ -3,7 +3,6 @@
 import json
 import math
 from io import StringIO
-from pathlib import Path
 
 import pytest
 from django.core.management import CommandError, call_command
@@ -11,8 +10,6 @@ from django.core.management import CommandError, call_command
 from qc.models import QcMeasurement
 
 from .test_raman_services import GOOD_MAP, QcWorld, map_file, map_heights
-
-CHRONOAMPEROGRAMS = Path(__file__).resolve().parents[2] / "fixtures" / "chronoamperograms"
 
 
 @pytest.fixture
@@ -34,18 +31,7 @@ def _run(world, substrate, path, *extra, area=("--assume-surface-area-one",)):
 def _film_from_a_measured_run(chain):
     """A film piece whose run has 600 nm spheres and a chronoamperogram (invented fixture
     made for h/D = 0.5, fixtures/chronoamperograms/README.md), so its film height is known."""
-    spheres = chain.release(chain.s.sphere_lot_receive(
-        actor=chain.maker, material="polystyrene", nominal_diameter_nm=600,
-        solids_percent_w_v=10, received_on=chain.day(30)))
-    run, pieces = chain.s.deposition_run_record(
-        actor=chain.maker, template=chain.template(spheres=spheres),
-        bath_lot=chain.lot("plating_bath"), metal="Au", electrons_per_atom=1,
-        mode="potentiostatic", electrode_area_cm2=1.0, made_on=chain.day(9), pieces=1,
-        target_height_over_diameter=0.5)
-    path = CHRONOAMPEROGRAMS / "au_600nm_hd050.csv"
-    chain.s.deposition_run_attach_chronoamperogram(actor=chain.maker, run=run,
-                                                   filename=path.name,
-                                                   content=path.read_bytes())
+    run, pieces = chain.measured_run()
     run.refresh_from_db()
     return run, chain.release(pieces[0])
 
