@@ -64,25 +64,26 @@ def drift_by(frame: pd.DataFrame, *, key: str, metric: str, order: str = "made_o
         Only the groups that drift, most signals first.
     """
     data = frame[[key, metric, order, label]].dropna().sort_values([order, label])
-    keys = data[key].astype(str).to_numpy()
+    # Integer codes, not strings: every round compares each group with every point.
+    codes, names = pd.factorize(data[key].astype(str), sort=False)
     values = data[metric].to_numpy(dtype=float)
     labels = data[label].to_numpy()
+    sizes = np.bincount(codes, minlength=len(names))
     drifting: dict[str, DriftFinding] = {}
-    candidates = list(dict.fromkeys(keys))
+    candidates = list(range(len(names)))
     while candidates:  # a drifting group must not set the others' baseline: drop the worst
-        clean = ~np.isin(keys, list(drifting))
-        signalling = [finding for value in candidates
-                      if (finding := _judge(value, keys == value, clean & (keys != value),
-                                            values, labels, metric,
-                                            max(min_signals,
-                                                min_signal_fraction * (keys == value).sum()),
+        clean = ~np.isin(codes, [names.get_loc(k) for k in drifting])
+        signalling = [finding for code in candidates
+                      if (finding := _judge(str(names[code]), codes == code,
+                                            clean & (codes != code), values, labels, metric,
+                                            max(min_signals, min_signal_fraction * sizes[code]),
                                             min_n))]
         if not signalling:
             break
         worst = max(signalling, key=lambda f: abs(f.mean - f.centre) / f.sigma)
         drifting[worst.key] = worst
         # Only groups that signalled are judged again: the baseline got cleaner for them.
-        candidates = [f.key for f in signalling if f.key != worst.key]
+        candidates = [names.get_loc(f.key) for f in signalling if f.key != worst.key]
     return sorted(drifting.values(), key=lambda f: (-f.signals, f.key))
 
 
@@ -94,8 +95,9 @@ def _judge(value: str, own: np.ndarray, rest: np.ndarray, values: np.ndarray,
     n_own, n_rest = int(own.sum()), int(rest.sum())
     if n_own < min_n or n_rest < min_n:
         return None
-    chart = individuals_chart(np.concatenate([values[rest], values[own]]), baseline_count=n_rest)
-    signals = [v for v in chart.violations if v.index >= n_rest]
+    chart = individuals_chart(np.concatenate([values[rest], values[own]]), baseline_count=n_rest,
+                              report_from=n_rest)
+    signals = chart.violations
     if len(signals) < min_signals or chart.sigma <= 0:
         return None
     own_labels = labels[own]

@@ -7,7 +7,6 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-from numpy.lib.stride_tricks import sliding_window_view
 
 from ._validation import as_finite_1d
 from .errors import AnalysisInputError
@@ -93,6 +92,7 @@ def individuals_chart(
     *,
     baseline_count: int | None = None,
     rules: tuple[str, ...] = WESTERN_ELECTRIC_RULES + ("moving-range-above-limit",),
+    report_from: int = 0,
 ) -> IndividualsChart:
     """Individuals and moving-range chart with run rules.
 
@@ -108,6 +108,9 @@ def individuals_chart(
         (phase I); all points by default. Rules are applied to every point.
     rules : tuple of str
         Rule codes from :data:`ALL_RULES`.
+    report_from : int
+        Report only the signals completed at this index or later (a phase II chart whose
+        baseline signals are of no interest); the limits and rules are unchanged.
 
     Returns
     -------
@@ -132,11 +135,14 @@ def individuals_chart(
     unknown = [r for r in rules if r not in RULE_SENTENCES]
     if unknown:
         raise AnalysisInputError(f"unknown rule code(s) {unknown}", field="rules")
+    if not 0 <= report_from <= data.size:
+        raise AnalysisInputError(f"must be between 0 and {data.size}", field="report_from")
     moving = np.abs(np.diff(data))
     centre = float(data[:count].mean())
     mr_bar = float(moving[: count - 1].mean())
     sigma = mr_bar / D2_SPAN2
-    chart_violations = _run_rules(data, moving, centre, sigma, D4_SPAN2 * mr_bar, rules)
+    chart_violations = _run_rules(data, moving, centre, sigma, D4_SPAN2 * mr_bar, rules,
+                                  report_from)
     return IndividualsChart(
         values=data,
         moving_ranges=moving,
@@ -152,14 +158,19 @@ def individuals_chart(
 
 
 def _window_hits(flags: np.ndarray, length: int, needed: int) -> np.ndarray:
-    """Indices i where at least ``needed`` of flags[i-length+1 .. i] are true."""
+    """Indices i where at least ``needed`` of flags[i-length+1 .. i] are true.
+
+    Window counts as differences of one running sum: O(n) whatever the window length (the
+    drift check charts thousands of points for every lot)."""
     if flags.size < length:
         return np.array([], dtype=int)
-    counts = sliding_window_view(flags, length).sum(axis=1)
+    running = np.concatenate(([0], np.cumsum(flags, dtype=np.int64)))
+    counts = running[length:] - running[:-length]
     return np.flatnonzero(counts >= needed) + length - 1
 
 
-def _run_rules(data, moving, centre, sigma, mr_limit, rules) -> tuple[RuleViolation, ...]:
+def _run_rules(data, moving, centre, sigma, mr_limit, rules,
+               report_from: int = 0) -> tuple[RuleViolation, ...]:
     z = (data - centre) / sigma if sigma > 0 else np.zeros_like(data)
     hits: dict[str, np.ndarray] = {}
     if "beyond-3-sigma" in rules:
@@ -189,7 +200,7 @@ def _run_rules(data, moving, centre, sigma, mr_limit, rules) -> tuple[RuleViolat
         hits["moving-range-above-limit"] = np.flatnonzero(moving > mr_limit) + 1
     found = [
         RuleViolation(int(i), rule, RULE_SENTENCES[rule])
-        for rule in rules
-        for i in hits.get(rule, ())
+        for rule, at in hits.items()
+        for i in at[at >= report_from]
     ]
     return tuple(sorted(found, key=lambda v: (v.index, ALL_RULES.index(v.rule))))

@@ -78,3 +78,60 @@ def test_bad_inputs_name_the_field():
     with pytest.raises(AnalysisInputError) as err:
         cc.individuals_chart([1.0, 2.0, 3.0], rules=("no-such-rule",))
     assert err.value.field == "rules"
+
+
+def _literal_rule_hits(z: np.ndarray, data: np.ndarray) -> dict[str, set[int]]:
+    """Each windowed rule written out point by point, as the handbooks state it (Western
+    Electric Statistical Quality Control Handbook, 1956; Nelson, J. Qual. Technol. 1984,
+    16, 237): the index of the point that completes the pattern."""
+    n, hits = len(z), {}
+    steps = np.sign(np.diff(data))
+
+    def one_side(window, limit, needed):
+        return (window > limit).sum() >= needed or (window < -limit).sum() >= needed
+
+    hits["two-of-three-past-2-sigma"] = {i for i in range(2, n) if one_side(z[i - 2:i + 1], 2, 2)}
+    hits["four-of-five-past-1-sigma"] = {i for i in range(4, n) if one_side(z[i - 4:i + 1], 1, 4)}
+    hits["eight-on-one-side"] = {
+        i for i in range(7, n) if (z[i - 7:i + 1] > 0).all() or (z[i - 7:i + 1] < 0).all()}
+    hits["six-steady-trend"] = {
+        i for i in range(5, n)
+        if (steps[i - 5:i] > 0).all() or (steps[i - 5:i] < 0).all()}
+    hits["fourteen-alternating"] = {
+        i for i in range(13, n)
+        if all(steps[j] * steps[j - 1] < 0 for j in range(i - 12, i))}
+    hits["fifteen-near-centre"] = {i for i in range(14, n) if (abs(z[i - 14:i + 1]) < 1).all()}
+    hits["eight-avoiding-centre"] = {i for i in range(7, n) if (abs(z[i - 7:i + 1]) > 1).all()}
+    return hits
+
+
+@pytest.mark.parametrize("seed", [3, 11, 29])
+def test_windowed_rules_match_their_literal_definitions(seed):
+    # Random walks with drifts and jumps trip every windowed rule somewhere; the chart's
+    # vectorised counting must flag exactly the points the literal definitions flag.
+    rng = np.random.default_rng(seed)
+    data = np.cumsum(rng.normal(0, 1, 400)) * 0.2 + rng.normal(0, 1, 400)
+    data[::37] += 4.0
+    data[200:216:2] += 0.5  # an alternating stretch
+    chart = cc.individuals_chart(data, baseline_count=100, rules=cc.ALL_RULES)
+    z = (data - chart.centre) / chart.sigma
+    found: dict[str, set[int]] = {}
+    for v in chart.violations:
+        found.setdefault(v.rule, set()).add(v.index)
+    for rule, expected in _literal_rule_hits(z, data).items():
+        assert found.get(rule, set()) == expected, rule
+    assert sum(map(len, _literal_rule_hits(z, data).values())) > 50  # the data do trip rules
+
+
+def test_report_from_keeps_only_the_later_signals_with_the_same_limits():
+    rng = np.random.default_rng(5)
+    data = np.concatenate([rng.normal(0, 1, 60), rng.normal(1.5, 1, 40)])
+    data[10] = 9.0  # a signal in the baseline, not to be reported
+    full = cc.individuals_chart(data, baseline_count=60)
+    later = cc.individuals_chart(data, baseline_count=60, report_from=60)
+    assert (later.centre, later.sigma) == (full.centre, full.sigma)
+    assert later.violations == tuple(v for v in full.violations if v.index >= 60)
+    assert any(v.index == 10 for v in full.violations) and later.violations
+    with pytest.raises(AnalysisInputError) as error:
+        cc.individuals_chart(data, report_from=101)
+    assert error.value.field == "report_from"
