@@ -14,6 +14,7 @@ DEPOSITION_LABELS = {
     "target_height_over_diameter": "planned h/D (film height ÷ sphere diameter)",
     "chronoamperogram_sha256": "chronoamperogram SHA-256",
     "chronoamperogram_name": "chronoamperogram file", "charge_C": "deposition charge",
+    "charge_source": "deposition charge from",
     "metal_volume_cm3": "metal volume", "equivalent_thickness_nm": "equivalent flat thickness",
     "film_height_nm": "film height h", "height_over_diameter":
     "h/D (film height ÷ sphere diameter)", "sphere_diameter_nm": "sphere diameter D",

@@ -53,15 +53,18 @@ def deposition_result(run: DepositionRun) -> Result:
         ("Sphere diameter D", fmt(run.sphere_diameter_nm, ".0f", "nm")),
         ("Equivalent flat thickness", fmt(run.equivalent_thickness_nm, ".1f", "nm")),
     ]
-    if not run.chronoamperogram_sha256:
-        result.notes.append("No chronoamperogram was attached, so charge and film height are "
-                            "not known yet.")
-    else:
-        where = ("in a close-packed sphere template" if run.template_id else
-                 "as a flat film (no template: the height is the equivalent flat thickness)")
+    where = ("in a close-packed sphere template" if run.template_id else
+             "as a flat film (no template: the height is the equivalent flat thickness)")
+    if run.charge_C is None:
+        result.notes.append("No chronoamperogram was attached and no charge entered, so charge "
+                            "and film height are not known yet.")
+    elif run.chronoamperogram_sha256:
         result.notes.append(f"From {run.chronoamperogram_name} (SHA-256 "
                             f"{run.chronoamperogram_sha256}); Faraday's law {where} "
                             "(inventory.physics.electrodeposition).")
+    else:
+        result.notes.append(f"From the charge {run.get_charge_source_display().lower()}; "
+                            f"Faraday's law {where} (inventory.physics.electrodeposition).")
     if check.tolerance is not None:
         result.notes.append(f"Tolerance ±{check.tolerance.max_abs_deviation_height_over_diameter:g}"
                             f" on h/D, from {check.tolerance.source}.")

@@ -44,6 +44,7 @@ def _key_figures(run, check) -> list[KeyFigure]:
     u_height, u_ratio = _height_u(run)
     rows = [
         ("Charge passed", with_u(run.charge_C, None, "C")),
+        ("Charge from", run.get_charge_source_display()),
         ("Charge planned for the target h/D", with_u(check.target_charge_C, None, "C")),
         (f"Film height h ({HEIGHT_U_NOTE})", with_u(run.film_height_nm, u_height, "nm")),
     ]
@@ -73,17 +74,19 @@ def _pieces(run) -> str:
 
 def deposition_verdict(run) -> Verdict:
     """ON TARGET / OFF TARGET / NOT PLANNED / NO FILE YET, in one sentence, then next steps."""
-    if not run.chronoamperogram_sha256:
-        return Verdict(None, "NO FILE YET", f"{run.code} has no chronoamperogram yet, so its "
-                       "charge and film height are not known.",
+    if run.charge_C is None:
+        return Verdict(None, "NO FILE YET", f"{run.code} has no chronoamperogram and no "
+                       "entered charge yet, so its charge and film height are not known.",
                        "Next: attach the run's chronoamperogram (its record on the Make "
-                       "page's deposition step, or the import command).")
+                       "page's deposition step, or the import command), or enter the charge "
+                       "the potentiostat reported.")
     check = deposition_run_check_target(run)
     rows = _key_figures(run, check)
     if run.stale_reason:
         return stale_verdict(run.code, run.stale_reason, figures_=rows, next_step=(
             "Next: do not rely on these figures; attach the chronoamperogram again or amend "
-            "the input back."))
+            "the input back." if run.chronoamperogram_sha256 else
+            "Next: do not rely on these figures; amend the input back."))
     flags = flag_words(check.open_flag_codes)
     sentence = f"{run.code} deposited {_produced(run)}"
     if check.within_tolerance is None:

@@ -3,6 +3,8 @@ linker layers and particle attachments."""
 
 from __future__ import annotations
 
+import math
+
 from inventory import services
 from inventory.errors import refusal
 from inventory.models import (
@@ -54,8 +56,21 @@ def _run(values, ctx):
         pieces=values["pieces"], template=values.get("template"),
         base_slide_lot=values.get("base_slide_lot"), notes=text_of(values, "notes"),
         **pick(values, "current_efficiency", "setpoint_potential_V", "setpoint_current_mA",
-                "target_height_over_diameter", "piece_area_cm2"))
+                "target_height_over_diameter", "piece_area_cm2", "charge_C"))
     return run
+
+
+def _run_charge(run, values, ctx, created: bool) -> list[str]:
+    """A row naming an existing run gives it the sheet's charge through the service that
+    records an entered charge, which refuses to overrule a charge integrated from a file."""
+    charge = values.get("charge_C")
+    if created or charge is None or (
+            run.charge_C is not None and math.isclose(run.charge_C, charge, rel_tol=1e-9)):
+        return []
+    before = "—" if run.charge_C is None else f"{run.charge_C:g}"
+    services.deposition_run_enter_charge(actor=ctx.actor, run=run, charge_C=charge,
+                                         reason=ctx.source)
+    return [f"{DEPOSITION_RUNS.column('charge_C').header}: {before} → {charge:g}"]
 
 
 def _first_piece_area(run):
@@ -88,6 +103,11 @@ DEPOSITION_RUNS = Kind(
                aliases=("area", "electrode area"), example=1.0),
         Column("target_height_over_diameter", "Target h/D", "number",
                aliases=("target h d", "target height over diameter"), example=0.5),
+        # The charge the potentiostat reported (mC and the like converted); the film height
+        # and h/D follow from it.  Compared by _run_charge, not by the generic amendment.
+        Column("charge_C", "Charge", "number", "C", compare=False,
+               aliases=("deposition charge", "charge passed", "total charge",
+                        "integrated charge", "charge deposited", "q"), example=0.112),
         Column("made_on", "Made on", "date", required=True, aliases=("date", "made"),
                example="2026-02-02"),
         Column("pieces", "Pieces cut", "integer", required=True, compare=False,
@@ -95,8 +115,8 @@ DEPOSITION_RUNS = Kind(
         Column("piece_area_cm2", "Piece area", "number", "cm²", compare=False,
                aliases=("piece area",), example=0.25),
         NOTES,
-    ), _run, export_value={"pieces": lambda r: r.substrates.count(),
-                           "piece_area_cm2": _first_piece_area})
+    ), _run, extra=_run_charge, export_value={"pieces": lambda r: r.substrates.count(),
+                                              "piece_area_cm2": _first_piece_area})
 
 
 def _piece_number(label: str) -> str:

@@ -137,6 +137,10 @@ class DepositionRunRecord(ServiceSerializer):
     setpoint_current_mA = FiniteFloat(required=False, allow_null=True)
     target_height_over_diameter = FiniteFloat(required=False, allow_null=True)
     piece_area_cm2 = FiniteFloat(required=False, allow_null=True)
+    charge_C = FiniteFloat(required=False, allow_null=True,
+                           help_text="Deposition charge as the potentiostat reported it, when "
+                                     "no chronoamperogram is attached; the film height and "
+                                     "h/D are worked out from it.")
     storage = RecordRef(StorageLocation, required=False, allow_null=True)
     notes = serializers.CharField(required=False, allow_blank=True)
 

@@ -50,8 +50,12 @@ StorageLocationOut = s.read_serializer(StorageLocation)
 ReagentLotOut = s.read_serializer(ReagentLot)
 SphereLotOut = s.read_serializer(SphereLot)
 TemplateOut = s.read_serializer(TemplateAssembly)
-DepositionRunOut = s.read_serializer(DepositionRun, substrates=drf_serializers.SlugRelatedField(
-    slug_field="code", many=True, read_only=True, help_text="Codes of the pieces cut from it."))
+DepositionRunOut = s.read_serializer(
+    DepositionRun, substrates=drf_serializers.SlugRelatedField(
+        slug_field="code", many=True, read_only=True, help_text="Codes of the pieces cut from it."),
+    charge_source_label=drf_serializers.CharField(
+        source="get_charge_source_display", read_only=True,
+        help_text="Where charge_C came from, in words (blank while the run has no charge)."))
 SubstrateOut = s.read_serializer(Substrate)
 
 

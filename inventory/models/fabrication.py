@@ -25,6 +25,8 @@ DEPOSITION_RUN_RANGES = {
     "setpoint_potential_V": Span(-10, 10, "V"), "setpoint_current_mA": Span(-1e4, 1e4, "mA"),
     "electrode_area_cm2": AREA_CM2, "target_height_over_diameter": positive(10),
     "made_on": PastDate(),
+    # Integrated from the file, or entered as the potentiostat reported it (the service
+    # then refuses it as typed): 1e5 C is about a mole of electrons, far past any bench run.
     "charge_C": positive(1e5, "C", computed=True),
     "metal_volume_cm3": positive(1e3, "cm³", computed=True),
     "equivalent_thickness_nm": positive(1e9, "nm", computed=True),
@@ -84,14 +86,17 @@ class TemplateAssembly(LifecycleRecord):
 class DepositionRun(CodedRecord):
     """Electrodeposition through a template (or onto a flat base slide).
 
-    The chronoamperogram is kept as uploaded; charge, film height and h/D are computed from
-    it by inventory.physics (inventory.services.deposition) and stored beside the lab's target,
-    with the sphere diameter, sign convention and time window that produced them.
+    The chronoamperogram is kept as uploaded and the charge integrated from it; a lab without
+    the curve enters the charge its potentiostat reported (``charge_source`` says which).
+    Film height and h/D are computed from the charge by inventory.physics
+    (inventory.services.deposition) and stored beside the lab's target, with the sphere
+    diameter, sign convention and time window that produced them.
     """
 
     CODE_PREFIX = "DEP"
-    # The area is re-read into the figures from the kept file when amended.
-    AMENDABLE_FIELDS = frozenset(("electrode_area_cm2", "notes"))
+    # Inputs of the figures: amending one works them out again from the kept charge.
+    AMENDABLE_FIELDS = frozenset(("electrode_area_cm2", "current_efficiency",
+                                  "electrons_per_atom", "notes"))
     RANGES = DEPOSITION_RUN_RANGES
 
     class Mode(models.TextChoices):
@@ -102,6 +107,10 @@ class DepositionRun(CodedRecord):
         NEGATIVE = "negative", "Cathodic current negative (IUPAC)"
         POSITIVE = "positive", "Cathodic current positive"
         AUTO = "auto", "Sign of the net charge taken as cathodic"
+
+    class ChargeSource(models.TextChoices):
+        CHRONOAMPEROGRAM = "chronoamperogram", "Integrated from the attached chronoamperogram"
+        ENTERED = "entered", "Entered as the potentiostat reported it (no file)"
 
     template = models.ForeignKey("inventory.TemplateAssembly", null=True, blank=True,
                                  on_delete=models.PROTECT, related_name="deposition_runs")
@@ -122,6 +131,9 @@ class DepositionRun(CodedRecord):
     chronoamperogram_sha256 = models.CharField(max_length=64, blank=True)
     chronoamperogram_name = models.CharField(max_length=255, blank=True)
     charge_C = models.FloatField(null=True, blank=True, editable=False)
+    charge_source = models.CharField(
+        max_length=16, choices=ChargeSource.choices, blank=True, editable=False,
+        help_text="Where the charge came from (blank while the run has none).")
     metal_volume_cm3 = models.FloatField(null=True, blank=True, editable=False)
     equivalent_thickness_nm = models.FloatField(null=True, blank=True, editable=False)
     film_height_nm = models.FloatField(null=True, blank=True, editable=False)
@@ -147,6 +159,14 @@ class DepositionRun(CodedRecord):
                                    condition=Q(charge_start_s__isnull=True)
                                    | Q(charge_end_s__isnull=True)
                                    | Q(charge_end_s__gt=F("charge_start_s"))),
+            # A charge says where it came from; an entered one has no file, a file's has its
+            # digest.
+            models.CheckConstraint(
+                name="deposition_charge_source",
+                condition=Q(charge_C__isnull=True, charge_source="")
+                | Q(charge_C__isnull=False, charge_source="entered", chronoamperogram_sha256="")
+                | (Q(charge_C__isnull=False, charge_source="chronoamperogram")
+                   & ~Q(chronoamperogram_sha256=""))),
             models.CheckConstraint(name="deposition_template_or_flat_slide",
                                    condition=Q(template__isnull=False)
                                    | Q(base_slide_lot__isnull=False)),

@@ -5,15 +5,17 @@ The chain is: chronoamperogram → deposition charge Q (integral of current,
 V = nM/ρ → equivalent flat thickness t = V/A (:mod:`~inventory.physics.faraday`) → film
 height h inside the close-packed template, slab minus sphere caps
 (:mod:`~inventory.physics.template_geometry`) → h/D.  Each step is one public function;
-:func:`analyse_deposition` runs the whole chain for the services layer and
-:func:`charge_for_target_height_C` runs it backwards.  Runs withdrawn in steps are in
+:func:`analyse_deposition` runs the whole chain for the services layer: it integrates the
+curve, then hands the charge to :func:`figures_from_charge`, which is also the whole path of a
+charge entered as the potentiostat reported it (no curve).
+:func:`charge_for_target_height_C` runs the chain backwards.  Runs withdrawn in steps are in
 :mod:`~inventory.physics.graded_deposition`.  The names of those modules are re-exported
 here, so ``inventory.physics.electrodeposition`` stays the one import for the services.
 """
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 from .deposition_charge import (
     CathodicSign,
@@ -41,8 +43,8 @@ __all__ = [
     "COMMON_ELECTRONS_PER_ATOM", "HANDBOOK_DENSITY_G_CM3", "SUPPORTED_METALS", "CathodicSign",
     "DepositionAnalysis", "GradedDeposition", "MetalProperties", "analyse_deposition",
     "charge_for_target_height_C", "deposition_charge_C", "equivalent_thickness_nm",
-    "faraday_constant_C_mol", "film_height_nm", "graded_deposition", "metal_amount_mol",
-    "metal_properties", "metal_volume_cm3",
+    "faraday_constant_C_mol", "figures_from_charge", "film_height_nm", "graded_deposition",
+    "metal_amount_mol", "metal_properties", "metal_volume_cm3",
 ]
 
 
@@ -107,9 +109,11 @@ class DepositionAnalysis:
         Height inside the template (equal to the thickness for a flat film), nm.
     height_over_diameter : float or None
         h/D; None for a flat film.
-    metal, electrons_per_atom, current_efficiency, electrode_area_cm2, sphere_diameter_nm,
+    metal, electrons_per_atom, current_efficiency, electrode_area_cm2, sphere_diameter_nm
+        The inputs.
     start_s, end_s, cathodic_sign
-        The inputs (bounds as actually used, s).
+        The integration window as actually used, s, and the sign convention of the curve;
+        None when the charge was given rather than integrated.
     molar_mass_g_mol, density_g_cm3, faraday_constant_C_mol : float
         The constants used.
     """
@@ -125,9 +129,9 @@ class DepositionAnalysis:
     current_efficiency: float
     electrode_area_cm2: float
     sphere_diameter_nm: float | None
-    start_s: float
-    end_s: float
-    cathodic_sign: str
+    start_s: float | None
+    end_s: float | None
+    cathodic_sign: str | None
     molar_mass_g_mol: float
     density_g_cm3: float
     faraday_constant_C_mol: float
@@ -184,6 +188,49 @@ def analyse_deposition(
     charge = deposition_charge_C(
         time_s, current_A, start_s=low, end_s=high, cathodic_sign=cathodic_sign
     )
+    figures = figures_from_charge(
+        charge_C=charge, electrode_area_cm2=electrode_area_cm2, metal=metal,
+        electrons_per_atom=electrons_per_atom, current_efficiency=current_efficiency,
+        sphere_diameter_nm=sphere_diameter_nm,
+    )
+    return replace(figures, start_s=low, end_s=high, cathodic_sign=cathodic_sign)
+
+
+def figures_from_charge(
+    *,
+    charge_C: float,
+    electrode_area_cm2: float,
+    metal: str,
+    electrons_per_atom: int,
+    current_efficiency: float = 1.0,
+    sphere_diameter_nm: float | None = None,
+) -> DepositionAnalysis:
+    """Metal amount, volume, equivalent thickness and film height from a deposition charge.
+
+    Chains :func:`metal_amount_mol` (Faraday's law), :func:`metal_volume_cm3`,
+    :func:`equivalent_thickness_nm` and :func:`film_height_nm`.  The figures of a charge
+    integrated from a curve (:func:`analyse_deposition`) and of the same charge as reported
+    by the instrument are the same by construction.
+
+    Parameters
+    ----------
+    charge_C : float
+        Cathodic deposition charge Q, C; finite and > 0.
+    electrode_area_cm2, metal, electrons_per_atom, current_efficiency, sphere_diameter_nm
+        As for :func:`analyse_deposition`.
+
+    Returns
+    -------
+    DepositionAnalysis
+        With ``start_s``, ``end_s`` and ``cathodic_sign`` None (no curve was integrated).
+
+    References
+    ----------
+    Faraday's law: A. J. Bard and L. R. Faulkner, *Electrochemical Methods: Fundamentals and
+    Applications*, 2nd ed., Wiley, New York, 2001, ch. 1; geometry as in
+    :func:`film_height_nm`.
+    """
+    charge = require_positive(charge_C, field="charge_C")
     amount = metal_amount_mol(
         charge, electrons_per_atom=electrons_per_atom, current_efficiency=current_efficiency
     )
@@ -204,9 +251,9 @@ def analyse_deposition(
         current_efficiency=float(current_efficiency),
         electrode_area_cm2=float(electrode_area_cm2),
         sphere_diameter_nm=diameter,
-        start_s=low,
-        end_s=high,
-        cathodic_sign=cathodic_sign,
+        start_s=None,
+        end_s=None,
+        cathodic_sign=None,
         molar_mass_g_mol=properties.molar_mass_g_mol,
         density_g_cm3=properties.density_g_cm3,
         faraday_constant_C_mol=faraday_constant_C_mol(),

@@ -15,6 +15,7 @@ from .audit import (
 from .deposition import (
     deposition_run_attach_chronoamperogram,
     deposition_run_check_target,
+    deposition_run_enter_charge,
     deposition_run_target_charge_C,
     deposition_tolerance_in_force,
     deposition_tolerance_set,
@@ -42,6 +43,7 @@ __all__ = [
     "dataset_register",
     "deposition_run_attach_chronoamperogram",
     "deposition_run_check_target",
+    "deposition_run_enter_charge",
     "deposition_run_record",
     "deposition_run_target_charge_C",
     "deposition_tolerance_in_force",

@@ -2,9 +2,10 @@
 
 ``record_amend`` calls ``refresh_derived`` with the fields that changed.  Inventory's own
 figures are recomputed here: a template's close-packed figures from its sphere lot and slide
-area, and a deposition run's charge, film height and h/D from its kept chronoamperogram
-(``deposition_run_recompute``, which marks them stale with the reason if the file cannot be
-read).  Other apps add theirs through ``settings.SERSLEDGER_AMEND_HOOKS`` (dotted paths of
+area, and a deposition run's film height and h/D from its charge: integrated again from its
+kept chronoamperogram, or the charge entered without a file (``deposition_run_recompute``,
+which marks them stale with the reason if the file cannot be read).  Other apps add theirs
+through ``settings.SERSLEDGER_AMEND_HOOKS`` (dotted paths of
 ``hook(*, actor, record, changed, why)``; qc marks a colloid's UV-vis figures stale when its
 metal changes), so inventory never imports them.  A deposition run whose geometry was worked
 out again (or marked stale) is passed to the hooks too, with its changed figures, so qc can
@@ -31,7 +32,7 @@ from .fabrication import _template_figures
 SPHERE_LOT_TEMPLATE_INPUTS = frozenset({"nominal_diameter_nm", "material", "solids_percent_w_v"})
 SPHERE_LOT_RUN_INPUTS = frozenset({"nominal_diameter_nm"})
 TEMPLATE_INPUTS = frozenset({"slide_area_cm2"})
-RUN_INPUTS = frozenset({"electrode_area_cm2"})
+RUN_INPUTS = frozenset({"electrode_area_cm2", "current_efficiency", "electrons_per_atom"})
 # A run's figures that other apps derive theirs from; "stale_reason" says they are not current.
 RUN_GEOMETRY = ("sphere_diameter_nm", "film_height_nm", "height_over_diameter", "stale_reason")
 

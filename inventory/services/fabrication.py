@@ -41,7 +41,13 @@ from ._common import (
     _save_changed,
     _save_new,
 )
-from .deposition import _apply, _prepare, _require_known_metal
+from .deposition import (
+    _apply,
+    _prepare,
+    apply_entered_charge,
+    prepare_entered_charge,
+)
+from .deposition_target import _require_known_metal
 from .lifecycle import record_transition
 
 
@@ -116,7 +122,7 @@ def deposition_run_record(
     notes: str = "", chronoamperogram: tuple[str, bytes] | None = None,
     time_unit: str | None = None, current_unit: str | None = None,
     cathodic_sign: str = DepositionRun.CathodicSign.NEGATIVE, start_s: float | None = None,
-    end_s: float | None = None,
+    end_s: float | None = None, charge_C: float | None = None,
 ) -> tuple[DepositionRun, list[Substrate]]:
     """Record a deposition run and the ``pieces`` substrates it was cut into, atomically.
 
@@ -125,7 +131,10 @@ def deposition_run_record(
     in the same transaction (see
     :func:`inventory.services.deposition.deposition_run_attach_chronoamperogram`, whose
     options the remaining keywords are): a bad file saves no run, no piece, and leaves the
-    template unconsumed.
+    template unconsumed.  Without the file, ``charge_C`` is the charge the potentiostat
+    reported, and the same figures follow from it
+    (:func:`inventory.services.deposition.deposition_run_enter_charge`); a run takes one or
+    the other, and a bad charge saves nothing either.
     """
     require_role(actor, MAKER, action="Recording a deposition run")
     _require_not_future(made_on, field="made_on")
@@ -133,6 +142,9 @@ def deposition_run_record(
     if (template is None) == (base_slide_lot is None):
         raise refusal("template", "Give either a template or, for a flat film, a base "
                                            "slide lot (not both).", "template_or_flat")
+    if chronoamperogram is not None and charge_C is not None:
+        raise refusal("charge_C", "Give the chronoamperogram or the charge, not both: the "
+                                  "file's charge is integrated from it.", "charge_or_file")
     if not 1 <= pieces <= 200:
         raise refusal("pieces", "A run yields between 1 and 200 pieces.", "pieces_range")
     _require_kind(bath_lot, [ReagentKind.PLATING_BATH], field="bath_lot")
@@ -165,6 +177,7 @@ def deposition_run_record(
     prepared = None if chronoamperogram is None else _prepare(
         run, *chronoamperogram, time_unit=time_unit, current_unit=current_unit,
         cathodic_sign=cathodic_sign, start_s=start_s, end_s=end_s)
+    entered = None if charge_C is None else prepare_entered_charge(run, charge_C)
     run = _save_new(run, actor=actor)
     _link(inputs, run, used_on=made_on, actor=actor)
     if template is not None:
@@ -183,6 +196,9 @@ def deposition_run_record(
     ])
     if prepared is not None:
         _apply(run, prepared, actor=actor)
+    if entered is not None:
+        apply_entered_charge(run, entered, actor=actor,
+                             reason=f"charge entered as reported: {entered.charge_C:.6g} C")
     return run, substrates
 
 

@@ -379,12 +379,12 @@ def test_inventory_migrations_match_the_models():
 
 
 def test_a_failure_after_the_file_is_written_removes_the_file(chain, run, monkeypatch):
-    from inventory.services import deposition
+    from inventory.services import deposition_target
 
     def refuse(*args, **kwargs):
         raise ValidationError({"message": "refused for the test"})
 
-    monkeypatch.setattr(deposition, "flag_raise", refuse)
+    monkeypatch.setattr(deposition_target, "flag_raise", refuse)  # the flag comes after
     storage = DepositionRun._meta.get_field("chronoamperogram").storage
     before = _counts()
     name = f"orphan-check-{run.code}.txt"  # a name no other test stores

@@ -134,6 +134,27 @@ def test_bad_chronoamperogram_saves_no_run_no_piece_and_keeps_the_template(maker
     assert template.status == Status.RELEASED
 
 
+def test_a_run_without_its_file_takes_the_reported_charge(maker_client, chain):
+    template, bath = template_600nm(chain), chain.lot("plating_bath")
+    # The charge that gives h/D = 0.50 through 600 nm spheres on 1.00 cm² with Au(I), as
+    # fixtures/chronoamperograms/generate.py works it out from the geometry (its README).
+    response = maker_client.post(reverse("make:deposition"),
+                                 _deposition_data(chain, template, bath, charge_C="0.11226"))
+    run = DepositionRun.objects.get()
+    assert run.charge_source == "entered" and run.height_over_diameter == pytest.approx(
+        0.50, abs=0.01)
+    page = maker_client.get(response["Location"]).content.decode()
+    assert "ON TARGET" in page and "the charge entered as the potentiostat reported" in page
+
+
+def test_a_bad_charge_is_shown_beside_its_field_and_saves_nothing(maker_client, chain):
+    template, bath = template_600nm(chain), chain.lot("plating_bath")
+    response = maker_client.post(reverse("make:deposition"),
+                                 _deposition_data(chain, template, bath, charge_C="-0.1"))
+    assert any("outside the allowed range" in error for error in _errors(response, "charge_C"))
+    assert not DepositionRun.objects.exists() and not Substrate.objects.exists()
+
+
 def test_unusable_bath_is_not_offered_and_is_refused(maker_client, chain):
     template = template_600nm(chain)
     waiting = chain.lot("plating_bath", release=False)

@@ -73,7 +73,8 @@ class TemplateAssemblyForm(MakeForm):
 
 
 class DepositionRunForm(MakeForm):
-    """One run and all its pieces in one submission, optionally with its chronoamperogram."""
+    """One run and all its pieces in one submission, optionally with its chronoamperogram
+    (or, without one, the charge the potentiostat reported)."""
 
     last_used: ClassVar[dict[str, str]] = {"bath_lot": "plating bath"}
 
@@ -102,6 +103,8 @@ class DepositionRunForm(MakeForm):
                                       initial=DepositionRun.CathodicSign.NEGATIVE)
     start_s = number("Charge counted from (s)", required=False)
     end_s = number("Charge counted until (s)", required=False)
+    charge_C = number("Or, without the file: the charge the potentiostat reported (C)",
+                      required=False)
     notes = notes_field()
 
     field_order = ("template", "base_slide_lot", "bath_lot", "metal", "electrons_per_atom",
