@@ -190,6 +190,8 @@ def measure(sizes: list[int]) -> dict:
             "points": points, "file_mb": path.stat().st_size / 1e6, "upload_s": upload_s,
             "worker_s": done["seconds"], "result_s": upload_s + done["seconds"],
             "parse_s": done["parse_s"], "analyse_s": done["analyse_s"],
+            "parse_cpu_s": done["parse_cpu_s"], "analyse_cpu_s": done["analyse_cpu_s"],
+            "worker_cpu_s": done["cpu_s"], "worker_loadavg": done["loadavg"],
             "peak_above_start_mib": done["peak_mib"] - done["baseline_mib"],
             "worker_peak_rss_mib": done["peak_mib"], "traced_mib": done["traced_mib"],
             "array_float64_mib": array_mib, "api_detail_ms": detail_ms,
