@@ -102,25 +102,28 @@ def work(pending_id: str) -> None:
     read_spectrum_or_map(_map_file(400).read_bytes(), "map_400.csv")
     baseline_kib = _status_kib("VmRSS")
     reported = background._report
-    stages: dict[str, float] = {}
+    stages: dict[str, tuple[float, float]] = {}
 
-    def timed_report(pending, worker, state):  # when each stage begins
-        stages[state] = time.perf_counter()
+    def timed_report(pending, worker, state):  # when each stage begins (wall, CPU)
+        stages[state] = (time.perf_counter(), time.process_time())
         reported(pending, worker, state)
 
     background._report = timed_report
     tracemalloc.start()
-    start = time.perf_counter()
+    start, start_cpu = time.perf_counter(), time.process_time()
     code = qc_import_run(pending_id)
-    seconds = time.perf_counter() - start
+    seconds, cpu_s = time.perf_counter() - start, time.process_time() - start_cpu
     traced = tracemalloc.get_traced_memory()[1]
     peak_kib = _status_kib("VmHWM")  # high-water mark; the warm-up maps are far smaller
     usage = resource.getrusage(resource.RUSAGE_SELF)
     print(json.dumps({"code": code, "seconds": seconds, "baseline_mib": baseline_kib / 1024,
                       "peak_mib": peak_kib / 1024, "traced_mib": traced / 2 ** 20,
                       "maxrss_mib": usage.ru_maxrss / 1024,
-                      "parse_s": stages["analysing"] - stages["parsing"],
-                      "analyse_s": stages["judging"] - stages["analysing"]}))
+                      "cpu_s": cpu_s, "loadavg": Path("/proc/loadavg").read_text().split()[:3],
+                      "parse_s": stages["analysing"][0] - stages["parsing"][0],
+                      "analyse_s": stages["judging"][0] - stages["analysing"][0],
+                      "parse_cpu_s": stages["analysing"][1] - stages["parsing"][1],
+                      "analyse_cpu_s": stages["judging"][1] - stages["analysing"][1]}))
 
 
 def _median_ms(call, repeat: int = 7) -> float:
@@ -187,6 +190,8 @@ def measure(sizes: list[int]) -> dict:
             "points": points, "file_mb": path.stat().st_size / 1e6, "upload_s": upload_s,
             "worker_s": done["seconds"], "result_s": upload_s + done["seconds"],
             "parse_s": done["parse_s"], "analyse_s": done["analyse_s"],
+            "parse_cpu_s": done["parse_cpu_s"], "analyse_cpu_s": done["analyse_cpu_s"],
+            "worker_cpu_s": done["cpu_s"], "worker_loadavg": done["loadavg"],
             "peak_above_start_mib": done["peak_mib"] - done["baseline_mib"],
             "worker_peak_rss_mib": done["peak_mib"], "traced_mib": done["traced_mib"],
             "array_float64_mib": array_mib, "api_detail_ms": detail_ms,

@@ -20,6 +20,7 @@ from django.core.management.base import BaseCommand, CommandError
 from inventory.codes import RecordNotFound
 from inventory.errors import refusal_sentences
 from inventory.physics.errors import AnalysisInputError
+from inventory.services.toolkit import RawUpload
 
 __all__ = ["RecordingCommand", "user_for_command"]
 
@@ -76,6 +77,14 @@ class RecordingCommand(BaseCommand):
         """The file's name and bytes, or a refusal naming it."""
         try:
             return Path(path).name, Path(path).read_bytes()
+        except OSError as error:
+            raise CommandError(f"Cannot read {path}: {error.strerror or error}.") from None
+
+    @staticmethod
+    def read_upload(path: str) -> RawUpload:
+        """The file as the services take a big one (on disk, hashed in chunks), or a refusal."""
+        try:
+            return RawUpload.of_path(Path(path).name, path)
         except OSError as error:
             raise CommandError(f"Cannot read {path}: {error.strerror or error}.") from None
 

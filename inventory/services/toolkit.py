@@ -22,8 +22,10 @@ from ._common import _stamp_history as stamp_history
 from ._common import _validate as validate
 from .lifecycle import _transition as transition
 from .lifecycle import lock
+from .uploads import RawUpload, stored_file_on_disk
 
 __all__ = [
+    "RawUpload",
     "User",
     "check_substrates_usable",
     "check_upload",
@@ -37,6 +39,7 @@ __all__ = [
     "save_new",
     "save_setting",
     "stamp_history",
+    "stored_file_on_disk",
     "transition",
     "validate",
 ]

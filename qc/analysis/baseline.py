@@ -12,7 +12,6 @@ import os
 from concurrent.futures import ThreadPoolExecutor
 
 import numpy as np
-from pybaselines import Baseline
 
 from ._validation import (
     all_finite,
@@ -26,6 +25,16 @@ from .pspline_asls import SplineBasis, asls_spline_rows
 #: Baseline stiffness on the wavenumber scale, (cm⁻¹)⁴: λ = 10⁶ at 2 cm⁻¹ spacing, the
 #: spacing of a typical dispersive Raman spectrometer (common practice).
 DEFAULT_STIFFNESS_CM4 = 1.6e7
+
+
+
+def _pybaselines(axis: np.ndarray):
+    """pybaselines' fitter for one spectrum, imported on first use: it loads scipy.signal and
+    scipy.stats (about 30 MiB, 1.4 s), which a worker judging maps (the numba kernel below)
+    never needs."""
+    from pybaselines import Baseline
+
+    return Baseline(axis)
 
 
 def lam_for_spacing(shift_cm1, stiffness_cm4: float = DEFAULT_STIFFNESS_CM4,
@@ -124,7 +133,7 @@ def asls_baseline(
     _check_iteration(lam, max_iter, tol)
     if not 0 < p < 1:
         raise AnalysisInputError(f"must lie strictly between 0 and 1, got {p}", field="p")
-    baseline, params = Baseline(axis).asls(
+    baseline, params = _pybaselines(axis).asls(
         values, lam=lam, p=p, diff_order=diff_order, max_iter=max_iter, tol=tol
     )
     return baseline, params
@@ -169,7 +178,7 @@ def arpls_baseline(
     """
     axis, values = _check_spectrum(shift_cm1, intensity)
     _check_iteration(lam, max_iter, tol)
-    baseline, params = Baseline(axis).arpls(
+    baseline, params = _pybaselines(axis).arpls(
         values, lam=lam, diff_order=diff_order, max_iter=max_iter, tol=tol
     )
     return baseline, params

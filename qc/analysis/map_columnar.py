@@ -6,6 +6,8 @@ for anything unusual, and the line-by-line reader then reads the file or names i
 
 from __future__ import annotations
 
+from pathlib import Path
+
 import numpy as np
 
 from ._validation import all_finite
@@ -19,13 +21,34 @@ from .text_tables import (
 )
 
 _COLUMNS_AT_ONCE = 64  # columnar reader: shifts gathered per pass into the row-major map
+# Arrow's parse blocks: 2 MiB.  Streaming an 82 MB map, Arrow's buffers grew with the block
+# (4 MiB: the parse peaked 15 MiB above the analysis; 1 MiB: a fifth more parse CPU for
+# nothing, the analysis then sets the peak).  Parsed in this thread: on the few shared
+# cores of a lab's worker the thread pool bought little time for more parse memory
+# (benchmarks/REPORT.md, 2026-12-03).
+_BLOCK_BYTES = 2 << 20
+_ARROW_THREADS = False
+# The start of a file on disk searched for the header: 1,000 comment lines and a header of
+# MAX_COLUMNS shifts fit easily; a header beyond it sends the file to the text reader.
+_HEAD_BYTES = 4 << 20
 
 
-def _header_of(raw: bytes) -> tuple[int, str] | None:
+def _head_of(source: bytes | Path) -> tuple[bytes, bool]:
+    """The start of the file and whether it is the whole file."""
+    if isinstance(source, Path):
+        with source.open("rb") as handle:
+            head = handle.read(_HEAD_BYTES + 1)
+        return head[:_HEAD_BYTES], len(head) <= _HEAD_BYTES
+    return source, True
+
+
+def _header_of(raw: bytes, whole: bool = True) -> tuple[int, str] | None:
     """0-based index and text of the first line that is neither blank nor a comment."""
     start = 0
     for index in range(1000):
         end = raw.find(b"\n", start)
+        if end < 0 and not whole:
+            return None  # the line runs past the part read
         line = raw[start:] if end < 0 else raw[start:end]
         text = line.decode("utf-8-sig" if index == 0 else "utf-8", errors="replace").strip()
         if text and not text.startswith(COMMENT_PREFIXES):
@@ -36,22 +59,58 @@ def _header_of(raw: bytes) -> tuple[int, str] | None:
     return None
 
 
-def read_map_wide_columnar(raw: bytes) -> RamanMap | None:
+def _column_into(column, out: np.ndarray) -> None:
+    """Copy a null-free float Arrow array into ``out`` from its data buffer.
+
+    (``to_numpy`` would import pandas, 20 MiB and a quarter of a second, into the worker.)
+    """
+    out[:] = np.frombuffer(column.buffers()[1], dtype=out.dtype, count=len(column),
+                           offset=column.offset * out.itemsize)
+
+
+def _line_count(source: bytes | Path) -> int:
+    """Lines in the file (a last line without its newline counted), read a block at a time."""
+    if isinstance(source, Path):
+        count, last = 0, b"\n"
+        with source.open("rb") as handle:
+            while block := handle.read(_BLOCK_BYTES):
+                count, last = count + block.count(b"\n"), block[-1:]
+        return count + (last != b"\n")
+    return source.count(b"\n") + (not source.endswith(b"\n"))
+
+
+def _batch_into(batch, intensity: np.ndarray, positions: np.ndarray, ascending: bool) -> None:
+    """One parsed block of rows into its rows of the map (shifts made ascending)."""
+    for index in range(2):
+        _column_into(batch.column(index), positions[:, index])
+    columns = batch.columns[2:] if ascending else batch.columns[:1:-1]
+    for first in range(0, len(columns), _COLUMNS_AT_ONCE):
+        group = columns[first:first + _COLUMNS_AT_ONCE]
+        by_shift = np.empty((len(group), batch.num_rows), dtype=np.float32)
+        for row, column in enumerate(group):
+            _column_into(column, by_shift[row])
+        intensity[:, first:first + len(group)] = by_shift.T
+
+
+def read_map_wide_columnar(source: bytes | Path) -> RamanMap | None:
     """The common wide map (one header, comma/tab/semicolon, decimal points) read by columns.
 
-    Apache Arrow's multithreaded CSV reader parses straight into float32 intensities (7
-    significant digits, finer than any detector's counts) without building Python rows,
-    about ten times faster than :func:`numpy.loadtxt` on a 50 MB map and with a fraction of
-    its memory.  Anything unusual (decimal commas, blanks as separator, comments after the
-    header, a bad cell) returns ``None`` so the line-by-line reader names the line at fault.
+    Apache Arrow's CSV reader parses straight into float32 intensities (7 significant
+    digits, finer than any detector's counts) without building Python rows, about ten
+    times faster than :func:`numpy.loadtxt` on a 50 MB map and with a fraction of its
+    memory.  It streams a block at a time into the map, so neither the raw file (a ``Path``
+    is read from disk) nor a whole Arrow table is ever held beside it.  Anything unusual
+    (decimal commas, blanks as separator, comments after the header, a bad cell) returns
+    ``None`` so the line-by-line reader names the line at fault.
     """
     try:
         import pyarrow as arrow  # optional speed-up; the numpy path always works
         from pyarrow import csv as arrow_csv
     except ImportError:
         return None
-    found = _header_of(raw)
-    if found is None or raw.startswith((b"\xff\xfe", b"\xfe\xff")):
+    head, whole = _head_of(source)
+    found = _header_of(head, whole)
+    if found is None or head.startswith((b"\xff\xfe", b"\xfe\xff")):
         return None
     header_index, header_text = found
     delimiter = detect_delimiter(header_text)
@@ -60,45 +119,54 @@ def read_map_wide_columnar(raw: bytes) -> RamanMap | None:
     cells = split_cells(header_text, delimiter)
     if len(cells) < 4 or not all(is_number(c) for c in cells[2:]):
         return None
-    names = [f"c{i}" for i in range(len(cells))]
-    types = {name: arrow.float64() if i < 2 else arrow.float32() for i, name in enumerate(names)}
-    try:
-        table = arrow_csv.read_csv(
-            arrow.py_buffer(raw),
-            read_options=arrow_csv.ReadOptions(skip_rows=header_index + 1, column_names=names,
-                                               block_size=1 << 24),
-            parse_options=arrow_csv.ParseOptions(delimiter=delimiter),
-            convert_options=arrow_csv.ConvertOptions(column_types=types, strings_can_be_null=False,
-                                                     quoted_strings_can_be_null=False))
-    except (arrow.ArrowInvalid, arrow.ArrowNotImplementedError, ValueError):
-        return None
-    if table.num_rows == 0 or any(column.null_count for column in table.columns):
-        return None
     shift = np.array([float(c) for c in cells[2:]])
     if not np.all(np.isfinite(shift)) or np.any(np.diff(shift) == 0) or not (
             np.all(np.diff(shift) > 0) or np.all(np.diff(shift) < 0)):
         return None
-    order = np.arange(shift.size) if shift[1] > shift[0] else np.arange(shift.size)[::-1]
-    # A few columns at a time are gathered (contiguous writes) and turned into their part of
-    # every row, so the map is never held twice over.
-    intensity = np.empty((table.num_rows, shift.size), dtype=np.float32)
-    by_shift = np.empty((_COLUMNS_AT_ONCE, table.num_rows), dtype=np.float32)
-    for first in range(0, shift.size, _COLUMNS_AT_ONCE):
-        sources = order[first:first + _COLUMNS_AT_ONCE]
-        for row, source in enumerate(sources):
-            by_shift[row] = table.column(2 + int(source)).to_numpy()
-        intensity[:, first:first + sources.size] = by_shift[:sources.size].T
-    del by_shift
-    x_um, y_um = table.column(0).to_numpy(), table.column(1).to_numpy()
-    del table
-    if not (all_finite(intensity) and np.isfinite(x_um).all() and np.isfinite(y_um).all()):
+    names = [f"c{i}" for i in range(len(cells))]
+    types = {name: arrow.float64() if i < 2 else arrow.float32() for i, name in enumerate(names)}
+    options = dict(
+        read_options=arrow_csv.ReadOptions(skip_rows=header_index + 1, column_names=names,
+                                           block_size=_BLOCK_BYTES, use_threads=_ARROW_THREADS),
+        parse_options=arrow_csv.ParseOptions(delimiter=delimiter),
+        convert_options=arrow_csv.ConvertOptions(column_types=types, strings_can_be_null=False,
+                                                 quoted_strings_can_be_null=False))
+    # Streamed a block at a time (a file on disk is never read whole) into the one row-major
+    # map, sized by the lines left after the header; no whole Arrow table is ever held.
+    rows_at_most = max(_line_count(source) - header_index, 1)
+    intensity = np.empty((rows_at_most, shift.size), dtype=np.float32)
+    positions = np.empty((rows_at_most, 2))
+    ascending = shift[1] > shift[0]
+    stream = arrow.OSFile(str(source)) if isinstance(source, Path) else arrow.BufferReader(source)
+    rows = 0
+    try:
+        with stream:
+            for batch in arrow_csv.open_csv(stream, **options):
+                if any(column.null_count for column in batch.columns):
+                    return None
+                end = rows + batch.num_rows
+                if end > rows_at_most:
+                    return None
+                _batch_into(batch, intensity[rows:end], positions[rows:end], ascending)
+                rows = end
+    except (arrow.ArrowInvalid, arrow.ArrowNotImplementedError, ValueError):
+        return None
+    finally:
+        # Arrow's allocator keeps freed pages for reuse; give them back, so the analysis
+        # that follows does not stack its arrays on top of the parse's.
+        arrow.default_memory_pool().release_unused()
+    if rows == 0:
+        return None
+    intensity.resize((rows, shift.size), refcheck=False)  # shrinks in place, no copy
+    positions = positions[:rows]
+    if not (all_finite(intensity) and np.isfinite(positions).all()):
         return None
     intensity.setflags(write=False)  # handed to the map as it is, not copied
-    positions = np.column_stack([x_um, y_um])
-    if np.unique(positions, axis=0).shape[0] != positions.shape[0]:
+    if np.unique(positions, axis=0).shape[0] != rows:
         return None
     metadata = {"layout": "wide", "header_lines": 1, "comment_lines": header_index,
                 "delimiter": DELIMITER_NAMES[delimiter], "decimal_comma": False,
                 "intensity_unit": "counts", "reader": "columnar (Apache Arrow), float32"}
-    return RamanMap(x_um, y_um, shift[order], intensity, None, metadata)
+    return RamanMap(positions[:, 0].copy(), positions[:, 1].copy(), np.sort(shift), intensity,
+                    None, metadata)
 

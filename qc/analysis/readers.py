@@ -1,9 +1,11 @@
 """Readers for spectra and Raman maps exported as delimited text, and a dispatcher.
 
 All readers take the file *contents* (``str``, or ``bytes`` decoded as UTF-8 with a
-latin-1 fallback), never a path.  Numbers are parsed a whole block at a time with
-:func:`numpy.loadtxt`; only when that fails does a line-by-line pass run, to name the
-1-based line and the cell at fault in the :class:`~qc.analysis.errors.AnalysisInputError`.
+latin-1 fallback); :func:`read_spectrum_or_map` also takes a :class:`pathlib.Path`, so a big
+wide map is parsed from disk by columns without the raw file ever being held in memory.
+Numbers are parsed a whole block at a time with :func:`numpy.loadtxt`; only when that
+fails does a line-by-line pass run, to name the 1-based line and the cell at fault in the
+:class:`~qc.analysis.errors.AnalysisInputError`.
 
 Layouts understood (common practice for instrument text exports; no single standard):
 
@@ -24,6 +26,7 @@ readers live in :mod:`qc.analysis.map_readers` (and the columnar fast path in
 from __future__ import annotations
 
 import re
+from pathlib import Path
 
 from .errors import AnalysisInputError
 from .jcamp import read_jcamp
@@ -130,12 +133,18 @@ def looks_like_map(text: str, filename: str | None = None) -> bool:
     return len([c for c in re.split(r"[,;\t]|\s+", first) if c]) >= 4
 
 
-def read_spectrum_or_map(data: str | bytes, filename: str | None = None) -> Spectrum | RamanMap:
-    """Read a Raman file that may be one spectrum or a map (:func:`looks_like_map`)."""
-    if isinstance(data, (bytes, bytearray, memoryview)):
-        fast = read_map_wide_columnar(bytes(data))
+def read_spectrum_or_map(data: str | bytes | Path,
+                         filename: str | None = None) -> Spectrum | RamanMap:
+    """Read a Raman file that may be one spectrum or a map (:func:`looks_like_map`).
+
+    A ``Path`` is read from disk: by columns when it is the common wide map, else whole.
+    """
+    if isinstance(data, (bytes, bytearray, memoryview, Path)):
+        fast = read_map_wide_columnar(data if isinstance(data, Path) else bytes(data))
         if fast is not None:
             return fast
+        if isinstance(data, Path):
+            data = data.read_bytes()  # anything unusual: the line-by-line readers
     text = decode_text(data)
     if looks_like_map(text, filename):
         return read_map(text)

@@ -6,7 +6,6 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 
 import numpy as np
-from scipy import stats
 
 from ._validation import as_finite_1d, require_positive
 from .errors import AnalysisInputError
@@ -175,6 +174,8 @@ def batch_reproducibility(groups: Sequence) -> Reproducibility:
     n0 = float((n_total - np.sum(sizes**2) / n_total) / (k - 1))
     between_var = max(0.0, (ms_between - ms_within) / n0)
     f_stat = ms_between / ms_within if ms_within > 0 else float("inf")
+    from scipy import stats  # on first use: scipy.stats costs a map worker ~25 MiB at start
+
     p_value = float(stats.f.sf(f_stat, k - 1, n_total - k))
     return Reproducibility(
         n_substrates=k,

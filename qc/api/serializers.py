@@ -14,6 +14,7 @@ from inventory.api.fields import FiniteFloat, LabDate, NamedRef, RecordRef, Uplo
 from inventory.api.serializers import ServiceSerializer
 from inventory.api.units import integer_bounds
 from inventory.models import NanoparticleBatch, ReagentLot, Substrate
+from inventory.services.toolkit import RawUpload
 from qc import services
 from qc.models import (
     ColloidLimitSet,
@@ -41,12 +42,19 @@ class _FileImport(ServiceSerializer):
 
     def arguments(self) -> dict:
         data = super().arguments()
-        data["filename"], data["content"] = file_parts(data.pop("raw_file"))
+        data.update(self.file_arguments(data.pop("raw_file")))
         data.setdefault("measured_on", timezone.localdate())
         return data
 
+    def file_arguments(self, upload) -> dict:
+        filename, content = file_parts(upload)
+        return {"filename": filename, "content": content}
+
 
 class _Acquisition(_FileImport):
+    """A Raman acquisition: the upload is handed over as a ``RawUpload`` (a big one by its
+    temporary file on disk, hashed there once), never read into memory here."""
+
     analyte_lot = RecordRef(ReagentLot, help_text="Code of the reference-analyte lot.")
     laser_nm = FiniteFloat(help_text="Excitation wavelength.")
     power_mW = FiniteFloat(help_text="Laser power at the sample.")
@@ -55,6 +63,9 @@ class _Acquisition(_FileImport):
     objective = serializers.CharField(max_length=60, required=False, allow_blank=True)
     analyte = _analyte(required=False, allow_null=True, help_text="Name of the analyte, when "
                        "the lot is linked to more than one.")
+
+    def file_arguments(self, upload) -> dict:
+        return {"upload": RawUpload.of_django_file(upload)}
 
 
 class UvVisImport(_FileImport):

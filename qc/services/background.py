@@ -14,19 +14,19 @@ file marks the import failed with the refusal, field by field, and saves no meas
 from __future__ import annotations
 
 import uuid
+from collections.abc import Iterator
+from contextlib import contextmanager
 from dataclasses import fields
 from datetime import date, timedelta
 
 from django.conf import settings
 from django.core.exceptions import ValidationError
-from django.core.files.base import ContentFile
 from django.db import transaction
 from django.db.models import Q
 from django.utils import timezone
 
 from inventory.models import ReagentLot, Substrate
-from inventory.services import sha256_of
-from inventory.services.toolkit import User
+from inventory.services.toolkit import User, files_removed_if_failed, stored_file_on_disk
 
 from ..models import QcImport, QcMeasurement, ReferenceAnalyte, ReferenceMeasurement
 from .raman import (
@@ -39,7 +39,7 @@ from .raman import (
 )
 from .raman_analysis import FILE_FIELD, read_upload_checks
 
-__all__ = ["qc_import_run", "qc_imports_resume", "qc_measurement_submit"]
+__all__ = ["qc_import_run", "qc_imports_resume", "qc_measurement_submit", "request_of"]
 
 # Share of the work done when each state begins (parsing is about a tenth of the analysis).
 PROGRESS_AT = {QcImport.State.QUEUED: 0, QcImport.State.PARSING: 5,
@@ -53,7 +53,7 @@ def _parameters_of(request: QcImportRequest) -> dict:
     """The request as JSON: records by primary key, the date in ISO form, no file content."""
     stored = {}
     for item in fields(request):
-        if item.name in ("content", "filename"):
+        if item.name in ("content", "filename", "upload"):
             continue
         value = getattr(request, item.name)
         if item.name in _RECORDS:
@@ -64,14 +64,17 @@ def _parameters_of(request: QcImportRequest) -> dict:
     return stored
 
 
-def _request_of(pending: QcImport) -> QcImportRequest:
+@contextmanager
+def request_of(pending: QcImport) -> Iterator[QcImportRequest]:
+    """The pending import as a request: its stored upload by path, with the digest taken
+    when it was received (the worker neither holds the file in memory nor hashes it again)."""
     values = dict(pending.parameters)
     for name, model in _RECORDS.items():
         values[name] = None if values.get(name) is None else model.objects.get(pk=values[name])
     values["measured_on"] = date.fromisoformat(values["measured_on"])
-    with pending.upload.open("rb") as handle:
-        content = handle.read()
-    return QcImportRequest(filename=pending.upload_filename, content=content, **values)
+    with stored_file_on_disk(pending.upload, name=pending.upload_filename,
+                             sha256=pending.upload_sha256) as upload:
+        yield QcImportRequest(upload=upload, **values)
 
 
 def _refuse_pending_duplicate(substrate: Substrate, digest: str) -> None:
@@ -88,24 +91,24 @@ def qc_measurement_submit(*, actor: User | None, request: QcImportRequest | None
                           **parameters) -> QcMeasurement | QcImport:
     """A judged ``QcMeasurement`` for a small file; a queued ``QcImport`` for a big one."""
     request = request or QcImportRequest(**parameters)
-    if len(request.content) <= settings.SERSLEDGER_INLINE_ANALYSIS_BYTES:
+    upload = request.upload
+    if upload.size_bytes <= settings.SERSLEDGER_INLINE_ANALYSIS_BYTES:
         return qc_measurement_import(actor=actor, request=request)
     checked = qc_import_check(actor=actor, request=request)
     if request.reference is not None:
         # The EF's surface area needs no file: refuse it now (400), not from the worker.
         request.coverage(checked.analyte, checked.substrate)
     read_upload_checks(request)
-    refuse_qc_reimport(checked.substrate, request.content,
-                       shared=request.shared_measurement)
-    digest = sha256_of(request.content)
-    _refuse_pending_duplicate(checked.substrate, digest)
+    refuse_qc_reimport(checked.substrate, upload.sha256, shared=request.shared_measurement)
+    _refuse_pending_duplicate(checked.substrate, upload.sha256)
     pending = QcImport(created_by=actor, substrate=checked.substrate,
-                       parameters=_parameters_of(request),
-                       upload=ContentFile(request.content, name=request.filename),
-                       upload_filename=request.filename, upload_sha256=digest,
-                       upload_bytes=len(request.content))
-    pending.full_clean()
-    pending.save()
+                       parameters=_parameters_of(request), upload_filename=request.filename,
+                       upload_sha256=upload.sha256, upload_bytes=upload.size_bytes)
+    with files_removed_if_failed(pending):
+        with upload.opened() as handle:  # stored from disk in chunks
+            pending.upload.save(request.filename, handle, save=False)
+        pending.full_clean()
+        pending.save()
     _enqueue_on_commit(pending)
     return pending
 
@@ -154,27 +157,10 @@ def qc_import_run(pending_id, *, worker: str | None = None) -> str | None:
     pending = QcImport.objects.select_related("created_by").get(pk=pending_id)
     QcImport.objects.filter(pk=pending_id).update(attempts=pending.attempts + 1)
     try:
-        request = _request_of(pending)
-        actor = pending.created_by
-        with transaction.atomic():  # the checks lock their rows (PostgreSQL needs a transaction)
-            checked = qc_import_check(actor=actor, request=request)
-        is_map, band = qc_import_analyse(
-            request, checked, progress=lambda state: _report(pending_id, worker, state))
-        _report(pending_id, worker, QcImport.State.JUDGING)
-        with transaction.atomic():
-            locked = QcImport.objects.select_for_update().get(pk=pending_id)
-            if locked.measurement_id is not None or locked.claimed_by != worker:
-                return None  # another worker took over after our lease ran out and finished
-            checked = qc_import_check(actor=actor, request=request)  # inputs re-read, locked
-            refuse_qc_reimport(checked.substrate, request.content,
-                               shared=request.shared_measurement)
-            measurement = qc_import_record(actor=actor, request=request, checked=checked,
-                                           is_map=is_map, band=band)
-            locked.measurement = measurement
-            locked.state, locked.progress_percent = QcImport.State.DONE, 100
-            locked.finished_at = timezone.now()
-            locked.save(update_fields=["measurement", "state", "progress_percent",
-                                       "finished_at"])
+        with request_of(pending) as request:
+            measurement = _analyse_and_record(pending_id, worker, request, pending.created_by)
+        if measurement is None:
+            return None  # another worker took over after our lease ran out and finished
     except ValidationError as error:
         _fail(pending_id, worker, _refusal_as_json(error))
         return None
@@ -192,6 +178,29 @@ def qc_import_run(pending_id, *, worker: str | None = None) -> str | None:
         pending.upload.delete(save=False)  # the measurement keeps its own copy of the file
         QcImport.objects.filter(pk=pending_id).update(upload="")
     return measurement.code
+
+
+def _analyse_and_record(pending_id, worker: str, request: QcImportRequest,
+                        actor: User | None) -> QcMeasurement | None:
+    with transaction.atomic():  # the checks lock their rows (PostgreSQL needs a transaction)
+        checked = qc_import_check(actor=actor, request=request)
+    is_map, band = qc_import_analyse(
+        request, checked, progress=lambda state: _report(pending_id, worker, state))
+    _report(pending_id, worker, QcImport.State.JUDGING)
+    with transaction.atomic():
+        locked = QcImport.objects.select_for_update().get(pk=pending_id)
+        if locked.measurement_id is not None or locked.claimed_by != worker:
+            return None
+        checked = qc_import_check(actor=actor, request=request)  # inputs re-read, locked
+        refuse_qc_reimport(checked.substrate, request.upload.sha256,
+                           shared=request.shared_measurement)
+        measurement = qc_import_record(actor=actor, request=request, checked=checked,
+                                       is_map=is_map, band=band)
+        locked.measurement = measurement
+        locked.state, locked.progress_percent = QcImport.State.DONE, 100
+        locked.finished_at = timezone.now()
+        locked.save(update_fields=["measurement", "state", "progress_percent", "finished_at"])
+    return measurement
 
 
 def qc_imports_resume() -> int:

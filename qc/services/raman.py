@@ -19,7 +19,7 @@ from django.db import transaction
 from inventory.errors import refusal
 from inventory.models import Status, Substrate
 from inventory.roles import MAKER, require_role
-from inventory.services import flag_raise, sha256_of
+from inventory.services import flag_raise
 from inventory.services.toolkit import User, lock
 from inventory.services.toolkit import check_substrates_usable as _check_substrates_usable
 from inventory.services.toolkit import check_values as _check_values
@@ -48,6 +48,7 @@ from .raman_requests import (
     acquisition_fields,
     check_acquisition,
     require_positive_parameters,
+    store_raw_file,
 )
 from .raman_results import results_fields
 
@@ -62,9 +63,8 @@ __all__ = [
 # ---------------------------------------------------------------------------------------
 
 
-def _refuse_reimport(earlier, content: bytes) -> None:
+def _refuse_reimport(earlier, digest: str) -> None:
     """The same file (by SHA-256) imported twice would count one measurement twice."""
-    digest = sha256_of(content)
     same = earlier.filter(raw_sha256=digest, voided_at__isnull=True).first()
     if same is not None:
         raise refusal(FILE_FIELD, f"This file (sha256 {digest[:12]}…) was already imported as "
@@ -72,9 +72,8 @@ def _refuse_reimport(earlier, content: bytes) -> None:
                       "duplicate_file")
 
 
-def _refuse_reuse(substrate: Substrate, content: bytes) -> None:
+def _refuse_reuse(substrate: Substrate, digest: str) -> None:
     """One map file passed off as QC of several substrates, unless said to be shared."""
-    digest = sha256_of(content)
     other = (QcMeasurement.objects.filter(raw_sha256=digest, voided_at__isnull=True)
              .exclude(substrate=substrate).select_related("substrate").first())
     if other is not None:
@@ -103,9 +102,9 @@ def reference_measurement_import(*, actor: User | None,
     analyte = check_acquisition(request)
     require_positive_parameters(request, ("concentration_mol_L", "effective_height_um",
                                 "effective_area_um2"))
-    data = read_upload(request.content, request.filename)
+    data = read_upload(request.upload)
     _refuse_reimport(ReferenceMeasurement.objects.filter(analyte_lot=request.analyte_lot),
-                     request.content)
+                     request.upload.sha256)
     if isinstance(data, RamanMap):
         raise refusal(FILE_FIELD, "A reference measurement is one spectrum, not a map.",
                       "map_not_allowed")
@@ -123,6 +122,7 @@ def reference_measurement_import(*, actor: User | None,
         concentration_rel_u=request.concentration_rel_u,
         effective_height_rel_u=request.effective_height_rel_u)
     with _files_removed_if_failed(reference):
+        store_raw_file(reference, request.upload)
         _save_new(reference, actor=actor)
         _link([(request.analyte_lot, "reference analyte")], reference,
               used_on=request.measured_on, actor=actor)
@@ -189,7 +189,7 @@ def qc_import_analyse(request: QcImportRequest, checked: CheckedQcImport, *,
     """
     if progress:
         progress("parsing")
-    data = read_upload(request.content, request.filename)
+    data = read_upload(request.upload)
     if progress:
         progress("analysing")
     band = analyse(data, band_center_cm1=checked.analyte.qc_band_cm1,
@@ -200,13 +200,13 @@ def qc_import_analyse(request: QcImportRequest, checked: CheckedQcImport, *,
     return isinstance(data, RamanMap), band
 
 
-def refuse_qc_reimport(substrate: Substrate, content: bytes, *, shared: bool = False) -> None:
-    """The same file twice on one substrate would count one measurement twice, and one map
-    passed off as QC of several substrates would vouch for pieces it never measured
-    (unless the maker says it is one shared measurement)."""
-    _refuse_reimport(QcMeasurement.objects.filter(substrate=substrate), content)
+def refuse_qc_reimport(substrate: Substrate, digest: str, *, shared: bool = False) -> None:
+    """The same file (``digest``, its SHA-256) twice on one substrate would count one
+    measurement twice, and one map passed off as QC of several substrates would vouch for
+    pieces it never measured (unless the maker says it is one shared measurement)."""
+    _refuse_reimport(QcMeasurement.objects.filter(substrate=substrate), digest)
     if not shared:
-        _refuse_reuse(substrate, content)
+        _refuse_reuse(substrate, digest)
 
 
 def qc_import_record(*, actor: User | None, request: QcImportRequest,
@@ -239,6 +239,7 @@ def qc_import_record(*, actor: User | None, request: QcImportRequest,
     if request.reference is not None:
         parents.append((request.reference, "enhancement reference"))
     with _files_removed_if_failed(measurement):
+        store_raw_file(measurement, request.upload)
         _save_new(measurement, actor=actor)
         _link(parents, measurement, used_on=request.measured_on, actor=actor)
         if reasons:
@@ -269,7 +270,7 @@ def qc_measurement_import(*, actor: User | None, request: QcImportRequest | None
     request = request or QcImportRequest(**parameters)
     checked = qc_import_check(actor=actor, request=request)
     read_upload_checks(request)
-    refuse_qc_reimport(checked.substrate, request.content,
+    refuse_qc_reimport(checked.substrate, request.upload.sha256,
                        shared=request.shared_measurement)
     is_map, band = qc_import_analyse(request, checked, progress=progress)
     if progress:

@@ -13,7 +13,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from inventory.errors import refusal
-from inventory.services.toolkit import check_upload
+from inventory.services.toolkit import RawUpload, check_upload
 from qc.analysis import qc_pipeline
 from qc.analysis.errors import AnalysisInputError
 from qc.analysis.readers import read_spectrum_or_map
@@ -41,18 +41,22 @@ def as_validation_error(error: AnalysisInputError):
 
 def read_upload_checks(request) -> None:
     """The checks of an upload that need no parsing: size, kind of file, not empty."""
-    check_upload(request.content, field=FILE_FIELD, filename=request.filename)
-    if not request.content or request.content.isspace():
+    check_upload(request.upload, field=FILE_FIELD, filename=request.filename)
+    if request.upload.is_blank():
         raise refusal(FILE_FIELD, "The file is empty.", "empty_file")
 
 
-def read_upload(content: bytes, filename: str) -> Spectrum | RamanMap:
-    """The spectrum or map in an upload, refused with the line at fault when unreadable."""
-    check_upload(content, field=FILE_FIELD, filename=filename)
-    if not content or content.isspace():
+def read_upload(upload: RawUpload) -> Spectrum | RamanMap:
+    """The spectrum or map in an upload, refused with the line at fault when unreadable.
+
+    A file on disk is handed to the reader as its path (a wide map is then parsed from disk
+    by columns, never held whole in memory).
+    """
+    check_upload(upload, field=FILE_FIELD, filename=upload.name)
+    if upload.is_blank():
         raise refusal(FILE_FIELD, "The file is empty.", "empty_file")
     try:
-        data = read_spectrum_or_map(content, filename)
+        data = read_spectrum_or_map(upload.source(), upload.name)
     except AnalysisInputError as error:
         raise as_validation_error(error) from None
     if isinstance(data, Spectrum) and data.x_unit not in _RAMAN_SHIFT_UNITS:

@@ -11,12 +11,10 @@ import math
 from dataclasses import dataclass
 from datetime import date
 
-from django.core.files.base import ContentFile
-
 from inventory.errors import refusal
 from inventory.lifecycle import check_usable
 from inventory.models import ReagentKind, ReagentLot, Substrate
-from inventory.services import sha256_of
+from inventory.services.toolkit import RawUpload
 from inventory.services.toolkit import require_kind as _require_kind
 from inventory.services.toolkit import require_not_future as _require_not_future
 
@@ -26,11 +24,13 @@ from .enhancement import FILM_HEIGHT_REL_U_DEFAULT, SurfaceCoverage, surface_are
 
 @dataclass(frozen=True, kw_only=True)
 class Acquisition:
-    """What every Raman import names: the analyte lot, the file and how it was measured."""
+    """What every Raman import names: the analyte lot, the file and how it was measured.
+
+    The file is ``upload`` (a ``RawUpload``: on disk for a big file, hashed once), or, from
+    scripts and tests, ``filename`` and ``content`` bytes, which become its ``upload``.
+    """
 
     analyte_lot: ReagentLot
-    filename: str
-    content: bytes
     measured_on: date
     laser_nm: float
     power_mW: float
@@ -39,6 +39,18 @@ class Acquisition:
     objective: str = ""
     analyte: ReferenceAnalyte | None = None
     notes: str = ""
+    filename: str = ""
+    content: bytes | None = None
+    upload: RawUpload | None = None
+
+    def __post_init__(self) -> None:
+        if (self.upload is None) == (self.content is None):
+            raise TypeError("give the file as upload, or as filename and content")
+        if self.upload is None:  # the bytes move into the upload: one home for the file
+            object.__setattr__(self, "upload", RawUpload.of_bytes(self.filename, self.content))
+            object.__setattr__(self, "content", None)
+        elif not self.filename:
+            object.__setattr__(self, "filename", self.upload.name)
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -85,14 +97,21 @@ class QcImportRequest(Acquisition):
 
 
 def acquisition_fields(request: Acquisition) -> dict:
-    """The acquisition as stored on every measurement (the file kept exactly as uploaded)."""
+    """The acquisition as stored on every measurement, with the file's SHA-256 (taken once,
+    when the upload was received); the file itself is stored by :func:`store_raw_file`."""
     return dict(
         analyte_lot=request.analyte_lot, measured_on=request.measured_on,
-        raw_file=ContentFile(request.content, name=request.filename),
-        raw_filename=request.filename, raw_sha256=sha256_of(request.content),
+        raw_filename=request.filename, raw_sha256=request.upload.sha256,
         laser_nm=request.laser_nm, power_mW=request.power_mW,
         integration_s=request.integration_s, accumulations=request.accumulations,
         objective=request.objective, notes=request.notes)
+
+
+def store_raw_file(record, upload: RawUpload) -> None:
+    """Store the upload, exactly as received, as the record's ``raw_file`` (copied from disk
+    in chunks; call inside ``files_removed_if_failed`` so a failed save leaves no file)."""
+    with upload.opened() as handle:
+        record.raw_file.save(upload.name, handle, save=False)
 
 
 def _resolve_analyte(lot: ReagentLot, analyte: ReferenceAnalyte | None) -> ReferenceAnalyte:

@@ -44,3 +44,21 @@ def test_a_descending_header_is_made_ascending_like_the_text_reader():
     fast, slow = read_spectrum_or_map(text, MAP.name), read_map(text.decode())
     np.testing.assert_array_equal(fast.shift_cm1, slow.shift_cm1)
     np.testing.assert_allclose(fast.intensity, slow.intensity, rtol=2 ** -23)
+
+
+def test_a_map_on_disk_is_read_by_columns_from_its_path_as_from_its_bytes(tmp_path):
+    from_bytes = read_spectrum_or_map(MAP.read_bytes(), MAP.name)
+    from_path = read_spectrum_or_map(MAP, MAP.name)
+    assert from_path.metadata["reader"].startswith("columnar")
+    np.testing.assert_array_equal(from_path.intensity, from_bytes.intensity)
+    np.testing.assert_array_equal(from_path.shift_cm1, from_bytes.shift_cm1)
+    # A bad cell on disk still names its line (the text reader takes over).
+    lines = MAP.read_text().splitlines()
+    cells = lines[5].split(",")
+    cells[3] = "n/a"
+    lines[5] = ",".join(cells)
+    bad = tmp_path / "bad.csv"
+    bad.write_text("\n".join(lines))
+    with pytest.raises(AnalysisInputError) as refused:
+        read_spectrum_or_map(bad, bad.name)
+    assert refused.value.line == 6

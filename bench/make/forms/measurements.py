@@ -8,6 +8,7 @@ from django import forms
 
 from inventory import services
 from inventory.models import NanoparticleBatch, ReagentKind, Substrate
+from inventory.services.toolkit import RawUpload
 from qc.models import ReferenceMeasurement
 from qc.services import qc_measurement_submit, reference_measurement_import, uvvis_record_import
 
@@ -68,10 +69,10 @@ class _RamanForm(MakeForm):
                                label="Reference-analyte lot")
 
     def raw(self) -> dict:
-        """The cleaned data with the upload as the services take it."""
+        """The cleaned data with the upload as the services take it: a ``RawUpload`` (a big
+        file by its temporary file on disk, hashed there once, never read into memory)."""
         data = dict(self.cleaned_data)
-        data["filename"], data["content"] = self.upload("raw_file")
-        del data["raw_file"]
+        data["upload"] = RawUpload.of_django_file(data.pop("raw_file"))
         return data
 
 

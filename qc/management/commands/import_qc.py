@@ -53,9 +53,9 @@ class Command(RecordingCommand):
         lot = self.get_record(ReagentLot, options["analyte_lot"], "reagent lot")
         reference = self.get_record(ReferenceMeasurement, options["reference"],
                                     "reference measurement") if options["reference"] else None
-        filename, content = self.read_file(options["file"])
-        bar = tqdm(total=100, unit="%", desc=filename, file=self.stderr,
-                   disable=options["json"] or len(content) < PROGRESS_BAR_BYTES)
+        upload = self.read_upload(options["file"])
+        bar = tqdm(total=100, unit="%", desc=upload.name, file=self.stderr,
+                   disable=options["json"] or upload.size_bytes < PROGRESS_BAR_BYTES)
 
         def progress(state: str) -> None:
             bar.set_postfix_str(state)
@@ -63,8 +63,8 @@ class Command(RecordingCommand):
 
         with bar:
             measurement = qc_measurement_import(
-                actor=actor, substrate=substrate, analyte_lot=lot, filename=filename,
-                content=content, progress=progress,
+                actor=actor, substrate=substrate, analyte_lot=lot, upload=upload,
+                progress=progress,
                 measured_on=options["measured_on"] or timezone.localdate(),
                 laser_nm=options["laser_nm"], power_mW=options["power_mw"],
                 integration_s=options["integration_s"], accumulations=options["accumulations"],
