@@ -277,8 +277,11 @@ def insight_report(filters: InsightFilters | None = None, *, target: float = DEF
     filters = filters or InsightFilters()
     data = insight_table(filters, today=today)
     digest = data_digest(data)
-    return cached("report", digest, (filters, target),
-                  lambda: _report(data, filters, target, digest))
+    # Kept without its table: the caller has just read the same data (the digest says so),
+    # and pickling 3 MB of frames in and out of the cache cost more than the lookup saved.
+    figures = cached("report", digest, (filters, target),
+                     lambda: replace(_report(data, filters, target, digest), data=None))
+    return replace(figures, data=data)
 
 
 def _report(data: InsightData, filters: InsightFilters, target: float,
