@@ -327,7 +327,7 @@ def _column_name(row, plans: list[ColumnPlan], index: int | None) -> str:
 
 
 def import_sheet(*, kind: str, content: bytes, file_name: str, actor, commit: bool,
-                 mapping: dict[str, str] | None = None) -> ImportReport:
+                 mapping: dict[str, str] | None = None, bulk: bool = True) -> ImportReport:
     """Dry-run (``commit=False``) or import a sheet; refusals raise ValidationError.
 
     ``mapping`` maps normalised headers to fields for this run only (the page saves the
