@@ -28,6 +28,7 @@ from ..models import (
     Substrate,
 )
 from ..models.ranges import PastDate
+from ..roles import require_role
 from ..shelf_life import refresh_expiry
 from ._constraints import validate_constraints
 
@@ -83,13 +84,13 @@ def _check_ranges(record: Model) -> None:
     _check_values(model, {name: getattr(record, name) for name in getattr(model, "RANGES", {})})
 
 
-def _check_fields(record: Model) -> None:
+def _check_fields(record: Model, *, exclude: Sequence[str] = ()) -> None:
     """Every field's own cleaning (text to numbers and dates), then its range.
 
     Before expiry is derived (a date in the year 9999 would overflow it) and before the
     constraints are checked (a constraint checked with NaN on SQLite reads it as NULL).
     """
-    record.clean_fields()
+    record.clean_fields(exclude=exclude or None)
     _check_ranges(record)
 
 
@@ -136,11 +137,27 @@ class CheckingMany:
     """What a caller checking many new records (a sheet import) has read once for all.
 
     ``rules``: the shelf-life rules (``rules_by_scope``); the inputs' status, expiry and void
-    were read under a row lock by the caller; and the new codes are checked against the table
-    all at once (``codes_taken``) instead of one query per record.
+    were read under a row lock by the caller; the new codes are checked against the table all
+    at once (``codes_taken``) instead of one query per record; the actor's role is asked once
+    (``roles_granted``), and the actor, stamped on every record, is not looked up again for
+    each (it is the signed-in user; the foreign key still holds it on insert).
     """
 
     rules: dict = dataclasses.field(default_factory=dict)
+    roles_granted: set[str] = dataclasses.field(default_factory=set)
+
+
+STAMP_FIELDS = ("created_by", "updated_by")
+
+
+def _require_role(actor: User | None, role: str, *, action: str,
+                  many: CheckingMany | None = None) -> None:
+    """``require_role``, asked once per role by a caller checking many records."""
+    if many is not None and role in many.roles_granted:
+        return
+    require_role(actor, role, action=action)
+    if many is not None:
+        many.roles_granted.add(role)
 
 
 def _prepare_new(record: CodedRecord, *, actor: User | None,
@@ -153,7 +170,7 @@ def _prepare_new(record: CodedRecord, *, actor: User | None,
     record.code = code_next(record.CODE_PREFIX)
     record.created_by = actor
     record.updated_by = actor
-    _check_fields(record)
+    _check_fields(record, exclude=() if many is None else STAMP_FIELDS)
     if isinstance(record, LifecycleRecord):
         refresh_expiry(record, None if many is None else many.rules)
     _full_clean(record, fields_cleaned=True,

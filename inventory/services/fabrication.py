@@ -40,6 +40,7 @@ from ._common import (
     _prepare_new,
     _require_kind,
     _require_not_future,
+    _require_role,
     _save_changed,
     _save_new,
 )
@@ -254,7 +255,7 @@ def nanoparticle_batch_check(
     storage: StorageLocation | None = None, notes: str = "", many: CheckingMany | None = None,
 ) -> NewRecord:
     """Every rule of recording a colloid batch, on the unsaved batch (with its code)."""
-    require_role(actor, MAKER, action="Recording a colloid batch")
+    _require_role(actor, MAKER, action="Recording a colloid batch", many=many)
     _require_not_future(made_on, field="made_on")
     for lot in source_lots:
         check_usable(lot, role="a colloid reagent", on_date=made_on, field="source_lots",

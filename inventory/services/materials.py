@@ -25,6 +25,7 @@ from ._common import (
     User,
     _prepare_new,
     _require_not_future,
+    _require_role,
     _save_changed,
     _save_new,
     _save_setting,
@@ -48,7 +49,7 @@ def reagent_lot_check(
     notes: str = "", many: CheckingMany | None = None,
 ) -> NewRecord:
     """Every rule of receiving a reagent lot, on the unsaved lot (with its code); no write."""
-    require_role(actor, MAKER, action="Receiving a reagent lot")
+    _require_role(actor, MAKER, action="Receiving a reagent lot", many=many)
     if received_on is None and prepared_on is None:
         raise refusal("received_on", "Give the date received (or prepared_on for a "
                                               "solution made in the lab).", "no_date")
@@ -106,7 +107,7 @@ def sphere_lot_check(
     storage: StorageLocation | None = None, notes: str = "", many: CheckingMany | None = None,
 ) -> NewRecord:
     """Every rule of receiving a sphere lot, on the unsaved lot (with its code); no write."""
-    require_role(actor, MAKER, action="Receiving a sphere lot")
+    _require_role(actor, MAKER, action="Receiving a sphere lot", many=many)
     _require_not_future(received_on, field="received_on")
     return NewRecord(_prepare_new(SphereLot(
         material=material, nominal_diameter_nm=nominal_diameter_nm,

@@ -215,3 +215,18 @@ def test_a_code_counter_behind_the_records_gives_the_per_row_answer(chain):
     per_row = assert_same("sphere_lots", [SPHERES, *good], chain.maker, expect_errors=True)
     assert {(e["row"], e["column"], e["code"]) for e in per_row[0]["errors"]} == \
         {(2, "Code or your ID", "unique")}
+
+
+def test_the_bulk_path_writes_many_rows_in_few_queries(chain, django_assert_max_num_queries):
+    """Not a fallback in disguise: 120 new reagent lots, each naming a stored parent, cost a
+    few dozen queries (the per-row path spends several per row)."""
+    stock = chain.lot("metal_salt", days_ago=30)
+    d = chain.day(3).isoformat()
+    rows = [[f"SOL-{n}", f"Solution {n}", "other", "", "", "", "", d, 1.0, stock.code]
+            for n in range(120)]
+    with django_assert_max_num_queries(60):
+        report = import_sheet(kind="reagent_lots", content=csv_bytes([REAGENTS, *rows]),
+                              file_name="many.csv", actor=chain.maker, commit=True)
+    assert report.committed and len(report.created) == 120
+    assert LineageEdge.objects.filter(parent_code=stock.code, role="prepared from").count() \
+        == 120
