@@ -11,6 +11,7 @@ import math
 import secrets
 from datetime import date
 
+from django.core.exceptions import NON_FIELD_ERRORS, ValidationError
 from django.db import transaction
 from django.utils import timezone
 
@@ -19,7 +20,12 @@ from inventory.models import NanoparticleBatch, Substrate
 from inventory.roles import MAKER, VIEWER, require_role
 from inventory.services import NewRecord
 from inventory.services.lifecycle import check_not_voided
-from inventory.services.toolkit import User, require_not_future, stamp_history
+from inventory.services.toolkit import (
+    User,
+    require_not_future,
+    stamp_history,
+    validate_constraints,
+)
 from qc.analysis.uvvis import PlasmonBand
 from qc.services.colloid import uvvis_sizes_from_band
 
@@ -58,10 +64,27 @@ def _check_figures(figures: dict[str, float | None], *, parent, day: date,
                                   "after this figure was measured.", "date_order")
 
 
+def _clean(record, *, exclude: set[str]) -> None:
+    """``full_clean`` with the same errors, its CHECK constraints evaluated in Python
+    (inventory's evaluator) instead of one ``SELECT`` each."""
+    errors: dict = {}
+    try:
+        record.full_clean(exclude=exclude, validate_constraints=False)
+    except ValidationError as error:
+        errors = error.update_error_dict(errors)
+    try:
+        validate_constraints(record, exclude=exclude | {n for n in errors
+                                                         if n != NON_FIELD_ERRORS})
+    except ValidationError as error:
+        errors = error.update_error_dict(errors)
+    if errors:
+        raise ValidationError(errors)
+
+
 def _save(record, *, actor: User | None, reason: str) -> None:
     record.created_by = record.created_by or actor
     record.updated_by = actor
-    record.full_clean()
+    _clean(record, exclude=set())
     stamp_history(record, actor=actor, reason=reason)
     record.save()
 
@@ -102,7 +125,7 @@ def sheet_uvvis_reading_check(
                                 source=source, created_by=actor, updated_by=actor)
     # Range first (a peak outside 300-1100 nm is no plasmon band); then size it.  The batch
     # is the object in hand (perhaps not written yet): its key is not looked up here.
-    reading.full_clean(exclude=["created_by", "updated_by", "batch"])
+    _clean(reading, exclude={"created_by", "updated_by", "batch"})
     sizes = uvvis_sizes_from_band(metal=batch.metal, band=band)
     reading.diameter_nm = sizes["diameter_nm"]
     reading.diameter_method = sizes["diameter_method"] or ""
