@@ -7,12 +7,15 @@ Run from the repository root::
 
 Each run uses its own database (SQLite ``benchmarks/out/sheet_import.sqlite3``, PostgreSQL
 ``sersledger_sheet_bench`` or ``--pg-database``), dropped and migrated first; the lab's
-database is never touched. The sheet is an invented xlsx of sphere lots (the kind with the
-most rows in a lab's sheets) built with openpyxl. Reference in the same run: the same rows
-written by calling ``sphere_lot_receive`` in a plain loop (no sheet, no savepoints), so the
-report can say how much of the time is the importer and how much the services every row goes
-through; and the same loop with Django's own constraint validation (a query per CHECK
-constraint), the way every record was validated before, as the before/after reference.
+database is never touched. The sheets are invented xlsx files built with openpyxl: sphere
+lots (the kind with the most rows in a lab's sheets) and colloid batches (each naming two
+reagent lots as parents, every tenth with a UV-vis reading to size). Each is dry-run and
+imported by the bulk path (the default) and, with ``--per-row-rows`` rows, by the per-row
+path; the reference in the same run is the same rows written by calling the service
+(``sphere_lot_receive``, ``nanoparticle_batch_make``) in a plain loop (no sheet, no
+savepoints), so the report can say how much of the time is the importer and how much the
+services. ``--django-validation`` adds the loop with Django's own constraint validation (a
+query per CHECK constraint), the way records were validated before the first speed work.
 Wall and CPU seconds and /proc/loadavg before and after go to
 ``benchmarks/out/sheet-import-<db>.json``.
 """
@@ -26,6 +29,7 @@ import os
 import sys
 import time
 from datetime import date, timedelta
+from functools import partial
 from pathlib import Path
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -35,6 +39,9 @@ PG_SERVER = "postgres://postgres@127.0.0.1:5432"
 PG_DATABASE = "sersledger_sheet_bench"
 HEADER = ["Code or your ID", "Material", "Nominal diameter (nm)", "Size CV (%)", "Solids (%)",
           "Supplier", "Supplier lot number", "Received on", "Volume (mL)"]
+COLLOID_HEADER = ["Code or your ID", "Metal", "Synthesis", "Volume made (mL)", "Made on",
+                  "Reagent lots used", "UV-vis measured on", "UV-vis peak (nm)",
+                  "Absorbance at peak", "UV-vis dilution factor"]
 
 
 def configure(db: str, pg_database: str = PG_DATABASE) -> None:
@@ -74,6 +81,59 @@ def sheet(rows: int, offset: int = 0) -> bytes:
     out = io.BytesIO()
     book.save(out)
     return out.getvalue()
+
+
+def colloid_values(n: int) -> dict:
+    start = date(2026, 2, 1)
+    return {"metal": "Ag", "synthesis_method": ("citrate", "borohydride")[n % 2],
+            "volume_mL": 20 + n % 200, "made_on": start + timedelta(days=n % 120)}
+
+
+def colloid_sheet(rows: int, lots: list[str]) -> bytes:
+    """Colloid batches, each made from two of ``lots``, every tenth with a UV-vis reading."""
+    import openpyxl
+
+    book = openpyxl.Workbook()
+    ws = book.active
+    ws.append(COLLOID_HEADER)
+    for n in range(rows):
+        v = colloid_values(n)
+        reading = [v["made_on"], 395 + n % 20, 0.5 + (n % 7) * 0.1, 10] if n % 10 == 0 \
+            else [None, None, None, None]
+        ws.append([f"NP-{n:06d}", v["metal"], v["synthesis_method"], v["volume_mL"],
+                   v["made_on"], f"{lots[n % 2]}; {lots[2]}", *reading])
+    out = io.BytesIO()
+    book.save(out)
+    return out.getvalue()
+
+
+def colloid_parents() -> list[str]:
+    """Three released reagent lots the colloid rows name as parents."""
+    from inventory import services
+
+    codes = []
+    for kind in ("metal_salt", "reductant", "stabiliser"):
+        lot = services.reagent_lot_receive(actor=None, name=f"bench {kind}", kind=kind,
+                                           received_on=date(2026, 1, 2))
+        codes.append(services.record_transition(actor=None, record=lot,
+                                                to_status="released").code)
+    return codes
+
+
+def colloid_loop(rows: int, lots: list[str]) -> None:
+    """The colloid rows through ``nanoparticle_batch_make`` in a plain loop, rolled back."""
+    from django.db import transaction
+
+    from inventory.models import ReagentLot
+    from inventory.services import nanoparticle_batch_make
+
+    with transaction.atomic():
+        by_code = {lot.code: lot for lot in ReagentLot.objects.filter(code__in=lots)}
+        for n in range(rows):
+            nanoparticle_batch_make(actor=None, source_lots=[by_code[lots[n % 2]],
+                                                             by_code[lots[2]]],
+                                    **colloid_values(n))
+        transaction.set_rollback(True)
 
 
 def timed(action):
@@ -118,37 +178,91 @@ def django_validation_loop(rows: int) -> None:
         reference_loop(rows)
 
 
+def measure(result: dict, kind: str, content: bytes, rows: int, reference: dict,
+            per_row_content: bytes, per_row_rows: int) -> None:
+    """Dry run and import by the bulk path (all rows) and the per-row path (fewer rows)."""
+    from exchange.importer import import_sheet
+
+    for path, data, count in (("bulk", content, rows), ("per_row", per_row_content,
+                                                        per_row_rows)):
+        if not count:
+            continue
+        for label, commit in (("dry_run", False), ("import", True)):
+            report, wall, cpu = timed(partial(
+                import_sheet, kind=kind, content=data, file_name=f"{path}-{label}.xlsx",
+                actor=None, commit=commit, bulk=path == "bulk"))
+            assert report.ok and len(report.created) == count, report.errors[:3]
+            result[kind][f"{path}_{label}"] = {
+                "rows": count, "wall_s": wall, "cpu_s": cpu,
+                "cpu_ms_per_row": 1000 * cpu / count,
+                "cpu_ratio_to_reference": 1000 * cpu / count / reference["cpu"]}
+            print(f"{kind} {path} {label}: {count} rows, {wall:.1f} s wall, {cpu:.1f} s CPU,"
+                  f" load {loadavg()}", flush=True)
+            if commit and report.committed:
+                rollback_import(kind)
+
+
+def rollback_import(kind: str) -> None:
+    """Remove what an import wrote, so the next one starts from the same records."""
+    from exchange.models import SheetKey, SheetUvVisReading
+    from inventory.models import CodeCounter, LineageEdge, NanoparticleBatch, SphereLot
+
+    model = {"sphere_lots": SphereLot, "colloid_batches": NanoparticleBatch}[kind]
+    if kind == "colloid_batches":
+        SheetUvVisReading.history.all().delete()
+        SheetUvVisReading.objects.all().delete()
+        LineageEdge.objects.filter(child_code__startswith="NPB-").delete()
+    model.history.all().delete()
+    model.objects.all().delete()
+    SheetKey.objects.filter(kind=kind).delete()
+    CodeCounter.objects.filter(prefix=model.CODE_PREFIX).update(last_value=0)
+
+
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--db", choices=("sqlite", "postgres"), required=True)
     parser.add_argument("--rows", type=int, default=10_000)
     parser.add_argument("--reference-rows", type=int, default=2_000)
+    parser.add_argument("--per-row-rows", type=int, default=2_000,
+                        help="rows of the per-row path's dry run and import (0: skip)")
+    parser.add_argument("--kinds", nargs="+", default=["sphere_lots", "colloid_batches"],
+                        choices=["sphere_lots", "colloid_batches"])
+    parser.add_argument("--django-validation", action="store_true",
+                        help="also time the service loop with Django's constraint queries")
     parser.add_argument("--pg-database", default=PG_DATABASE,
                         help="PostgreSQL database to drop and fill (default %(default)s)")
+    parser.add_argument("--out", default=None, help="result file (default out/sheet-import-DB)")
     args = parser.parse_args()
     configure(args.db, args.pg_database)
-    from exchange.importer import import_sheet
 
     result = {"db": args.db, "rows": args.rows, "loadavg_before": loadavg()}
-    content, result["build_s"], _ = timed(lambda: sheet(args.rows))
-    result["file_bytes"] = len(content)
-    _, wall, cpu = timed(lambda: reference_loop(args.reference_rows))
-    result["reference_ms_per_row"] = {"wall": 1000 * wall / args.reference_rows,
-                                      "cpu": 1000 * cpu / args.reference_rows}
-    _, wall, cpu = timed(lambda: django_validation_loop(args.reference_rows))
-    result["django_validation_ms_per_row"] = {"wall": 1000 * wall / args.reference_rows,
-                                              "cpu": 1000 * cpu / args.reference_rows}
-    for label, commit in (("dry_run", False), ("import", True)):
-        report, wall, cpu = timed(lambda c=commit: import_sheet(
-            kind="sphere_lots", content=content, file_name="bench.xlsx", actor=None, commit=c))
-        assert report.ok and len(report.created) == args.rows, report.errors[:3]
-        reference = result["reference_ms_per_row"]
-        result[label] = {"wall_s": wall, "cpu_s": cpu, "ms_per_row": 1000 * wall / args.rows,
-                         "ratio_to_reference": 1000 * wall / args.rows / reference["wall"],
-                         "cpu_ratio_to_reference": 1000 * cpu / args.rows / reference["cpu"]}
-        print(f"{args.db} {label}: {wall:.1f} s wall, {cpu:.1f} s CPU", flush=True)
+    for kind in args.kinds:
+        result[kind] = {}
+        if kind == "sphere_lots":
+            content = sheet(args.rows)
+            per_row_content = sheet(args.per_row_rows) if args.per_row_rows else b""
+            loop = reference_loop
+        else:
+            lots = colloid_parents()
+            content = colloid_sheet(args.rows, lots)
+            per_row_content = colloid_sheet(args.per_row_rows, lots) if args.per_row_rows \
+                else b""
+            loop = partial(colloid_loop, lots=lots)
+        result[kind]["file_bytes"] = len(content)
+        _, wall, cpu = timed(partial(loop, args.reference_rows))
+        reference = {"wall": 1000 * wall / args.reference_rows,
+                     "cpu": 1000 * cpu / args.reference_rows}
+        result[kind]["reference_ms_per_row"] = reference
+        print(f"{kind} reference loop: {args.reference_rows} rows, {wall:.1f} s wall, "
+              f"{cpu:.1f} s CPU", flush=True)
+        if kind == "sphere_lots" and args.django_validation:
+            _, wall, cpu = timed(lambda: django_validation_loop(args.reference_rows))
+            result[kind]["django_validation_ms_per_row"] = {
+                "wall": 1000 * wall / args.reference_rows, "cpu": 1000 * cpu / args.reference_rows}
+        measure(result, kind, content, args.rows, reference, per_row_content,
+                args.per_row_rows)
     result["loadavg_after"] = loadavg()
-    path = OUT_DIR / f"sheet-import-{args.db}.json"
+    path = Path(args.out) if args.out else OUT_DIR / f"sheet-import-{args.db}.json"
     path.write_text(json.dumps(result, indent=2))
     print(json.dumps(result, indent=2))
 

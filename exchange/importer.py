@@ -18,7 +18,7 @@ from decimal import Decimal
 from django.core.exceptions import PermissionDenied, ValidationError
 from django.db import transaction
 
-from inventory.codes import RecordNotFound, codes_in_blocks, record_get
+from inventory.codes import codes_in_blocks
 from inventory.errors import refusal
 from inventory.roles import MAKER, require_role
 from inventory.services import amendable_fields, record_amend
@@ -32,14 +32,14 @@ from .cells import (
     read_text,
     split_header,
 )
+from .import_context import BulkFallback, ImportContext, ref_texts
 from .import_report import ImportReport, RowError, RowOutcome
 from .kinds import KINDS, Column, Kind, header_variants, normalise
 from .models import ColumnMapping, SheetKey
-from .provenance import sheet_source, source_text
+from .provenance import sheet_source, source_text, with_source
 from .sheets import Sheet, read_sheet
 
 MAX_ROWS = 50_000
-REF_SEPARATORS = (";", ",", "\n")
 
 
 @dataclass(frozen=True)
@@ -98,57 +98,6 @@ def _header_factor(column: Column, header: str, file_name: str) -> float:
                       error.code) from None
 
 
-class ImportContext:
-    """What rows share during one run: the actor, the source, and the keys already seen."""
-
-    def __init__(self, kind: Kind, actor, *, file_name: str, sha256: str):
-        self.kind, self.actor = kind, actor
-        self.file_name, self.sha256 = file_name, sha256
-        self.source = ""
-        self.new_keys: dict[tuple[str, str], str] = {}  # (kind, key) -> code, this file
-        self.rows_by_key: dict[str, int] = {}
-        self.rows_by_lot: dict[tuple, int] = {}
-        self._saved_keys: dict[str, dict[str, str]] = {}
-        self._lot_numbers: dict[tuple, str] | None = None
-
-    def lot_numbers(self) -> dict[tuple, str]:
-        """(supplier, supplier lot) -> code of the kind's lots, read once per run."""
-        if self._lot_numbers is None:
-            fields = self.kind.lot_number
-            self._lot_numbers = {tuple(row[:-1]): row[-1] for row in
-                                 self.kind.model.objects.values_list(*fields, "code")}
-        return self._lot_numbers
-
-    def remember(self, key: str, record, values: dict) -> None:
-        code = getattr(record, "code", None)
-        if key and code:
-            self.new_keys[(self.kind.name, key)] = code
-        if code and self.kind.lot_number and self._lot_numbers is not None:
-            self._lot_numbers[tuple(values.get(n) or "" for n in self.kind.lot_number)] = code
-
-    def code_for(self, kind_name: str, key: str) -> str | None:
-        """The record a lab's key or code stands for: this file, earlier imports, our codes."""
-        key = key.strip()
-        if (kind_name, key) in self.new_keys:
-            return self.new_keys[(kind_name, key)]
-        if kind_name not in self._saved_keys:
-            self._saved_keys[kind_name] = dict(
-                SheetKey.objects.filter(kind=kind_name).values_list("key", "record_code"))
-        return self._saved_keys[kind_name].get(key)
-
-    def resolve(self, kind_name: str, key: str):
-        model = KINDS[kind_name].model
-        code = self.code_for(kind_name, key) or key.strip().upper()
-        try:
-            record = record_get(code)
-        except RecordNotFound:
-            record = None
-        if not isinstance(record, model):
-            raise CellError(f"no {KINDS[kind_name].label.lower()[:-1]} '{key}' in this file "
-                            "(above this row) or in the database", "parent_missing")
-        return record
-
-
 def _read_cell(plan: ColumnPlan, value, ctx: ImportContext):
     column = plan.column
     if value is None or (isinstance(value, str) and not value.strip()):
@@ -164,10 +113,7 @@ def _read_cell(plan: ColumnPlan, value, ctx: ImportContext):
     if column.type == "ref":
         return ctx.resolve(column.ref, read_text(value))
     if column.type == "refs":
-        text = read_text(value)
-        for separator in REF_SEPARATORS[1:]:
-            text = text.replace(separator, REF_SEPARATORS[0])
-        return [ctx.resolve(column.ref, part) for part in text.split(";") if part.strip()]
+        return [ctx.resolve(column.ref, part) for part in ref_texts(read_text(value))]
     return read_text(value)
 
 
@@ -292,20 +238,13 @@ def _apply_row(kind: Kind, row, plans: list[ColumnPlan], ctx: ImportContext,
         return
     ctx.source = source_text(file_name=ctx.file_name, sha256=ctx.sha256, row=row.number)
     try:
-        with sheet_source(ctx.source), transaction.atomic():
+        with sheet_source(ctx.source):
             existing = _find_existing(kind, values, key, ctx)
-            if existing is not None:
-                changes = _update(kind, existing, values, plans, ctx)
-                if kind.extra:
-                    changes += kind.extra(existing, values, ctx, False)
-                outcome = RowOutcome(row.number, "change" if changes else "unchanged", key,
-                                     getattr(existing, "code", ""), changes)
-                record = existing
+            if existing is None and ctx.bulk:
+                outcome, record = _check_new(kind, values, key, row.number, ctx)
             else:
-                record = kind.create(values, ctx)
-                if kind.extra:
-                    kind.extra(record, values, ctx, True)
-                outcome = RowOutcome(row.number, "create", key, getattr(record, "code", ""))
+                outcome, record = _write_row(kind, existing, values, key, row.number, plans,
+                                             ctx)
     except ValidationError as error:
         report.errors.extend(_validation_errors(error, row.number, kind, plans))
         return
@@ -315,6 +254,32 @@ def _apply_row(kind: Kind, row, plans: list[ColumnPlan], ctx: ImportContext,
     ctx.remember(key, record, values)
     {"create": report.created, "change": report.changed,
      "unchanged": report.unchanged}[outcome.action].append(outcome)
+
+
+def _write_row(kind: Kind, existing, values: dict, key: str, number: int,
+               plans: list[ColumnPlan], ctx: ImportContext):
+    """The per-row path: the row through its kind's service, in its own savepoint."""
+    with transaction.atomic():
+        if existing is not None:
+            changes = _update(kind, existing, values, plans, ctx)
+            if kind.extra:
+                changes += kind.extra(existing, values, ctx, False)
+            ctx.forget(getattr(existing, "code", ""))
+            return RowOutcome(number, "change" if changes else "unchanged", key,
+                              getattr(existing, "code", ""), changes), existing
+        record = kind.create(values, ctx)
+        if kind.extra:
+            kind.extra(record, values, ctx, True)
+        return RowOutcome(number, "create", key, getattr(record, "code", "")), record
+
+
+def _check_new(kind: Kind, values: dict, key: str, number: int, ctx: ImportContext):
+    """The bulk path: the new row checked by the service's check part, written later."""
+    new = kind.prepare(values, ctx)
+    for item in (new, *new.after):  # the source, as the per-row path's history rows get it
+        item.reason = with_source(ctx.source, item.reason)
+    ctx.add(new)
+    return RowOutcome(number, "create", key, new.record.code), new.record
 
 
 def _column_name(row, plans: list[ColumnPlan], index: int | None) -> str:
@@ -327,7 +292,7 @@ def _column_name(row, plans: list[ColumnPlan], index: int | None) -> str:
 
 
 def import_sheet(*, kind: str, content: bytes, file_name: str, actor, commit: bool,
-                 mapping: dict[str, str] | None = None) -> ImportReport:
+                 mapping: dict[str, str] | None = None, bulk: bool = True) -> ImportReport:
     """Dry-run (``commit=False``) or import a sheet; refusals raise ValidationError.
 
     ``mapping`` maps normalised headers to fields for this run only (the page saves the
@@ -355,10 +320,24 @@ def import_sheet(*, kind: str, content: bytes, file_name: str, actor, commit: bo
                                              f"of {', '.join(unmapped)} does (map the columns)",
                                       "missing_column"))
         return report
-    ctx = ImportContext(spec, actor, file_name=file_name, sha256=digest)
+    try:
+        return _run(spec, sheet, plans, report, actor=actor, commit=commit, bulk=bulk)
+    except BulkFallback:
+        report.errors, report.created, report.changed, report.unchanged = [], [], [], []
+        return _run(spec, sheet, plans, report, actor=actor, commit=commit, bulk=False)
+
+
+def _run(spec: Kind, sheet: Sheet, plans: list[ColumnPlan], report: ImportReport, *, actor,
+         commit: bool, bulk: bool) -> ImportReport:
+    """Every row, then commit (an import without errors) or roll everything back."""
+    ctx = ImportContext(spec, actor, file_name=report.file_name, sha256=report.sha256,
+                        bulk=bulk)
     with transaction.atomic(), codes_in_blocks():
+        if ctx.bulk:
+            ctx.preload(sheet.rows, plans)
         for row in sheet.rows:
             _apply_row(spec, row, plans, ctx, report)
+        ctx.finish(write=report.ok)
         if commit and report.ok:
             SheetKey.objects.bulk_create(
                 [SheetKey(kind=k, key=key, record_code=code)

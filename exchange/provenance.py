@@ -4,7 +4,8 @@ Services take no history reason from their callers, so while an import applies a
 reason of every history row written (the record made, a consumed template, a piece whose
 stage changed) is prefixed with the source.  A context variable scopes it to that row;
 outside an import the receiver does nothing.  django-simple-history sends
-``pre_create_historical_record`` before it saves each history row.
+``pre_create_historical_record`` before it saves each history row; its bulk insert sends
+none, so the bulk path of an import puts ``with_source`` into each record's reason itself.
 """
 
 from __future__ import annotations
@@ -23,6 +24,11 @@ def source_text(*, file_name: str, sha256: str, row: int) -> str:
     return f"imported from {file_name} (SHA-256 {sha256}), row {row}"
 
 
+def with_source(text: str, reason: str | None) -> str:
+    """A history reason with the row's source in front (the reason the service gave, if any)."""
+    return f"{text}: {reason}" if reason else text
+
+
 @contextmanager
 def sheet_source(text: str) -> Iterator[None]:
     token = _current_source.set(text)
@@ -37,5 +43,5 @@ def _stamp_source(sender, history_instance, **kwargs) -> None:
     text = _current_source.get()
     if text is None:
         return
-    reason = history_instance.history_change_reason
-    history_instance.history_change_reason = f"{text}: {reason}" if reason else text
+    history_instance.history_change_reason = with_source(
+        text, history_instance.history_change_reason)

@@ -11,14 +11,21 @@ import math
 import secrets
 from datetime import date
 
+from django.core.exceptions import NON_FIELD_ERRORS, ValidationError
 from django.db import transaction
 from django.utils import timezone
 
 from inventory.errors import refusal
 from inventory.models import NanoparticleBatch, Substrate
 from inventory.roles import MAKER, VIEWER, require_role
+from inventory.services import NewRecord
 from inventory.services.lifecycle import check_not_voided
-from inventory.services.toolkit import User, require_not_future, stamp_history
+from inventory.services.toolkit import (
+    User,
+    require_not_future,
+    stamp_history,
+    validate_constraints,
+)
 from qc.analysis.uvvis import PlasmonBand
 from qc.services.colloid import uvvis_sizes_from_band
 
@@ -57,24 +64,41 @@ def _check_figures(figures: dict[str, float | None], *, parent, day: date,
                                   "after this figure was measured.", "date_order")
 
 
+def _clean(record, *, exclude: set[str]) -> None:
+    """``full_clean`` with the same errors, its CHECK constraints evaluated in Python
+    (inventory's evaluator) instead of one ``SELECT`` each."""
+    errors: dict = {}
+    try:
+        record.full_clean(exclude=exclude, validate_constraints=False)
+    except ValidationError as error:
+        errors = error.update_error_dict(errors)
+    try:
+        validate_constraints(record, exclude=exclude | {n for n in errors
+                                                         if n != NON_FIELD_ERRORS})
+    except ValidationError as error:
+        errors = error.update_error_dict(errors)
+    if errors:
+        raise ValidationError(errors)
+
+
 def _save(record, *, actor: User | None, reason: str) -> None:
     record.created_by = record.created_by or actor
     record.updated_by = actor
-    record.full_clean()
+    _clean(record, exclude=set())
     stamp_history(record, actor=actor, reason=reason)
     record.save()
 
 
-@transaction.atomic
-def sheet_uvvis_reading_record(
+def sheet_uvvis_reading_check(
     *, actor: User | None, batch: NanoparticleBatch, measured_on: date, peak_nm: float,
     peak_absorbance: float, absorbance_450: float | None = None, dilution_factor: float = 1.0,
     path_length_cm: float = 1.0, source: str,
-) -> SheetUvVisReading:
-    """A UV-vis reading from a sheet (absorbances as measured, i.e. diluted, in the cell used).
+) -> NewRecord:
+    """Every rule of a UV-vis reading from a sheet, and its sizes; writes nothing.
 
-    Absorbances are scaled to the undiluted colloid in 1 cm (Beer–Lambert: A ∝ c·l), then
-    sized by the calibration the spectrum import uses.
+    Absorbances (as measured, i.e. diluted, in the cell used) are scaled to the undiluted
+    colloid in 1 cm (Beer–Lambert: A ∝ c·l), then sized by the calibration the spectrum
+    import uses.  ``batch`` may be a batch checked in the same import and not yet written.
     """
     require_role(actor, MAKER, action="Recording a UV-vis reading")
     _check_figures({"uvvis_peak_nm": peak_nm, "uvvis_peak_absorbance": peak_absorbance,
@@ -98,9 +122,10 @@ def sheet_uvvis_reading_record(
     reading = SheetUvVisReading(batch=batch, measured_on=measured_on, peak_nm=peak_nm,
                                 peak_absorbance_1cm=a_peak, absorbance_450_1cm=a_450,
                                 dilution_factor=dilution_factor, path_length_cm=path_length_cm,
-                                source=source)
-    # Range first (a peak outside 300-1100 nm is no plasmon band); then size it.
-    reading.full_clean(exclude=["created_by", "updated_by"])
+                                source=source, created_by=actor, updated_by=actor)
+    # Range first (a peak outside 300-1100 nm is no plasmon band); then size it.  The batch
+    # is the object in hand (perhaps not written yet): its key is not looked up here.
+    _clean(reading, exclude={"created_by", "updated_by", "batch"})
     sizes = uvvis_sizes_from_band(metal=batch.metal, band=band)
     reading.diameter_nm = sizes["diameter_nm"]
     reading.diameter_method = sizes["diameter_method"] or ""
@@ -108,8 +133,16 @@ def sheet_uvvis_reading_record(
     reading.molar_concentration_M = sizes["molar_concentration_M"]
     reading.sizing_note = "; ".join(filter(None, [sizes["concentration_note"],
                                                   sizes["calibration_source"]]))
-    _save(reading, actor=actor, reason=source)
-    return reading
+    return NewRecord(reading, reason=source)
+
+
+@transaction.atomic
+def sheet_uvvis_reading_record(*, actor: User | None, **values) -> SheetUvVisReading:
+    """A UV-vis reading from a sheet; ``values`` are those of
+    :func:`sheet_uvvis_reading_check`."""
+    new = sheet_uvvis_reading_check(actor=actor, **values)
+    _save(new.record, actor=actor, reason=new.reason)
+    return new.record
 
 
 @transaction.atomic

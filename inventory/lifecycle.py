@@ -39,15 +39,18 @@ def check_transition(record, to_status: str, reason: str) -> None:
         )
 
 
-def check_usable(record, *, role: str, on_date: date, field: str) -> None:
+def check_usable(record, *, role: str, on_date: date, field: str,
+                 state_read: bool = False) -> None:
     """Refuse a voided, rejected, disposed, consumed or expired input to a new step.
 
     The status, expiry and void are re-read under a row lock, so a caller holding a stale
     copy (or a reviewer rejecting the lot at the same moment) cannot slip an unusable input in.
+    ``state_read``: the caller read the record under a row lock in this transaction already
+    (a sheet import reads every input it names in one query).
     """
     columns = [name for name in ("status", "expires_on", "voided_at", "void_reason")
                if hasattr(record, name)]
-    if columns:
+    if columns and not state_read:
         current = (type(record).objects.select_for_update().filter(pk=record.pk)
                    .values(*columns).get())
         for name, value in current.items():

@@ -69,6 +69,9 @@ class Kind:
     extra: Callable | None = None  # (record, values, ctx, created: bool) -> list of changes
     export_value: dict[str, Callable] = field(default_factory=dict)  # field -> (record) -> value
     export_queryset: Callable | None = None
+    # The bulk path (exchange.import_context): (values, ctx) -> inventory.services.NewRecord,
+    # checked by the same rules as ``create`` and ``extra`` on a new record, nothing written.
+    prepare: Callable | None = None
 
     def column(self, name: str) -> Column | None:
         return next((c for c in self.columns if c.field == name), None)

@@ -12,13 +12,21 @@ from ..models import SheetUvVisReading
 from .base import CODE, NOTES, Column, Kind, pick, text_of
 
 
-def _sphere_lot(values, ctx):
-    return services.sphere_lot_receive(
-        actor=ctx.actor, material=values["material"],
-        nominal_diameter_nm=values["nominal_diameter_nm"],
+def _sphere_lot_values(values) -> dict:
+    return dict(
+        material=values["material"], nominal_diameter_nm=values["nominal_diameter_nm"],
         solids_percent_w_v=values["solids_percent_w_v"], received_on=values["received_on"],
         supplier=text_of(values, "supplier"), supplier_lot=text_of(values, "supplier_lot"),
         notes=text_of(values, "notes"), **pick(values, "size_cv_percent", "volume_mL"))
+
+
+def _sphere_lot(values, ctx):
+    return services.sphere_lot_receive(actor=ctx.actor, **_sphere_lot_values(values))
+
+
+def _sphere_lot_new(values, ctx):
+    return services.sphere_lot_check(actor=ctx.actor, many=ctx.many,
+                                     **_sphere_lot_values(values))
 
 
 SPHERE_LOTS = Kind(
@@ -41,18 +49,27 @@ SPHERE_LOTS = Kind(
                aliases=("received", "date received", "receipt date"), example="2026-01-15"),
         Column("volume_mL", "Volume", "number", "mL", aliases=("volume",), example=15),
         NOTES,
-    ), _sphere_lot, lot_number=("supplier", "supplier_lot"))
+    ), _sphere_lot, lot_number=("supplier", "supplier_lot"), prepare=_sphere_lot_new)
 
 
-def _reagent_lot(values, ctx):
-    return services.reagent_lot_receive(
-        actor=ctx.actor, name=values["name"], kind=values["kind"],
+def _reagent_lot_values(values) -> dict:
+    return dict(
+        name=values["name"], kind=values["kind"],
         supplier=text_of(values, "supplier"), supplier_lot=text_of(values, "supplier_lot"),
         ghs_hazard_codes=text_of(values, "ghs_hazard_codes"),
         quantity_unit=text_of(values, "quantity_unit"), notes=text_of(values, "notes"),
         prepared_from=values.get("prepared_from") or (),
         **pick(values, "received_on", "opened_on", "prepared_on", "quantity",
                 "concentration_mM"))
+
+
+def _reagent_lot(values, ctx):
+    return services.reagent_lot_receive(actor=ctx.actor, **_reagent_lot_values(values))
+
+
+def _reagent_lot_new(values, ctx):
+    return services.reagent_lot_check(actor=ctx.actor, many=ctx.many,
+                                      **_reagent_lot_values(values))
 
 
 REAGENT_LOTS = Kind(
@@ -80,7 +97,7 @@ REAGENT_LOTS = Kind(
         Column("prepared_from", "Prepared from (lots)", "refs", ref="reagent_lots",
                compare=False),
         NOTES,
-    ), _reagent_lot, lot_number=("supplier", "supplier_lot"),
+    ), _reagent_lot, lot_number=("supplier", "supplier_lot"), prepare=_reagent_lot_new,
     export_value={"prepared_from": lambda r: [p.code for p in r.prepared_from.all()]})
 
 
@@ -92,34 +109,56 @@ UVVIS_FIELDS = ("uvvis_measured_on", "uvvis_peak_nm", "uvvis_peak_absorbance",
                 "uvvis_absorbance_450", "uvvis_dilution_factor", "uvvis_path_length_cm")
 
 
-def _colloid(values, ctx):
-    return services.nanoparticle_batch_make(
-        actor=ctx.actor, metal=values["metal"], synthesis_method=values["synthesis_method"],
+def _colloid_values(values) -> dict:
+    return dict(
+        metal=values["metal"], synthesis_method=values["synthesis_method"],
         volume_mL=values["volume_mL"], made_on=values["made_on"],
         source_lots=values.get("source_lots") or (), notes=text_of(values, "notes"),
         **pick(values, "target_diameter_nm"))
 
 
-def _colloid_reading(batch, values, ctx, created: bool) -> list[str]:
-    """Add the row's UV-vis reading (if it has one and the batch lacks it)."""
-    if values.get("uvvis_peak_nm") is None:
-        return []
+def _colloid(values, ctx):
+    return services.nanoparticle_batch_make(actor=ctx.actor, **_colloid_values(values))
 
+
+def _reading_values(values, ctx) -> dict | None:
+    """The row's UV-vis reading as the reading service's values (None without a peak)."""
+    if values.get("uvvis_peak_nm") is None:
+        return None
     for name in ("uvvis_measured_on", "uvvis_peak_absorbance"):
         if values.get(name) is None:
             raise refusal(name, "A UV-vis reading needs its date and the absorbance at the "
                                 "peak.", "required")
-    if not created and SheetUvVisReading.objects.filter(
-            batch=batch, measured_on=values["uvvis_measured_on"],
-            peak_nm=values["uvvis_peak_nm"]).exists():
-        return []
-    exchange_services.sheet_uvvis_reading_record(
-        actor=ctx.actor, batch=batch, measured_on=values["uvvis_measured_on"],
-        peak_nm=values["uvvis_peak_nm"], peak_absorbance=values["uvvis_peak_absorbance"],
+    return dict(
+        measured_on=values["uvvis_measured_on"], peak_nm=values["uvvis_peak_nm"],
+        peak_absorbance=values["uvvis_peak_absorbance"],
         absorbance_450=values.get("uvvis_absorbance_450"),
         dilution_factor=values.get("uvvis_dilution_factor") or 1.0,
         path_length_cm=values.get("uvvis_path_length_cm") or 1.0, source=ctx.source)
+
+
+def _colloid_reading(batch, values, ctx, created: bool) -> list[str]:
+    """Add the row's UV-vis reading (if it has one and the batch lacks it)."""
+    reading = _reading_values(values, ctx)
+    if reading is None:
+        return []
+    if not created and SheetUvVisReading.objects.filter(
+            batch=batch, measured_on=reading["measured_on"],
+            peak_nm=reading["peak_nm"]).exists():
+        return []
+    exchange_services.sheet_uvvis_reading_record(actor=ctx.actor, batch=batch, **reading)
     return ["UV-vis reading added"]
+
+
+def _colloid_new(values, ctx):
+    """The batch and its reading, checked in the order the per-row path checks them."""
+    new = services.nanoparticle_batch_check(actor=ctx.actor, many=ctx.many,
+                                            **_colloid_values(values))
+    reading = _reading_values(values, ctx)
+    if reading is not None:
+        new.after.append(exchange_services.sheet_uvvis_reading_check(
+            actor=ctx.actor, batch=new.record, **reading))
+    return new
 
 
 def _first_reading(batch) -> dict:
@@ -176,6 +215,6 @@ COLLOID_BATCHES = Kind(
         Column("uvvis_path_length_cm", "UV-vis path length", "number", "cm", compare=False,
                aliases=("path length", "cuvette"), example=1.0),
         NOTES,
-    ), _colloid, extra=_colloid_reading,
+    ), _colloid, extra=_colloid_reading, prepare=_colloid_new,
     export_value={"source_lots": lambda r: [lot.code for lot in r.source_lots.all()],
                   **{name: _reading_value(name) for name in UVVIS_FIELDS}})

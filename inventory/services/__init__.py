@@ -5,6 +5,7 @@ the same way everywhere.  Errors are ``ValidationError`` keyed by field with a s
 Split by topic; import from ``inventory.services``.
 """
 
+from ._common import CheckingMany
 from .audit import (
     amendable_fields,
     record_amend,
@@ -12,6 +13,7 @@ from .audit import (
     record_release,
     record_void,
 )
+from .creation import NewRecord, codes_taken, new_record_save, new_records_insert
 from .deposition import (
     deposition_run_attach_chronoamperogram,
     deposition_run_check_target,
@@ -23,6 +25,7 @@ from .deposition import (
 from .fabrication import (
     deposition_run_record,
     linker_layer_apply,
+    nanoparticle_batch_check,
     nanoparticle_batch_make,
     particle_attach,
     substrate_receive,
@@ -30,16 +33,21 @@ from .fabrication import (
 )
 from .lifecycle import record_transition
 from .materials import (
+    reagent_lot_check,
     reagent_lot_open,
     reagent_lot_receive,
     shelf_life_rule_set,
+    sphere_lot_check,
     sphere_lot_receive,
     storage_location_create,
 )
 from .records import dataset_register, flag_raise, flag_resolve, sha256_of
 
 __all__ = [
+    "CheckingMany",
+    "NewRecord",
     "amendable_fields",
+    "codes_taken",
     "dataset_register",
     "deposition_run_attach_chronoamperogram",
     "deposition_run_check_target",
@@ -51,8 +59,12 @@ __all__ = [
     "flag_raise",
     "flag_resolve",
     "linker_layer_apply",
+    "nanoparticle_batch_check",
     "nanoparticle_batch_make",
+    "new_record_save",
+    "new_records_insert",
     "particle_attach",
+    "reagent_lot_check",
     "reagent_lot_open",
     "reagent_lot_receive",
     "record_amend",
@@ -62,6 +74,7 @@ __all__ = [
     "record_void",
     "sha256_of",
     "shelf_life_rule_set",
+    "sphere_lot_check",
     "sphere_lot_receive",
     "storage_location_create",
     "substrate_receive",

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import dataclasses
 from collections.abc import Iterable, Iterator, Sequence
 from contextlib import contextmanager
 from datetime import date
@@ -27,6 +28,7 @@ from ..models import (
     Substrate,
 )
 from ..models.ranges import PastDate
+from ..roles import require_role
 from ..shelf_life import refresh_expiry
 from ._constraints import validate_constraints
 
@@ -82,31 +84,40 @@ def _check_ranges(record: Model) -> None:
     _check_values(model, {name: getattr(record, name) for name in getattr(model, "RANGES", {})})
 
 
-def _check_fields(record: Model) -> None:
+def _check_fields(record: Model, *, exclude: Sequence[str] = ()) -> None:
     """Every field's own cleaning (text to numbers and dates), then its range.
 
     Before expiry is derived (a date in the year 9999 would overflow it) and before the
     constraints are checked (a constraint checked with NaN on SQLite reads it as NULL).
     """
-    record.clean_fields()
+    record.clean_fields(exclude=exclude or None)
     _check_ranges(record)
 
 
-def _full_clean(record: Model) -> None:
+def _full_clean(record: Model, *, fields_cleaned: bool = False,
+                unique_exclude: frozenset[str] = frozenset()) -> None:
     """``full_clean``, with a violated constraint reported under the field it guards.
 
     The CHECK constraints made from the kind's ``RANGES`` table are checked here in Python
     (``_check_ranges``: the same table, stricter) and simple ones evaluated in Python
     (``_constraints``) instead of by one ``SELECT`` each; the database still enforces all of
-    them on insert.
+    them on insert.  ``fields_cleaned``: the caller ran ``clean_fields`` already
+    (``_check_fields``), so it is not run twice; ``unique_exclude``: unique fields the caller
+    checks for many records at once (a new code, against the table, by ``codes_taken``).
     """
     _check_ranges(record)
     errors: dict = {}
+    steps = [record.clean] if fields_cleaned else [record.clean_fields, record.clean]
+    for step in steps:  # Model.full_clean's order, its errors merged the same way
+        try:
+            step()
+        except ValidationError as error:
+            errors = error.update_error_dict(errors)
+    exclude = {name for name in errors if name != NON_FIELD_ERRORS}
     try:
-        record.full_clean(validate_constraints=False)
+        record.validate_unique(exclude=exclude | unique_exclude)
     except ValidationError as error:
         errors = error.update_error_dict(errors)
-    exclude = {name for name in errors if name != NON_FIELD_ERRORS}
     try:
         validate_constraints(record, exclude=exclude)
     except ValidationError as error:
@@ -121,15 +132,55 @@ def _validate(record: Model) -> None:
     _full_clean(record)
 
 
-def _save_new(record: CodedRecord, *, actor: User | None, reason: str = "") -> CodedRecord:
-    """Give ``record`` its code, check every field, range and constraint, and insert it."""
+@dataclasses.dataclass(frozen=True)
+class CheckingMany:
+    """What a caller checking many new records (a sheet import) has read once for all.
+
+    ``rules``: the shelf-life rules (``rules_by_scope``); the inputs' status, expiry and void
+    were read under a row lock by the caller; the new codes are checked against the table all
+    at once (``codes_taken``) instead of one query per record; the actor's role is asked once
+    (``roles_granted``), and the actor, stamped on every record, is not looked up again for
+    each (it is the signed-in user; the foreign key still holds it on insert).
+    """
+
+    rules: dict = dataclasses.field(default_factory=dict)
+    roles_granted: set[str] = dataclasses.field(default_factory=set)
+
+
+STAMP_FIELDS = ("created_by", "updated_by")
+
+
+def _require_role(actor: User | None, role: str, *, action: str,
+                  many: CheckingMany | None = None) -> None:
+    """``require_role``, asked once per role by a caller checking many records."""
+    if many is not None and role in many.roles_granted:
+        return
+    require_role(actor, role, action=action)
+    if many is not None:
+        many.roles_granted.add(role)
+
+
+def _prepare_new(record: CodedRecord, *, actor: User | None,
+                 many: CheckingMany | None = None) -> CodedRecord:
+    """Give ``record`` its code and check every field, range and constraint; write nothing.
+
+    The check part of every create: ``_save_new`` saves what it approves, and a sheet import
+    checks many records through it and writes them at once (``creation.new_records_insert``).
+    """
     record.code = code_next(record.CODE_PREFIX)
     record.created_by = actor
     record.updated_by = actor
-    _check_fields(record)
+    _check_fields(record, exclude=() if many is None else STAMP_FIELDS)
     if isinstance(record, LifecycleRecord):
-        refresh_expiry(record)
-    _full_clean(record)
+        refresh_expiry(record, None if many is None else many.rules)
+    _full_clean(record, fields_cleaned=True,
+                unique_exclude=frozenset() if many is None else frozenset({"code"}))
+    return record
+
+
+def _save_new(record: CodedRecord, *, actor: User | None, reason: str = "") -> CodedRecord:
+    """Give ``record`` its code, check every field, range and constraint, and insert it."""
+    _prepare_new(record, actor=actor)
     _stamp_history(record, actor=actor, reason=reason)
     record.save()
     return record

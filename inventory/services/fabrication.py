@@ -33,14 +33,18 @@ from ..models import (
 )
 from ..roles import MAKER, require_role
 from ._common import (
+    CheckingMany,
     User,
     _check_substrates_usable,
     _link,
+    _prepare_new,
     _require_kind,
     _require_not_future,
+    _require_role,
     _save_changed,
     _save_new,
 )
+from .creation import NewRecord, new_record_save
 from .deposition import (
     _apply,
     _prepare,
@@ -261,25 +265,31 @@ def linker_layer_apply(
     return layer
 
 
-@transaction.atomic
-def nanoparticle_batch_make(
+def nanoparticle_batch_check(
     *, actor: User | None, metal: str, synthesis_method: str, volume_mL: float, made_on: date,
     source_lots: Sequence[ReagentLot] = (), target_diameter_nm: float | None = None,
-    storage: StorageLocation | None = None, notes: str = "",
-) -> NanoparticleBatch:
-    require_role(actor, MAKER, action="Recording a colloid batch")
+    storage: StorageLocation | None = None, notes: str = "", many: CheckingMany | None = None,
+) -> NewRecord:
+    """Every rule of recording a colloid batch, on the unsaved batch (with its code)."""
+    _require_role(actor, MAKER, action="Recording a colloid batch", many=many)
     _require_not_future(made_on, field="made_on")
     for lot in source_lots:
-        check_usable(lot, role="a colloid reagent", on_date=made_on, field="source_lots")
-    batch = _save_new(NanoparticleBatch(
+        check_usable(lot, role="a colloid reagent", on_date=made_on, field="source_lots",
+                     state_read=many is not None)
+    batch = _prepare_new(NanoparticleBatch(
         metal=metal, synthesis_method=synthesis_method, volume_mL=volume_mL, made_on=made_on,
         target_diameter_nm=target_diameter_nm, storage=storage, notes=notes,
-    ), actor=actor)
-    if source_lots:
-        batch.source_lots.set(source_lots)
-        _link([(lot, lot.get_kind_display().lower()) for lot in source_lots], batch,
-              used_on=made_on, actor=actor)
-    return batch
+    ), actor=actor, many=many)
+    if not source_lots:
+        return NewRecord(batch)
+    return NewRecord(batch, inputs=[(lot, lot.get_kind_display().lower()) for lot in source_lots],
+                     used_on=made_on, links={"source_lots": list(source_lots)})
+
+
+@transaction.atomic
+def nanoparticle_batch_make(*, actor: User | None, **values) -> NanoparticleBatch:
+    """Record a colloid batch; ``values`` are those of :func:`nanoparticle_batch_check`."""
+    return new_record_save(nanoparticle_batch_check(actor=actor, **values), actor=actor)
 
 
 @transaction.atomic

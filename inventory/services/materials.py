@@ -21,13 +21,16 @@ from ..shelf_life import (
     validate_rule_date,
 )
 from ._common import (
+    CheckingMany,
     User,
-    _link,
+    _prepare_new,
     _require_not_future,
+    _require_role,
     _save_changed,
     _save_new,
     _save_setting,
 )
+from .creation import NewRecord, new_record_save
 
 
 @transaction.atomic
@@ -37,17 +40,16 @@ def storage_location_create(*, actor: User | None, name: str, kind: str,
     return _save_new(StorageLocation(name=name, kind=kind, room=room), actor=actor)
 
 
-@transaction.atomic
-def reagent_lot_receive(
+def reagent_lot_check(
     *, actor: User | None, name: str, kind: str, supplier: str = "", supplier_lot: str = "",
     received_on: date | None = None, opened_on: date | None = None,
     prepared_on: date | None = None, prepared_from: Sequence[ReagentLot] = (),
     ghs_hazard_codes: str = "", quantity=None, quantity_unit: str = "",
     concentration_mM: float | None = None, storage: StorageLocation | None = None,
-    notes: str = "",
-) -> ReagentLot:
-    """Record a purchased lot (``received_on``) or a lab-prepared one (``prepared_on``)."""
-    require_role(actor, MAKER, action="Receiving a reagent lot")
+    notes: str = "", many: CheckingMany | None = None,
+) -> NewRecord:
+    """Every rule of receiving a reagent lot, on the unsaved lot (with its code); no write."""
+    _require_role(actor, MAKER, action="Receiving a reagent lot", many=many)
     if received_on is None and prepared_on is None:
         raise refusal("received_on", "Give the date received (or prepared_on for a "
                                               "solution made in the lab).", "no_date")
@@ -60,7 +62,7 @@ def reagent_lot_receive(
     used_on = prepared_on or received_on
     for source in prepared_from:
         check_usable(source, role="a source of a prepared lot", on_date=used_on,
-                     field="prepared_from")
+                     field="prepared_from", state_read=many is not None)
     lot = ReagentLot(
         name=name, kind=kind, supplier=supplier, supplier_lot=supplier_lot,
         received_on=received_on, opened_on=opened_on, prepared_on=prepared_on,
@@ -68,12 +70,18 @@ def reagent_lot_receive(
         quantity_unit=quantity_unit, concentration_mM=concentration_mM, storage=storage,
         notes=notes,
     )
-    _save_new(lot, actor=actor)
-    if prepared_from:
-        lot.prepared_from.set(prepared_from)
-        _link([(source, "prepared from") for source in prepared_from], lot,
-              used_on=used_on, actor=actor)
-    return lot
+    _prepare_new(lot, actor=actor, many=many)
+    if not prepared_from:
+        return NewRecord(lot)
+    return NewRecord(lot, inputs=[(source, "prepared from") for source in prepared_from],
+                     used_on=used_on, links={"prepared_from": list(prepared_from)})
+
+
+@transaction.atomic
+def reagent_lot_receive(*, actor: User | None, **values) -> ReagentLot:
+    """Record a purchased lot (``received_on``) or a lab-prepared one (``prepared_on``);
+    ``values`` are those of :func:`reagent_lot_check`."""
+    return new_record_save(reagent_lot_check(actor=actor, **values), actor=actor)
 
 
 @transaction.atomic
@@ -92,21 +100,27 @@ def reagent_lot_open(*, actor: User | None, lot: ReagentLot, opened_on: date) ->
     return lot
 
 
-@transaction.atomic
-def sphere_lot_receive(
+def sphere_lot_check(
     *, actor: User | None, material: str, nominal_diameter_nm: float, solids_percent_w_v: float,
     received_on: date, size_cv_percent: float | None = None, supplier: str = "",
     supplier_lot: str = "", volume_mL: float | None = None,
-    storage: StorageLocation | None = None, notes: str = "",
-) -> SphereLot:
-    require_role(actor, MAKER, action="Receiving a sphere lot")
+    storage: StorageLocation | None = None, notes: str = "", many: CheckingMany | None = None,
+) -> NewRecord:
+    """Every rule of receiving a sphere lot, on the unsaved lot (with its code); no write."""
+    _require_role(actor, MAKER, action="Receiving a sphere lot", many=many)
     _require_not_future(received_on, field="received_on")
-    return _save_new(SphereLot(
+    return NewRecord(_prepare_new(SphereLot(
         material=material, nominal_diameter_nm=nominal_diameter_nm,
         solids_percent_w_v=solids_percent_w_v, size_cv_percent=size_cv_percent,
         supplier=supplier, supplier_lot=supplier_lot, received_on=received_on,
         volume_mL=volume_mL, storage=storage, notes=notes,
-    ), actor=actor)
+    ), actor=actor, many=many))
+
+
+@transaction.atomic
+def sphere_lot_receive(*, actor: User | None, **values) -> SphereLot:
+    """Record a sphere lot as received; ``values`` are those of :func:`sphere_lot_check`."""
+    return new_record_save(sphere_lot_check(actor=actor, **values), actor=actor)
 
 
 @transaction.atomic

@@ -20,6 +20,7 @@ from ._common import _save_new as save_new
 from ._common import _save_setting as save_setting
 from ._common import _stamp_history as stamp_history
 from ._common import _validate as validate
+from ._constraints import validate_constraints
 from .lifecycle import _transition as transition
 from .lifecycle import lock
 from .uploads import RawUpload, stored_file_on_disk
@@ -42,4 +43,5 @@ __all__ = [
     "stored_file_on_disk",
     "transition",
     "validate",
+    "validate_constraints",
 ]
