@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import dataclasses
+import math
 from collections.abc import Iterable, Iterator, Sequence
 from contextlib import contextmanager
 from datetime import date
@@ -11,7 +12,7 @@ from pathlib import PurePosixPath
 from django.conf import settings
 from django.contrib.auth.models import AbstractBaseUser
 from django.core.exceptions import NON_FIELD_ERRORS, ValidationError
-from django.db.models import FileField, Model
+from django.db.models import FileField, IntegerField, Model
 from django.utils import timezone
 
 from ..codes import code_next
@@ -84,12 +85,27 @@ def _check_ranges(record: Model) -> None:
     _check_values(model, {name: getattr(record, name) for name in getattr(model, "RANGES", {})})
 
 
+def _refuse_fractional_integers(record: Model) -> None:
+    """A whole-number field given 2.5 (or an infinite number) is refused under its name.
+
+    Django's ``IntegerField.to_python`` is ``int(value)``: it would store 2.5 as 2 without a
+    word, and raise OverflowError (a 500) on infinity.  3.0 is a whole number and passes.
+    """
+    for field in record._meta.concrete_fields:
+        value = getattr(record, field.attname, None)
+        if (isinstance(field, IntegerField) and isinstance(value, float)
+                and not (math.isfinite(value) and value.is_integer())):
+            raise refusal(field.name, f"The {field.verbose_name} must be a whole number "
+                                      f"(got {value:g}).", "not_whole_number")
+
+
 def _check_fields(record: Model, *, exclude: Sequence[str] = ()) -> None:
     """Every field's own cleaning (text to numbers and dates), then its range.
 
     Before expiry is derived (a date in the year 9999 would overflow it) and before the
     constraints are checked (a constraint checked with NaN on SQLite reads it as NULL).
     """
+    _refuse_fractional_integers(record)
     record.clean_fields(exclude=exclude or None)
     _check_ranges(record)
 
@@ -105,6 +121,8 @@ def _full_clean(record: Model, *, fields_cleaned: bool = False,
     (``_check_fields``), so it is not run twice; ``unique_exclude``: unique fields the caller
     checks for many records at once (a new code, against the table, by ``codes_taken``).
     """
+    if not fields_cleaned:
+        _refuse_fractional_integers(record)
     _check_ranges(record)
     errors: dict = {}
     steps = [record.clean] if fields_cleaned else [record.clean_fields, record.clean]

@@ -87,3 +87,28 @@ def test_same_file_twice_in_one_dataset_is_refused(chain):
                                  acquired_on=chain.day(0),
                                  files=[("a.csv", b"1,2\n"), ("b.csv", b"1,2\n")])
     assert _fields(error.value) == {"files"}
+
+
+def test_a_fractional_whole_number_is_refused_not_truncated(chain):
+    # Django's IntegerField.to_python is int(value), which turns 2.5 into 2 without a word;
+    # electrons per atom and piece counts are whole numbers, so 2.5 is an error to report.
+    from inventory.services import record_amend
+
+    run, _pieces = chain.run()
+    with pytest.raises(ValidationError) as error:
+        record_amend(actor=chain.maker, record=run, changes={"electrons_per_atom": 2.5},
+                     reason="typo", expected_version=run.version)
+    assert _fields(error.value) == {"electrons_per_atom"}
+    assert "whole number" in str(error.value)
+    run.refresh_from_db()
+    assert run.electrons_per_atom == 1
+    with pytest.raises(ValidationError) as error:
+        chain.s.deposition_run_record(actor=chain.maker, template=chain.template(),
+                                      bath_lot=chain.lot("plating_bath"), metal="Au",
+                                      electrons_per_atom=1.5, mode="potentiostatic",
+                                      electrode_area_cm2=1.0, made_on=chain.day(1), pieces=3)
+    assert _fields(error.value) == {"electrons_per_atom"}
+    # A whole number written as a float (3.0, as JSON and spreadsheets often give it) is fine.
+    amended = record_amend(actor=chain.maker, record=run, changes={"electrons_per_atom": 3.0},
+                           reason="three electrons", expected_version=run.version)
+    assert amended.electrons_per_atom == 3
