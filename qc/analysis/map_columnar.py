@@ -197,7 +197,6 @@ def read_map_wide_columnar(source: bytes | Path) -> RamanMap | None:
     if isinstance(fast, WideRows):
         positions, intensity, reader = fast.positions, fast.intensity, "compiled"
     else:
-        del fast
         parsed = _arrow_rows(source, header_index, delimiter, shift)
         if parsed is None:
             return None

@@ -31,16 +31,16 @@ _BLOCK_BYTES = 4 << 20
 _EXACT_POWERS = np.array([float(10**k) for k in range(23)])  # 10⁰ … 10²² are exact doubles
 _POWERS_OF_FIVE = np.array([5**k for k in range(23)], dtype=np.int64)
 _MAX_EXACT_MANTISSA = 1 << 53
+_ROWS_MARGIN = 1.05  # rows first made for the file's length over its first row's, and 5 %
 # A float64 exactly halfway between two float32 values: bit 28 set, bits 0–27 clear.
 _LOW_BITS, _HALFWAY = (1 << 29) - 1, 1 << 28
 _SPACE, _NEWLINE, _RETURN, _POINT, _MINUS, _PLUS = 32, 10, 13, 46, 45, 43
 
 # Why a file was declined (``Declined.code``).
-OK, BAD_CELL, INEXACT, CELL_COUNT, TOO_MANY_ROWS, HALFWAY = range(6)
+OK, BAD_CELL, INEXACT, CELL_COUNT, HALFWAY, FULL = range(6)  # FULL: grow the output
 REASONS = {BAD_CELL: "a cell that is not a plain decimal number",
            INEXACT: "more digits or a larger exponent than the exact fast path",
            CELL_COUNT: "a row with a different number of cells",
-           TOO_MANY_ROWS: "more rows than the file's size allows",
            HALFWAY: "a value halfway between two float32 values"}
 
 
@@ -96,17 +96,18 @@ def _is_exact(value, mantissa, power):  # pragma: no cover - compiled
 
 
 @njit(nogil=True, cache=True)
-def _parse_rows(buf, end, delimiter, positions, intensity, row, ascending):  # pragma: no cover
-    """Rows of ``buf[:end]`` into ``positions`` and ``intensity`` from ``row`` on.
+def _parse_rows(buf, i, end, delimiter, positions, intensity, row,  # pragma: no cover
+                ascending):
+    """Rows of ``buf[i:end]`` into ``positions`` and ``intensity`` from ``row`` on.
 
-    Returns (code, rows filled so far, byte index): ``OK`` and the end, or why and where
+    Returns (code, rows filled so far, byte index): ``OK`` and the end, ``FULL`` and the
+    line that found no room, or why and where
     not.  One loop with the cell and its two digit runs written out in it: as functions
     returning tuples (even inlined by numba) it ran at a half to a third of the speed.
     """
     last = intensity.shape[1] + 1
     scratch = np.empty(1, np.float64)
     bits = scratch.view(np.uint64)
-    i = 0
     while i < end:
         if buf[i] == _NEWLINE:  # blank lines are skipped, as Arrow does
             i += 1
@@ -115,7 +116,7 @@ def _parse_rows(buf, end, delimiter, positions, intensity, row, ascending):  # p
             i += 2
             continue
         if row >= intensity.shape[0]:
-            return TOO_MANY_ROWS, row, i
+            return FULL, row, i
         out = intensity[row] if ascending else intensity[row, ::-1]
         for column in range(last + 1):
             start = i
@@ -199,21 +200,50 @@ def _after_last_newline(buf, end):  # pragma: no cover - compiled
     return 0
 
 
+def _first_line_bytes(buf, end: int) -> int:
+    """Bytes of the first line of ``buf[:end]`` with its newline (all of it when none)."""
+    found = buf[:min(end, 1 << 20)].tobytes().find(b"\n")
+    return end if found < 0 else found + 1
+
+
+class _Rows:
+    """The growing output: sized from the first row, grown half again when full."""
+
+    def __init__(self, n_shift: int, first_line: int, remaining: int):
+        # A row of n cells takes at least 2n − 1 bytes: never more rows than that allows.
+        at_most = remaining // (2 * (n_shift + 2) - 1) + 1
+        rows = min(int(remaining / max(first_line, 1) * _ROWS_MARGIN) + 16, at_most)
+        self.intensity = np.empty((rows, n_shift), dtype=np.float32)
+        self.positions = np.empty((rows, 2))
+
+    def grow(self) -> None:
+        rows = self.intensity.shape[0] * 3 // 2 + 16  # realloc: pages remapped, not copied
+        self.intensity.resize((rows, self.intensity.shape[1]), refcheck=False)
+        self.positions.resize((rows, 2), refcheck=False)
+
+    def parse(self, buf, stop: int, separator: int, row: int, ascending: bool):
+        """Rows of ``buf[:stop]`` from ``row`` on: (code, rows so far, byte index)."""
+        at = 0
+        while True:
+            code, row, at = _parse_rows(buf, at, stop, separator, self.positions,
+                                        self.intensity, row, ascending)
+            if code != FULL:
+                return code, row, at
+            self.grow()
+
+
 def read_wide_rows(source: bytes | Path, data_start: int, delimiter: str, n_shift: int,
                    ascending: bool) -> WideRows | Declined:
     """Parse every row from byte ``data_start`` on: ``x, y`` then ``n_shift`` intensities.
 
     ``delimiter`` is the header's (``,``, tab or ``;``); intensities are stored with the
-    shifts made ascending.  Rows are sized by the file's length (a row of n cells takes at
-    least 2n − 1 bytes), untouched memory beyond the rows read is never resident and is
-    cut off at the end.
+    shifts made ascending.  Rows are sized from the first row's length and the file's,
+    grown if the rows turn out shorter, and cut to the rows read at the end.
     """
     size = source.stat().st_size if isinstance(source, Path) else len(source)
-    rows_at_most = (size - data_start) // (2 * (n_shift + 2) - 1) + 1
-    intensity = np.empty((rows_at_most, n_shift), dtype=np.float32)
-    positions = np.empty((rows_at_most, 2))
     separator = ord(delimiter)
     buffer = np.empty(_BLOCK_BYTES, dtype=np.uint8)
+    out = None
     carry, row, offset = 0, 0, data_start  # bytes kept from the last block; its file offset
     with source.open("rb") if isinstance(source, Path) else io.BytesIO(source) as handle:
         handle.seek(data_start)
@@ -226,8 +256,9 @@ def read_wide_rows(source: bytes | Path, data_start: int, delimiter: str, n_shif
                     buffer = np.concatenate([buffer, np.empty_like(buffer)])
                 carry = end
                 continue
-            code, row, at = _parse_rows(buffer, stop, separator, positions, intensity, row,
-                                        ascending)
+            if out is None:
+                out = _Rows(n_shift, _first_line_bytes(buffer, stop), size - data_start)
+            code, row, at = out.parse(buffer, stop, separator, row, ascending)
             if code != OK:
                 return Declined(int(code), offset + int(at))
             if read == 0:
@@ -235,5 +266,5 @@ def read_wide_rows(source: bytes | Path, data_start: int, delimiter: str, n_shif
             carry = end - stop
             buffer[:carry] = buffer[stop:end]
             offset += stop
-    intensity.resize((row, n_shift), refcheck=False)  # shrinks in place, no copy
-    return WideRows(positions[:row], intensity)
+    out.intensity.resize((row, n_shift), refcheck=False)  # shrinks in place, no copy
+    return WideRows(out.positions[:row], out.intensity)

@@ -205,3 +205,15 @@ def test_a_double_halfway_between_float32_values_is_declined_unless_exact(monkey
     exact_halfway = (HEADER + "0,0,1,10753808.5,16777217,-0.75\n").encode()
     rows = map_fastparse.read_wide_rows(exact_halfway, len(HEADER), ",", 4, True)
     assert rows.intensity.tolist() == [[1.0, 10753808.0, 16777216.0, -0.75]]  # ties to even
+
+
+def test_rows_shorter_than_the_first_grow_the_map(monkeypatch):
+    # The map is sized from the first row's length: a long first row, then 300 short ones.
+    long_row = "0,0," + ",".join(["1234567.1234567"] * 4)
+    short = [f"{k},1,{k % 7},2,3,{k % 5}" for k in range(1, 301)]
+    raw = (HEADER + "\n".join([long_row, *short]) + "\n").encode()
+    rows = map_fastparse.read_wide_rows(raw, len(HEADER), ",", 4, True)
+    assert rows.intensity.shape == (301, 4) and rows.positions.shape == (301, 2)
+    arrow = _arrow_only(monkeypatch, raw)
+    assert rows.intensity.tobytes() == arrow.intensity.tobytes()
+    np.testing.assert_array_equal(rows.positions[:, 0], arrow.x_um)
