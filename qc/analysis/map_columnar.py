@@ -11,6 +11,7 @@ from pathlib import Path
 import numpy as np
 
 from ._validation import all_finite
+from .map_fastparse import WideRows, read_wide_rows
 from .spectrum import RamanMap
 from .text_tables import (
     COMMENT_PREFIXES,
@@ -92,22 +93,25 @@ def _batch_into(batch, intensity: np.ndarray, positions: np.ndarray, ascending: 
         intensity[:, first:first + len(group)] = by_shift.T
 
 
-def read_map_wide_columnar(source: bytes | Path) -> RamanMap | None:
-    """The common wide map (one header, comma/tab/semicolon, decimal points) read by columns.
+def _data_start(head: bytes, header_index: int) -> int | None:
+    """Byte offset of the line after the header, when the compiled parser may start there.
 
-    Apache Arrow's CSV reader parses straight into float32 intensities (7 significant
-    digits, finer than any detector's counts) without building Python rows, about ten
-    times faster than :func:`numpy.loadtxt` on a 50 MB map and with a fraction of its
-    memory.  It streams a block at a time into the map, so neither the raw file (a ``Path``
-    is read from disk) nor a whole Arrow table is ever held beside it.  Anything unusual
-    (decimal commas, blanks as separator, comments after the header, a bad cell) returns
-    ``None`` so the line-by-line reader names the line at fault.
+    Arrow's reader skips ``header_index + 1`` lines; a quote or a bare carriage return
+    before the data could make it count them otherwise, so such a file goes to Arrow.
     """
-    try:
-        import pyarrow as arrow  # optional speed-up; the numpy path always works
-        from pyarrow import csv as arrow_csv
-    except ImportError:
+    start = 0
+    for _ in range(header_index + 1):
+        start = head.find(b"\n", start) + 1
+        if start == 0:
+            return None
+    prefix = head[:start]
+    if b'"' in prefix or prefix.count(b"\r") != prefix.count(b"\r\n"):
         return None
+    return start
+
+
+def _wide_header(source: bytes | Path) -> tuple[int, str, np.ndarray, int | None] | None:
+    """Header line index, delimiter, shifts (as written) and data start of a plain wide map."""
     head, whole = _head_of(source)
     found = _header_of(head, whole)
     if found is None or head.startswith((b"\xff\xfe", b"\xfe\xff")):
@@ -123,7 +127,18 @@ def read_map_wide_columnar(source: bytes | Path) -> RamanMap | None:
     if not np.all(np.isfinite(shift)) or np.any(np.diff(shift) == 0) or not (
             np.all(np.diff(shift) > 0) or np.all(np.diff(shift) < 0)):
         return None
-    names = [f"c{i}" for i in range(len(cells))]
+    return header_index, delimiter, shift, _data_start(head, header_index)
+
+
+def _arrow_rows(source: bytes | Path, header_index: int, delimiter: str,
+                shift: np.ndarray) -> tuple[np.ndarray, np.ndarray] | None:
+    """Positions and float32 intensities by Arrow's streaming CSV reader, or ``None``."""
+    try:
+        import pyarrow as arrow  # optional speed-up; the numpy path always works
+        from pyarrow import csv as arrow_csv
+    except ImportError:
+        return None
+    names = [f"c{i}" for i in range(shift.size + 2)]
     types = {name: arrow.float64() if i < 2 else arrow.float32() for i, name in enumerate(names)}
     options = dict(
         read_options=arrow_csv.ReadOptions(skip_rows=header_index + 1, column_names=names,
@@ -155,18 +170,45 @@ def read_map_wide_columnar(source: bytes | Path) -> RamanMap | None:
         # Arrow's allocator keeps freed pages for reuse; give them back, so the analysis
         # that follows does not stack its arrays on top of the parse's.
         arrow.default_memory_pool().release_unused()
-    if rows == 0:
-        return None
     intensity.resize((rows, shift.size), refcheck=False)  # shrinks in place, no copy
-    positions = positions[:rows]
-    if not (all_finite(intensity) and np.isfinite(positions).all()):
+    return positions[:rows], intensity
+
+
+def read_map_wide_columnar(source: bytes | Path) -> RamanMap | None:
+    """The common wide map (one header, comma/tab/semicolon, decimal points) read by columns.
+
+    The compiled parser (:mod:`qc.analysis.map_fastparse`) reads the plain decimal cells of
+    almost every export straight into the float32 map; a file it declines goes to Apache
+    Arrow's CSV reader, which parses into float32 intensities (7 significant digits, finer
+    than any detector's counts) without building Python rows, about ten times faster than
+    :func:`numpy.loadtxt` on a 50 MB map and with a fraction of its memory.  Both stream a
+    block at a time into the map, so neither the raw file (a ``Path`` is read from disk)
+    nor a whole Arrow table is ever held beside it.  Anything unusual (decimal commas,
+    blanks as separator, comments after the header, a bad cell) returns ``None`` so the
+    line-by-line reader names the line at fault.
+    """
+    header = _wide_header(source)
+    if header is None:
+        return None
+    header_index, delimiter, shift, data_start = header
+    ascending = bool(shift[1] > shift[0])
+    fast = (None if data_start is None
+            else read_wide_rows(source, data_start, delimiter, shift.size, ascending))
+    if isinstance(fast, WideRows):
+        positions, intensity, reader = fast.positions, fast.intensity, "compiled"
+    else:
+        parsed = _arrow_rows(source, header_index, delimiter, shift)
+        if parsed is None:
+            return None
+        (positions, intensity), reader = parsed, "Apache Arrow"
+    rows = positions.shape[0]
+    if rows == 0 or not (all_finite(intensity) and np.isfinite(positions).all()):
         return None
     intensity.setflags(write=False)  # handed to the map as it is, not copied
     if np.unique(positions, axis=0).shape[0] != rows:
         return None
     metadata = {"layout": "wide", "header_lines": 1, "comment_lines": header_index,
                 "delimiter": DELIMITER_NAMES[delimiter], "decimal_comma": False,
-                "intensity_unit": "counts", "reader": "columnar (Apache Arrow), float32"}
+                "intensity_unit": "counts", "reader": f"columnar ({reader}), float32"}
     return RamanMap(positions[:, 0].copy(), positions[:, 1].copy(), np.sort(shift), intensity,
                     None, metadata)
-
