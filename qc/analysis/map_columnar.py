@@ -16,6 +16,7 @@ from .spectrum import RamanMap
 from .text_tables import (
     COMMENT_PREFIXES,
     DELIMITER_NAMES,
+    MAX_ABS_VALUE,
     detect_delimiter,
     is_number,
     split_cells,
@@ -174,6 +175,12 @@ def _arrow_rows(source: bytes | Path, header_index: int, delimiter: str,
     return positions[:rows], intensity
 
 
+def _beyond_export_range(intensity: np.ndarray, positions: np.ndarray) -> bool:
+    """Any cell beyond MAX_ABS_VALUE (min and max: no temporary the size of the map)."""
+    return bool(max(-intensity.min(), intensity.max(), np.abs(positions).max())
+                > MAX_ABS_VALUE)
+
+
 def read_map_wide_columnar(source: bytes | Path) -> RamanMap | None:
     """The common wide map (one header, comma/tab/semicolon, decimal points) read by columns.
 
@@ -204,6 +211,8 @@ def read_map_wide_columnar(source: bytes | Path) -> RamanMap | None:
     rows = positions.shape[0]
     if rows == 0 or not (all_finite(intensity) and np.isfinite(positions).all()):
         return None
+    if _beyond_export_range(intensity, positions):
+        return None  # the text reader refuses such a cell and names its line
     intensity.setflags(write=False)  # handed to the map as it is, not copied
     if np.unique(positions, axis=0).shape[0] != rows:
         return None

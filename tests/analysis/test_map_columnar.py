@@ -62,3 +62,22 @@ def test_a_map_on_disk_is_read_by_columns_from_its_path_as_from_its_bytes(tmp_pa
     with pytest.raises(AnalysisInputError) as refused:
         read_spectrum_or_map(bad, bad.name)
     assert refused.value.line == 6
+
+
+@pytest.mark.parametrize("column, value", [(5, "5e13"), (5, "-2.5e12"), (0, "1e13")])
+def test_a_cell_beyond_any_export_is_refused_on_every_path(tmp_path, column, value):
+    # The text reader refuses a cell beyond MAX_ABS_VALUE (1e12; no detector counts that
+    # high); the columnar paths (compiled and Arrow) must not accept what it refuses.
+    lines = MAP.read_text().splitlines()
+    header = next(i for i, line in enumerate(lines) if line and not line.startswith("#"))
+    cells = lines[header + 2].split(",")
+    cells[column] = value
+    lines[header + 2] = ",".join(cells)
+    text = "\n".join(lines) + "\n"
+    on_disk = tmp_path / "huge.csv"
+    on_disk.write_text(text)
+    for source in (text.encode(), on_disk):
+        with pytest.raises(AnalysisInputError) as refused:
+            read_spectrum_or_map(source, MAP.name)
+        assert refused.value.line == header + 3
+        assert "at most 1e+12" in str(refused.value)

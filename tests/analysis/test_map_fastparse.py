@@ -20,6 +20,7 @@ from hypothesis import strategies as st
 from qc.analysis import map_columnar, map_fastparse
 from qc.analysis.errors import AnalysisInputError
 from qc.analysis.readers import read_spectrum_or_map
+from qc.analysis.text_tables import MAX_ABS_VALUE
 
 FUZZ = settings(max_examples=120, derandomize=True, deadline=None,
                 suppress_health_check=[HealthCheck.too_slow])
@@ -49,6 +50,9 @@ def _nearest_float32(text: str) -> np.float32:
     guess = np.float32(float(text))
     candidates = [np.nextafter(guess, np.float32(-np.inf)), guess,
                   np.nextafter(guess, np.float32(np.inf))]
+    candidates = [c for c in candidates if np.isfinite(c)]  # next to float32's largest
+    if not candidates:
+        return guess  # beyond float32: infinite, as the reader would read it
     distances = [abs(Fraction(float(c)) - exact) for c in candidates]
     best = min(distances)
     ties = [c for c, d in zip(candidates, distances, strict=True) if d == best]
@@ -130,8 +134,8 @@ def test_random_decimals_read_as_the_correctly_rounded_float32(cells):
     raw = (HEADER + "0,0," + ",".join(cells) + "\n").encode()
     found = map_columnar.read_map_wide_columnar(raw)  # compiled or, declined, Arrow
     expected = [_nearest_float32(cell) for cell in cells]
-    if not all(np.isfinite(expected)):
-        assert found is None
+    if not all(np.isfinite(expected)) or max(map(abs, expected)) > MAX_ABS_VALUE:
+        assert found is None  # left to the text reader, which refuses it naming the line
         return
     assert found.intensity[0].tobytes() == np.array(expected, np.float32).tobytes()
 
