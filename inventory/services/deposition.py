@@ -46,6 +46,7 @@ from .deposition_target import (
     deposition_tolerance_in_force,
     deposition_tolerance_set,
 )
+from .lifecycle import check_not_voided
 from .records import sha256_of
 
 __all__ = [
@@ -91,6 +92,7 @@ def deposition_run_attach_chronoamperogram(
     require_role(actor, MAKER, action="Attaching a chronoamperogram")
     run = DepositionRun.objects.select_for_update(of=("self",)).select_related(
         "template__sphere_lot").get(pk=run.pk)
+    check_not_voided(run)
     digest = sha256_of(content)
     if run.chronoamperogram_sha256:
         if run.chronoamperogram_sha256 == digest:
@@ -290,6 +292,7 @@ def deposition_run_enter_charge(*, actor: User | None, run: DepositionRun, charg
     charge = checked_entered_charge(charge_C)
     run = DepositionRun.objects.select_for_update(of=("self",)).select_related(
         "template__sphere_lot").get(pk=run.pk)
+    check_not_voided(run)
     if run.charge_source == FROM_FILE:
         raise refusal("charge_C", f"{run.code}'s charge is integrated from "
                                   f"{run.chronoamperogram_name} (sha256 "

@@ -177,3 +177,20 @@ def test_amending_the_sphere_diameter_recomputes_an_entered_charges_height(chain
     # The same metal fills smaller voids higher: h/D rises from 0.50.
     assert run.height_over_diameter > 0.55
     assert "figures recomputed" in _reason(run) and spheres.code in _reason(run)
+
+
+def test_a_voided_run_takes_neither_a_charge_nor_a_file(chain):
+    # A voided record is kept for lineage and history only; new figures on it would be read
+    # as current (the same rule as record_amend's).
+    run, _ = _record(chain)
+    chain.s.record_void(actor=chain.reviewer, record=run, reason="recorded twice")
+    run = DepositionRun.objects.get(pk=run.pk)
+    with pytest.raises(ValidationError) as refused:
+        chain.s.deposition_run_enter_charge(actor=chain.maker, run=run, charge_C=0.11)
+    assert refused.value.error_dict["record"][0].code == "voided"
+    with pytest.raises(ValidationError) as refused:
+        chain.s.deposition_run_attach_chronoamperogram(
+            actor=chain.maker, run=run, filename=ON_TARGET.name, content=ON_TARGET.read_bytes())
+    assert refused.value.error_dict["record"][0].code == "voided"
+    run = DepositionRun.objects.get(pk=run.pk)
+    assert run.charge_C is None and not run.chronoamperogram_sha256
