@@ -142,3 +142,40 @@ def test_a_missing_column_with_unknown_headers_asks_for_a_mapping(maker, today):
     (error,) = run(content, "lots.csv", actor=maker).errors
     assert (error.row, error.code) == (1, "missing_column")
     assert "Nominal diameter (nm)" in error.reason and "Colour" in error.reason
+
+
+def test_blank_cells_without_formulas_read_the_workbook_once(maker, today, monkeypatch):
+    # The formula view of a workbook (a second full read) is only needed when a formula
+    # might hide behind an empty cell; a sheet with none is read once.
+    from exchange import sheets
+
+    loads = []
+    real_load = sheets._load
+    monkeypatch.setattr(sheets, "_load", lambda *a, **k: loads.append(k) or real_load(*a, **k))
+    blank_cv = [HEADER + ["Size CV (%)"], GOOD + [None], GOOD + [2.0]]
+    assert run(xlsx_bytes(blank_cv), actor=maker, commit=False).ok
+    assert [k["data_only"] for k in loads] == [True]
+    loads.clear()
+    # With a formula somewhere (here without a saved result) the formula view is read.
+    with_formula = xlsx_bytes([HEADER, ["polystyrene", "=300*2", 10, date(2026, 5, 1)]])
+    assert errors_of(run(with_formula, actor=maker)) == {(2, "Nominal diameter (nm)",
+                                                          "formula")}
+    assert [k["data_only"] for k in loads] == [True, False]
+
+
+@pytest.mark.parametrize("xml, found", [
+    (b'<c r="B2"><f>300*2</f><v></v></c>', True),
+    (b'<x:c r="B2"><x:f t="shared" ref="B2:B9" si="0">A2*2</x:f></x:c>', True),
+    (b'<c r="B2"><f/></c>', True),
+    (b'<autoFilter ref="A1:D9"><filterColumn colId="0"/></autoFilter>'
+     b'<headerFooter><firstFooter>x</firstFooter></headerFooter>', False),
+])
+def test_the_formula_scan_finds_the_formula_element_and_nothing_else(xml, found):
+    # ECMA-376 Part 1, 18.3.1.40: a cell's formula is the <f> element (any namespace prefix);
+    # other sheet elements that begin with f (filterColumn, firstFooter) are not formulas.
+    from exchange.sheets import _xml_has_formula
+
+    head = b'<worksheet xmlns="http://schemas.openxmlformats.org/spreadsheetml/2006/main">'
+    whole = head + xml + b"</worksheet>"
+    # read in chunks of 3 bytes: a tag split between two chunks is still seen
+    assert _xml_has_formula(whole[i:i + 3] for i in range(0, len(whole), 3)) is found
