@@ -238,13 +238,17 @@ def _save_setting(model: type[StampedRecord], *, actor: User | None, scope: dict
     return setting
 
 
+def _lineage_edges(parents: Iterable[tuple[CodedRecord, str]], child: CodedRecord, *,
+                   used_on: date | None, actor: User | None) -> list[LineageEdge]:
+    """The unsaved edges from each ``(parent, role)`` to ``child`` (one record or many)."""
+    return [LineageEdge(parent_code=parent.code, child_code=child.code, role=role,
+                        used_on=used_on, created_by=actor) for parent, role in parents]
+
+
 def _link(parents: Iterable[tuple[CodedRecord, str]], child: CodedRecord, *, used_on: date,
           actor: User | None) -> None:
-    LineageEdge.objects.bulk_create([
-        LineageEdge(parent_code=parent.code, child_code=child.code, role=role,
-                    used_on=used_on, created_by=actor)
-        for parent, role in parents
-    ])
+    LineageEdge.objects.bulk_create(_lineage_edges(parents, child, used_on=used_on,
+                                                   actor=actor))
 
 
 def _require_kind(lot: ReagentLot, kinds: Sequence[str], *, field: str) -> None:

@@ -20,7 +20,7 @@ from django.db.models import Model
 from simple_history.utils import bulk_create_with_history
 
 from ..models import CodedRecord, LineageEdge, StampedRecord
-from ._common import User, _link, _stamp_history
+from ._common import User, _lineage_edges, _link, _stamp_history
 
 BATCH_ROWS = 500  # rows per INSERT (SQLite's bound-parameter limit leaves room for ~30 columns)
 
@@ -72,9 +72,7 @@ def new_records_insert(news: Sequence[NewRecord], *, actor: User | None,
             through_rows[through] += [through(**{f"{source}_id": new.record.pk,
                                                  f"{target}_id": linked.pk})
                                       for linked in targets]
-        edges += [LineageEdge(parent_code=parent.code, child_code=new.record.code, role=role,
-                              used_on=new.used_on, created_by=actor)
-                  for parent, role in new.inputs]
+        edges += _lineage_edges(new.inputs, new.record, used_on=new.used_on, actor=actor)
     for through, rows in through_rows.items():
         through.objects.bulk_create(rows, batch_size=batch_rows)
     LineageEdge.objects.bulk_create(edges, batch_size=batch_rows)
