@@ -117,13 +117,15 @@ def setting_plot(report, setting: str, outcome: str = "log10_ef", limit=None) ->
 def _image_map_areas(codes, x, y, pixels) -> str:
     """One ``<area>`` per drawn point, linking to its substrate (built here rather than in a
     template loop: 5,000 areas cost a template about 0.2 s).  Every value is escaped."""
-    urls = _substrate_urls(codes)
-    return mark_safe("".join(  # noqa: S308  (every value escaped)
-        f'<area shape="circle" coords="{px},{py},{plots.POINT_RADIUS_PX}" '
-        f'href="{html.escape(url)}" title="{title}" alt="{title}">'
-        for code, url, xi, yi, (px, py) in zip(codes, urls, x, y, pixels.tolist(), strict=True)
-        if px >= 0 and np.isfinite(xi) and np.isfinite(yi)
-        for title in (html.escape(f"{code}: {yi:.3g} at {xi:.3g}"),)))
+    areas = []
+    for code, url, xi, yi, (px, py) in zip(codes, _substrate_urls(codes), x, y,
+                                           pixels.tolist(), strict=True):
+        if px < 0 or not (np.isfinite(xi) and np.isfinite(yi)):
+            continue
+        title = html.escape(f"{code}: {yi:.3g} at {xi:.3g}")
+        areas.append(f'<area shape="circle" coords="{px},{py},{plots.POINT_RADIUS_PX}" '
+                     f'href="{html.escape(url)}" title="{title}" alt="{title}">')
+    return mark_safe("".join(areas))  # noqa: S308  (every value escaped)
 
 
 def lot_plot(report, limit=None) -> dict | None:
