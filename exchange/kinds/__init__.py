@@ -39,8 +39,8 @@ def export_value(kind: Kind, column: Column, record) -> object:
         value = getattr(record, column.field, None)
     if isinstance(value, Model):
         value = getattr(value, "code", str(value))
-    if isinstance(value, list):
-        value = "; ".join(value)
+    if isinstance(value, list):  # a many-to-many set: in code order, not the database's
+        value = "; ".join(sorted(value))
     if isinstance(value, float) and not math.isfinite(value):
         value = None
     return value
