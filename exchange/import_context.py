@@ -4,7 +4,9 @@ on the bulk path, what is read once for all rows and the checked records not yet
 The bulk path (``import_sheet(bulk=True)``, for kinds with a ``prepare``) checks each new
 row through its service's check part and keeps the approved records here; they are written
 all at once at the end (``flush``), or earlier when a later row names one of them as its
-parent, so that row meets it in the database exactly as on the per-row path.
+parent or names a stored record that a checked row changes (a template it consumes, a
+substrate whose stage it moves), so that row meets it in the database exactly as on the
+per-row path.
 """
 
 from __future__ import annotations
@@ -52,7 +54,8 @@ class ImportContext:
         self.many = CheckingMany(rules=rules_by_scope()) if self.bulk else None
         self._records: dict[str, object] = {}  # code -> record (None: no such record)
         self.pending: list[NewRecord] = []
-        self._pending_codes: set[str] = set()
+        self._pending_codes: set[str] = set()  # new records checked, not written
+        self._changed_codes: set[str] = set()  # stored records they change
 
     def lot_numbers(self) -> dict[tuple, str]:
         """(supplier, supplier lot) -> code of the kind's lots, read once per run."""
@@ -82,8 +85,8 @@ class ImportContext:
     def resolve(self, kind_name: str, key: str):
         model = KINDS[kind_name].model
         code = (self.code_for(kind_name, key) or key.strip()).upper()
-        if code in self._pending_codes:
-            self.flush()  # a row names a record checked above it: write it first
+        if code in self._pending_codes or code in self._changed_codes:
+            self.flush()  # a row names a record checked (or changed) above it: write it first
         record = self._records[code] if code in self._records else _record_or_none(code)
         if not isinstance(record, model):
             raise CellError(f"no {KINDS[kind_name].label.lower()[:-1]} '{key}' in this file "
@@ -124,6 +127,7 @@ class ImportContext:
     def add(self, new: NewRecord) -> None:
         self.pending.append(new)
         self._pending_codes.add(new.record.code)
+        self._changed_codes.update(_changed_codes(new))
 
     def finish(self, *, write: bool) -> None:
         """At the end of the rows: write what is checked (``write``: no row failed); either
@@ -144,9 +148,16 @@ class ImportContext:
             new_records_insert(self.pending, actor=self.actor)
         except IntegrityError as error:
             raise BulkFallback(str(error)) from error
-        for code in self._pending_codes:
-            self._records.pop(code, None)
-        self.pending, self._pending_codes = [], set()
+        for code in self._pending_codes | self._changed_codes:
+            self._records.pop(code, None)  # read afresh (as written) if a later row names it
+        self.pending, self._pending_codes, self._changed_codes = [], set(), set()
+
+
+def _changed_codes(new: NewRecord) -> set[str]:
+    codes = {getattr(record, "code", "") for record, _reason in new.changed}
+    for follower in new.after:
+        codes |= _changed_codes(follower)
+    return codes - {""}
 
 
 def _record_or_none(code: str):

@@ -204,14 +204,24 @@ def _save_new(record: CodedRecord, *, actor: User | None, reason: str = "") -> C
     return record
 
 
-def _save_changed(record: StampedRecord, *, actor: User | None, reason: str = "") -> None:
-    """Save a change with a new version; the history row keeps who, when and ``reason``."""
+def _prepare_changed(record: StampedRecord, *, actor: User | None,
+                     many: CheckingMany | None = None) -> None:
+    """Stamp a changed record with a new version and check it; write nothing.
+
+    The check part of every change: ``_save_changed`` saves what it approves, and a sheet
+    import keeps a checked copy in ``NewRecord.changed`` and writes many at once.
+    """
     record.updated_by = actor
     record.version += 1
-    _check_fields(record)
+    _check_fields(record, exclude=() if many is None else STAMP_FIELDS)
     if isinstance(record, LifecycleRecord):
-        refresh_expiry(record)
-    _full_clean(record)
+        refresh_expiry(record, None if many is None else many.rules)
+    _full_clean(record, fields_cleaned=True)
+
+
+def _save_changed(record: StampedRecord, *, actor: User | None, reason: str = "") -> None:
+    """Save a change with a new version; the history row keeps who, when and ``reason``."""
+    _prepare_changed(record, actor=actor)
     _stamp_history(record, actor=actor, reason=reason)
     record.save()
 

@@ -5,8 +5,10 @@ A create service is split in two: ``<kind>_check`` applies every rule and return
 :func:`new_record_save` writes it.  A sheet import checks thousands of rows through the same
 check functions and writes them with :func:`new_records_insert`: per model one INSERT per
 batch for the records and one for their history rows (django-simple-history's
-``bulk_create_with_history``), then their many-to-many rows and lineage edges.  The
-database's CHECK and unique constraints still hold on every inserted row.
+``bulk_create_with_history``), then their many-to-many rows and lineage edges, then the
+stored records the new ones changed (a template consumed, a substrate's stage) with
+``bulk_update_with_history``, and the rows that record those changes.  The database's
+CHECK and unique constraints still hold on every inserted row.
 """
 
 from __future__ import annotations
@@ -17,7 +19,8 @@ from dataclasses import dataclass, field
 from datetime import date
 
 from django.db.models import Model
-from simple_history.utils import bulk_create_with_history
+from django.utils import timezone
+from simple_history.utils import bulk_create_with_history, bulk_update_with_history
 
 from ..models import CodedRecord, LineageEdge, StampedRecord
 from ._common import User, _lineage_edges, _link, _stamp_history
@@ -35,6 +38,12 @@ class NewRecord:
     links: dict[str, Sequence[Model]] = field(default_factory=dict)  # many-to-many field
     reason: str = ""  # of its history row
     after: list[NewRecord] = field(default_factory=list)  # records that point at this one
+    # Stored records this one changes, each a checked copy (``_prepare_changed``: new
+    # version, stamped) with the reason of its history row; written after the new records.
+    changed: list[tuple[StampedRecord, str]] = field(default_factory=list)
+    # Further rows that record the step (status changes, lineage edges from this record to
+    # stored ones), written last; they may name this record's code, not its key.
+    rows: list[Model] = field(default_factory=list)
 
 
 def new_record_save(new: NewRecord, *, actor: User | None) -> StampedRecord:
@@ -47,6 +56,11 @@ def new_record_save(new: NewRecord, *, actor: User | None) -> StampedRecord:
         _link(new.inputs, new.record, used_on=new.used_on, actor=actor)
     for follower in new.after:
         new_record_save(follower, actor=actor)
+    for record, reason in new.changed:
+        _stamp_history(record, actor=actor, reason=reason)
+        record.save()
+    for row in new.rows:
+        row.save()
     return new.record
 
 
@@ -79,6 +93,31 @@ def new_records_insert(news: Sequence[NewRecord], *, actor: User | None,
     followers = [follower for new in news for follower in new.after]
     if followers:
         new_records_insert(followers, actor=actor, batch_rows=batch_rows)
+    _changes_write(news, actor=actor, batch_rows=batch_rows)
+
+
+def _changes_write(news: Sequence[NewRecord], *, actor: User | None, batch_rows: int) -> None:
+    """The stored records the new ones changed, then the rows recording the steps.
+
+    A record changed by two new records of one batch would get two history rows with its
+    final state (the importer writes the first before it lets a second row change it).
+    """
+    changed: dict[type[Model], list[Model]] = defaultdict(list)
+    rows: dict[type[Model], list[Model]] = defaultdict(list)
+    now = timezone.now()
+    for new in news:
+        for record, reason in new.changed:
+            _stamp_history(record, actor=actor, reason=reason)
+            record.updated_at = now  # bulk_update does not run auto_now's pre_save
+            changed[type(record)].append(record)
+        for row in new.rows:
+            rows[type(row)].append(row)
+    for model, records in changed.items():
+        names = [f.name for f in model._meta.concrete_fields if not f.primary_key]
+        bulk_update_with_history(records, model, names, batch_size=batch_rows,
+                                 default_user=actor)
+    for model, group in rows.items():
+        model.objects.bulk_create(group, batch_size=batch_rows)
 
 
 def codes_taken(news: Sequence[NewRecord]) -> list[NewRecord]:

@@ -9,7 +9,7 @@ from ..errors import refusal
 from ..lifecycle import check_transition
 from ..models import LifecycleRecord, Status, StatusChange
 from ..roles import MAKER, REVIEWER, require_role
-from ._common import User, _save_changed
+from ._common import CheckingMany, User, _prepare_changed, _stamp_history
 
 # Release, reject and hold are decisions about quality; using up or disposing is bench work.
 ROLE_FOR_STATUS = {
@@ -39,6 +39,25 @@ def check_not_voided(record) -> None:
                                 "be changed.", "voided")
 
 
+def transition_prepare(record: LifecycleRecord, to_status: str, *, reason: str,
+                       actor: User | None, many: CheckingMany | None = None) -> StatusChange:
+    """The check part of a transition: ``record`` (changed in place; a caller that writes
+    later passes a copy) moves to ``to_status``, a new version checked; returns the unsaved
+    StatusChange.  Nothing is written.  No role check (see ``_transition``).
+    """
+    check_transition(record, to_status, reason)
+    change = StatusChange(record_code=record.code, from_status=record.status,
+                          to_status=to_status, reason=reason, changed_by=actor)
+    record.status = to_status
+    _prepare_changed(record, actor=actor, many=many)
+    return change
+
+
+def transition_reason(to_status: str, reason: str) -> str:
+    """The reason a transition's history row keeps."""
+    return reason or f"status: {to_status}"
+
+
 def _transition(locked: LifecycleRecord, to_status: str, *, reason: str,
                 actor: User | None) -> LifecycleRecord:
     """Apply a checked transition to a row the caller holds locked; no role check.
@@ -46,11 +65,10 @@ def _transition(locked: LifecycleRecord, to_status: str, *, reason: str,
     For services that move a record as a consequence of work the actor may do (a failed
     QC import holds the substrate it measured; plating consumes the template).
     """
-    check_transition(locked, to_status, reason)
-    StatusChange.objects.create(record_code=locked.code, from_status=locked.status,
-                                to_status=to_status, reason=reason, changed_by=actor)
-    locked.status = to_status
-    _save_changed(locked, actor=actor, reason=reason or f"status: {to_status}")
+    change = transition_prepare(locked, to_status, reason=reason, actor=actor)
+    change.save()
+    _stamp_history(locked, actor=actor, reason=transition_reason(to_status, reason))
+    locked.save()
     return locked
 
 
