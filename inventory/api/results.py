@@ -1,4 +1,5 @@
-"""What attaching a chronoamperogram computed, as one JSON object (API response and CLI --json).
+"""What attaching a chronoamperogram (or entering a charge) computed, as one JSON object (API
+response and CLI --json).
 
 ``chronoamperogram_summary`` shapes the service's ``ChronoamperogramAttachment``; the
 serializer documents that shape (with units) for the OpenAPI schema.  The keys are those the
@@ -27,7 +28,8 @@ def chronoamperogram_summary(result: ChronoamperogramAttachment) -> dict:
     return {
         "run": run.code, "file": run.chronoamperogram_name,
         "sha256": run.chronoamperogram_sha256, "unchanged": result.unchanged,
-        "charge_C": run.charge_C, "metal_volume_cm3": run.metal_volume_cm3,
+        "charge_C": run.charge_C, "charge_source": run.charge_source,
+        "metal_volume_cm3": run.metal_volume_cm3,
         "equivalent_thickness_nm": run.equivalent_thickness_nm,
         "film_height_nm": run.film_height_nm, "height_over_diameter": run.height_over_diameter,
         "target": run.target_height_over_diameter,
@@ -57,6 +59,9 @@ class ChronoamperogramResult(DocumentedFields, serializers.Serializer):
     unchanged = serializers.BooleanField(help_text="True when the run already held this very "
                                                    "file: nothing was recomputed.")
     charge_C = _number("Cathodic charge integrated over the window.")
+    charge_source = serializers.CharField(
+        help_text="Where charge_C came from: 'chronoamperogram' (integrated from the file) or "
+                  "'entered' (as the potentiostat reported it).")
     metal_volume_cm3 = _number("Metal deposited (Faraday's law with the current efficiency).")
     equivalent_thickness_nm = _number("Thickness of a flat film of that volume.")
     film_height_nm = _number("Film height inside the close-packed template.")

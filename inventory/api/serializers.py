@@ -173,6 +173,17 @@ class ChronoamperogramAttach(ServiceSerializer):
         return data
 
 
+class ChargeEnter(ServiceSerializer):
+    ranges_model = DepositionRun
+    service = staticmethod(services.deposition_run_enter_charge)
+    record_argument = "run"
+    charge_C = FiniteFloat(help_text="Deposition charge as the potentiostat reported it; the "
+                                     "film height and h/D are worked out from it.  Refused "
+                                     "on a run whose charge was integrated from its file.")
+    reason = serializers.CharField(required=False, allow_blank=True, default="",
+                                   help_text="Why, kept in the run's history.")
+
+
 class SubstrateReceive(ServiceSerializer):
     ranges_model = Substrate
     service = staticmethod(services.substrate_receive)

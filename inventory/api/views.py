@@ -142,6 +142,16 @@ class DepositionRunViewSet(CorrectionsMixin, RecordViewSet):
                         status=status.HTTP_200_OK if result.unchanged
                         else status.HTTP_201_CREATED)
 
+    @extend_schema(request=s.ChargeEnter, responses={200: ChronoamperogramResult})
+    @action(detail=True, methods=["post"], required_role=MAKER, parser_classes=(JsonParser,))
+    def charge(self, request, code=None):
+        """Enter the charge the potentiostat reported for a run without a file; returns the
+        film height and h/D worked out from it, as the chronoamperogram upload does."""
+        serializer = s.ChargeEnter(data=request.data)
+        serializer.is_valid(raise_exception=True)
+        result = serializer.perform(actor=request.user, record=self.get_object())
+        return Response(ChronoamperogramResult(chronoamperogram_summary(result)).data)
+
 
 class SubstrateViewSet(SignedLifecycleMixin, RecordViewSet):
     queryset = Substrate.objects.all()

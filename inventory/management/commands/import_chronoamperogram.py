@@ -37,7 +37,8 @@ class Command(RecordingCommand):
         return chronoamperogram_summary(result)
 
     def show(self, summary: dict) -> None:
-        self.stdout.write(f"{summary['run']}: {summary['file']}")
+        source = summary["file"] or "no file: the charge as the potentiostat reported it"
+        self.stdout.write(f"{summary['run']}: {source}")
         for key, label in (("charge_C", "charge, C"), ("target_charge_C", "target charge, C"),
                            ("film_height_nm", "film height, nm"),
                            ("height_over_diameter", "h/D"), ("target", "target h/D"),
