@@ -28,6 +28,7 @@ from inventory.models import (
     TemplateAssembly,
 )
 from inventory.physics.chronoamperogram import CURRENT_UNITS_A, TIME_UNITS_S
+from inventory.services.uploads import RawUpload
 
 from .fields import AnyRecordRef, FiniteFloat, LabDate, RecordRef, Upload, file_parts
 from .record_serializers import ReadPlan, RecordSerializer, read_plan, read_serializer
@@ -242,7 +243,7 @@ class DatasetRegister(ServiceSerializer):
 
     def arguments(self) -> dict:
         data = dict(self.validated_data)
-        data["files"] = [file_parts(upload) for upload in data.get("files", [])]
+        data["files"] = [RawUpload.of_django_file(upload) for upload in data.get("files", [])]
         return data
 
 

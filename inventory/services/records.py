@@ -6,7 +6,6 @@ import hashlib
 from collections.abc import Sequence
 from datetime import date
 
-from django.core.files.base import ContentFile
 from django.db import transaction
 from django.utils import timezone
 
@@ -24,6 +23,7 @@ from ._common import (
     _save_new,
 )
 from .lifecycle import record_transition
+from .uploads import RawUpload
 
 
 def sha256_of(content: bytes) -> str:
@@ -33,17 +33,23 @@ def sha256_of(content: bytes) -> str:
 @transaction.atomic
 def dataset_register(
     *, actor: User | None, title: str, substrates: Sequence[Substrate], acquired_on: date,
-    files: Sequence[tuple[str, bytes]] = (), instrument: str = "", operator: str = "",
-    consume_substrates: bool = False, notes: str = "",
+    files: Sequence[RawUpload | tuple[str, bytes]] = (), instrument: str = "",
+    operator: str = "", consume_substrates: bool = False, notes: str = "",
 ) -> Dataset:
-    """Record data made on substrates; files are stored with their SHA-256 digests."""
+    """Record data made on substrates; files are stored with their SHA-256 digests.
+
+    ``files`` are uploads (a big one stays on disk, hashed once, stored from there in
+    chunks: never held in memory) or, for small files, ``(name, bytes)``.
+    """
     require_role(actor, MAKER, action="Registering a dataset")
     _require_not_future(acquired_on, field="acquired_on")
     _check_substrates_usable(substrates, role="a measured substrate", on_date=acquired_on,
                              date_field="acquired_on")
-    for name, content in files:
-        _check_upload(content, field="files", filename=name, extensions=None)
-    digests = [sha256_of(content) for _, content in files]
+    uploads = [item if isinstance(item, RawUpload) else RawUpload.of_bytes(*item)
+               for item in files]
+    for upload in uploads:
+        _check_upload(upload, field="files", filename=upload.name, extensions=None)
+    digests = [upload.sha256 for upload in uploads]
     if len(set(digests)) != len(digests):
         raise refusal("files", "The same file was given twice.", "duplicate_file")
     again = DatasetFile.objects.filter(sha256__in=digests, dataset__voided_at__isnull=True) \
@@ -54,11 +60,13 @@ def dataset_register(
     dataset = _save_new(Dataset(title=title, instrument=instrument, operator=operator,
                                 acquired_on=acquired_on, notes=notes), actor=actor)
     dataset.substrates.set(substrates)
-    stored = [DatasetFile(dataset=dataset, file=ContentFile(content, name=name),
-                          original_name=name, size_bytes=len(content), sha256=digest)
-              for (name, content), digest in zip(files, digests, strict=True)]
+    stored = [DatasetFile(dataset=dataset, original_name=upload.name,
+                          size_bytes=upload.size_bytes, sha256=upload.sha256)
+              for upload in uploads]
     with _files_removed_if_failed(*stored):
-        for dataset_file in stored:
+        for dataset_file, upload in zip(stored, uploads, strict=True):
+            with upload.opened() as handle:  # copied by storage in chunks
+                dataset_file.file.save(upload.name, handle, save=False)
             dataset_file.save()
         _link([(s, "measured on") for s in substrates], dataset, used_on=acquired_on,
               actor=actor)

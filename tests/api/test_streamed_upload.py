@@ -167,3 +167,47 @@ class _FieldFileOf:
 
     def open(self, mode="rb"):
         return self.storage.open(self.name, mode)
+
+
+def test_a_big_dataset_file_is_hashed_once_and_stored_from_disk_never_held_whole(
+        chain, clients, settings, monkeypatch):
+    """Dataset files (raw data of any size) take the same way as a big map: streamed by
+    Django to a temporary file, hashed there in chunks once, copied to storage in chunks."""
+    settings.FILE_UPLOAD_MAX_MEMORY_SIZE = 1024
+    substrate = chain.decorated_substrate()
+    content = b"shift,counts\n" + b"".join(b"%d,%d\n" % (n, n * 7 % 1000) for n in range(4000))
+    digest = hashlib.sha256(content).hexdigest()  # the reference: Python's one-shot SHA-256
+    taken = _digests_taken(monkeypatch)
+    monkeypatch.setattr(RawUpload, "read_bytes", lambda *a, **k: pytest.fail("read whole"))
+    monkeypatch.setattr(RawUpload, "of_bytes", lambda *a, **k: pytest.fail("held in memory"))
+    response = clients["maker"].post("/api/v1/datasets/", {
+        "title": "Long screen", "substrates": [substrate.code],
+        "acquired_on": chain.day(0).isoformat(),
+        "files": [ContentFile(content, name="screen.csv")]}, format="multipart")
+    assert response.status_code == 201, response.json()
+    [stored] = response.json()["files"]
+    assert (stored["sha256"], stored["size_bytes"]) == (digest, len(content))
+    assert taken == [digest]  # hashed once
+    from inventory.models import DatasetFile
+
+    with DatasetFile.objects.get(sha256=digest).file.open("rb") as handle:
+        assert handle.read() == content
+
+
+def test_a_refused_dataset_leaves_no_stored_file(chain, clients, settings, tmp_path):
+    """The same file twice is refused under ``files``; no row and no file is left."""
+    from inventory.models import Dataset
+
+    settings.MEDIA_ROOT = str(tmp_path)
+    settings.FILE_UPLOAD_MAX_MEMORY_SIZE = 1024
+    substrate = chain.decorated_substrate()
+    content = b"x,y\n" + b"1,2\n" * 1000
+    response = clients["maker"].post("/api/v1/datasets/", {
+        "title": "Twice", "substrates": [substrate.code], "acquired_on": chain.day(0).isoformat(),
+        "files": [ContentFile(content, name="a.csv"), ContentFile(content, name="b.csv")]},
+        format="multipart")
+    assert response.status_code == 400
+    assert [(e["field"], e["code"]) for e in response.json()["errors"]] == [
+        ("files", "duplicate_file")]
+    assert not Dataset.objects.exists()
+    assert not [p for p in tmp_path.rglob("*") if p.is_file()]

@@ -168,5 +168,5 @@ class DatasetForm(MakeForm):
     def submit(self, actor):
         data = dict(self.cleaned_data)
         uploads = data.pop("files")
-        data["files"] = [(upload.name, upload.read()) for upload in uploads]
+        data["files"] = [RawUpload.of_django_file(upload) for upload in uploads]
         return services.dataset_register(actor=actor, **data)
