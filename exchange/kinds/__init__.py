@@ -46,10 +46,23 @@ def export_value(kind: Kind, column: Column, record) -> object:
     return value
 
 
+def _export_records(kind: Kind):
+    """The kind's records in creation order, their parents joined and their sets prefetched
+    (a fixed number of queries, whatever the lab's size)."""
+    if kind.export_queryset:
+        return kind.export_queryset()
+    joined, prefetched = [], list(kind.export_prefetch)
+    for column in kind.columns:
+        if column.type in ("ref", "refs"):
+            relation = kind.model._meta.get_field(column.field)
+            (prefetched if relation.many_to_many else joined).append(column.field)
+    return (kind.model.objects.order_by("id").select_related(*joined)
+            .prefetch_related(*prefetched).iterator(chunk_size=2000))
+
+
 def export_rows(kind: Kind) -> list[list]:
-    records = (kind.export_queryset() if kind.export_queryset
-               else kind.model.objects.order_by("id"))
-    return [[export_value(kind, column, record) for column in kind.columns] for record in records]
+    return [[export_value(kind, column, record) for column in kind.columns]
+            for record in _export_records(kind)]
 
 
 def example_row(kind: Kind) -> list:

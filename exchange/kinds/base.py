@@ -69,6 +69,8 @@ class Kind:
     extra: Callable | None = None  # (record, values, ctx, created: bool) -> list of changes
     export_value: dict[str, Callable] = field(default_factory=dict)  # field -> (record) -> value
     export_queryset: Callable | None = None
+    # What ``export_value`` reads besides the ref columns, prefetched once for all records.
+    export_prefetch: tuple = ()
     # The bulk path (exchange.import_context): (values, ctx) -> inventory.services.NewRecord,
     # checked by the same rules as ``create`` and ``extra`` on a new record, nothing written.
     prepare: Callable | None = None

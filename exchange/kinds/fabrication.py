@@ -74,7 +74,7 @@ def _run_charge(run, values, ctx, created: bool) -> list[str]:
 
 
 def _first_piece_area(run):
-    piece = run.substrates.order_by("id").first()
+    piece = min(run.substrates.all(), key=lambda p: p.id, default=None)  # prefetched
     return None if piece is None else piece.area_cm2
 
 
@@ -115,8 +115,9 @@ DEPOSITION_RUNS = Kind(
         Column("piece_area_cm2", "Piece area", "number", "cm²", compare=False,
                aliases=("piece area",), example=0.25),
         NOTES,
-    ), _run, extra=_run_charge, export_value={"pieces": lambda r: r.substrates.count(),
-                                              "piece_area_cm2": _first_piece_area})
+    ), _run, extra=_run_charge, export_value={"pieces": lambda r: len(r.substrates.all()),
+                                              "piece_area_cm2": _first_piece_area},
+    export_prefetch=("substrates",))
 
 
 def _piece_number(label: str) -> str:

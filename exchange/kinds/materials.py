@@ -5,7 +5,6 @@ from __future__ import annotations
 from inventory import services
 from inventory.errors import refusal
 from inventory.models import NanoparticleBatch, ReagentKind, ReagentLot, SphereLot
-from qc.models import UvVisRecord
 
 from .. import services as exchange_services
 from ..models import SheetUvVisReading
@@ -161,9 +160,23 @@ def _colloid_new(values, ctx):
     return new
 
 
+def _first(records):
+    return min(records, key=lambda r: (r.measured_on, r.id), default=None)
+
+
 def _first_reading(batch) -> dict:
-    """The batch's first UV-vis figures (a sheet reading or a file's), as sheet columns."""
-    sheet = batch.sheet_uvvis_readings.order_by("measured_on", "id").first()
+    """The batch's first UV-vis figures (a sheet reading or a file's), as sheet columns.
+
+    Read from the readings the export prefetched (``export_prefetch``), once per batch.
+    """
+    if hasattr(batch, "_first_reading"):
+        return batch._first_reading
+    batch._first_reading = _first_reading_of(batch)
+    return batch._first_reading
+
+
+def _first_reading_of(batch) -> dict:
+    sheet = _first(batch.sheet_uvvis_readings.all())
     if sheet is not None:
         scale = sheet.dilution_factor / sheet.path_length_cm
         return {"uvvis_measured_on": sheet.measured_on, "uvvis_peak_nm": sheet.peak_nm,
@@ -172,7 +185,7 @@ def _first_reading(batch) -> dict:
                 else sheet.absorbance_450_1cm / scale,
                 "uvvis_dilution_factor": sheet.dilution_factor,
                 "uvvis_path_length_cm": sheet.path_length_cm}
-    record = UvVisRecord.objects.filter(batch=batch).order_by("measured_on", "id").first()
+    record = _first(batch.uvvis_records.all())
     if record is None:
         return {}
     return {"uvvis_measured_on": record.measured_on, "uvvis_peak_nm": record.peak_nm,
@@ -217,4 +230,5 @@ COLLOID_BATCHES = Kind(
         NOTES,
     ), _colloid, extra=_colloid_reading, prepare=_colloid_new,
     export_value={"source_lots": lambda r: [lot.code for lot in r.source_lots.all()],
-                  **{name: _reading_value(name) for name in UVVIS_FIELDS}})
+                  **{name: _reading_value(name) for name in UVVIS_FIELDS}},
+    export_prefetch=("sheet_uvvis_readings", "uvvis_records"))

@@ -94,3 +94,25 @@ def test_export_every_kind_then_import_into_an_empty_database(chain, maker):
     assert {(mapped(p), mapped(c), role, day) for p, c, role, day in before_edges} \
         == edges() - {e for e in edges() if e[2] == "signed"}
     assert len(after["substrates"]) == 6 and len(after["qc_results"]) == 1
+
+
+def test_an_export_reads_a_fixed_number_of_queries_whatever_the_lab_s_size(chain):
+    """Each kind's sheet is read in a fixed number of queries (its parents joined or
+    prefetched), not a few per record: a lab of ten thousand runs exports in seconds."""
+    from django.db import connection
+    from django.test.utils import CaptureQueriesContext
+
+    def queries_per_kind() -> dict[str, int]:
+        counts = {}
+        for name, kind in KINDS.items():
+            with CaptureQueriesContext(connection) as captured:
+                export_rows(kind)
+            counts[name] = len(captured)
+        return counts
+
+    build_lab(chain)
+    once = queries_per_kind()
+    build_lab(chain)
+    build_lab(chain)
+    assert queries_per_kind() == once
+    assert max(once.values()) <= 8
