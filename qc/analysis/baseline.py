@@ -193,6 +193,7 @@ def asls_baseline_map(
     points_per_knot: int = 16,
     max_iter: int = 50,
     tol: float = 1e-3,
+    max_threads: int | None = None,
 ) -> tuple[np.ndarray, dict]:
     """ASLS baselines of every spectrum in a map at once, on a P-spline basis.
 
@@ -216,6 +217,9 @@ def asls_baseline_map(
     max_iter, tol : int, float
         Iteration cap and tolerance on ``‖w_new − w_old‖ / ‖w_old‖``, tested per spectrum
         (pybaselines' rule); a converged spectrum keeps its coefficients.
+    max_threads : int, optional
+        Threads the spectra may be split over (default: up to four); 1 for a caller that
+        already runs blocks of a map side by side.
 
     Returns
     -------
@@ -284,7 +288,8 @@ def asls_baseline_map(
     baseline = np.empty_like(spectra)
     iterations = np.zeros(n_points, dtype=np.int64)
     converged = np.zeros(n_points, dtype=np.bool_)
-    n_workers = max(1, min(os.cpu_count() or 1, _MAX_THREADS))
+    n_workers = max(1, min(os.cpu_count() or 1,
+                           _MAX_THREADS if max_threads is None else max_threads))
     n_blocks = max(n_workers, -(-n_points // _BLOCK_SPECTRA)) if n_points >= 2 * _MIN_BLOCK else 1
     edges = np.linspace(0, n_points, n_blocks + 1).astype(int)
     blocks = [slice(a, b) for a, b in itertools.pairwise(edges) if b > a]
