@@ -238,7 +238,9 @@ def asls_baseline_map(
     in cache across the reweightings:
 
     * ``B`` is never formed: each point has four nonzero basis values, the same ``h`` rows for
-      every knot interval (the knots are uniform in point index);
+      every knot interval (the knots are uniform in point index); the spectrum is held as
+      (point in interval, interval), so the evaluation and the sums run along contiguous
+      rows of intervals and vectorise;
     * the weights take two values, ``w = p + (1 − 2p)·[y ≤ z]``, so ``BᵀWB`` and ``BᵀWy`` are a
       fixed part plus ``(1 − 2p)`` times sums over the low points; those sums are formed afresh
       while many points change side, then updated only at the points that changed side since
@@ -248,7 +250,8 @@ def asls_baseline_map(
       compares the same way every time and the weights settle;
     * the first iteration (all weights 1) shares one matrix across spectra, factorised once;
       later systems by a banded Cholesky of half-bandwidth 3;
-    * blocks of spectra run on up to four threads, since the kernel releases the GIL.
+    * blocks of spectra run on up to ``max_threads`` threads, since the kernel releases the
+      GIL.
 
     The compiled kernel is cached on disk (``cache=True``), so its compile time is paid once
     per machine, on the first call.
