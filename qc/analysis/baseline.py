@@ -193,6 +193,7 @@ def asls_baseline_map(
     points_per_knot: int = 16,
     max_iter: int = 50,
     tol: float = 1e-3,
+    max_threads: int | None = None,
 ) -> tuple[np.ndarray, dict]:
     """ASLS baselines of every spectrum in a map at once, on a P-spline basis.
 
@@ -216,6 +217,9 @@ def asls_baseline_map(
     max_iter, tol : int, float
         Iteration cap and tolerance on ``‖w_new − w_old‖ / ‖w_old‖``, tested per spectrum
         (pybaselines' rule); a converged spectrum keeps its coefficients.
+    max_threads : int, optional
+        Threads the spectra may be split over (default: up to four); 1 for a caller that
+        already runs blocks of a map side by side.
 
     Returns
     -------
@@ -234,7 +238,9 @@ def asls_baseline_map(
     in cache across the reweightings:
 
     * ``B`` is never formed: each point has four nonzero basis values, the same ``h`` rows for
-      every knot interval (the knots are uniform in point index);
+      every knot interval (the knots are uniform in point index); the spectrum is held as
+      (point in interval, interval), so the evaluation and the sums run along contiguous
+      rows of intervals and vectorise;
     * the weights take two values, ``w = p + (1 − 2p)·[y ≤ z]``, so ``BᵀWB`` and ``BᵀWy`` are a
       fixed part plus ``(1 − 2p)`` times sums over the low points; those sums are formed afresh
       while many points change side, then updated only at the points that changed side since
@@ -244,7 +250,8 @@ def asls_baseline_map(
       compares the same way every time and the weights settle;
     * the first iteration (all weights 1) shares one matrix across spectra, factorised once;
       later systems by a banded Cholesky of half-bandwidth 3;
-    * blocks of spectra run on up to four threads, since the kernel releases the GIL.
+    * blocks of spectra run on up to ``max_threads`` threads, since the kernel releases the
+      GIL.
 
     The compiled kernel is cached on disk (``cache=True``), so its compile time is paid once
     per machine, on the first call.
@@ -284,7 +291,8 @@ def asls_baseline_map(
     baseline = np.empty_like(spectra)
     iterations = np.zeros(n_points, dtype=np.int64)
     converged = np.zeros(n_points, dtype=np.bool_)
-    n_workers = max(1, min(os.cpu_count() or 1, _MAX_THREADS))
+    n_workers = max(1, min(os.cpu_count() or 1,
+                           _MAX_THREADS if max_threads is None else max_threads))
     n_blocks = max(n_workers, -(-n_points // _BLOCK_SPECTRA)) if n_points >= 2 * _MIN_BLOCK else 1
     edges = np.linspace(0, n_points, n_blocks + 1).astype(int)
     blocks = [slice(a, b) for a, b in itertools.pairwise(edges) if b > a]

@@ -12,7 +12,7 @@ import numpy as np
 
 from ._validation import all_finite
 from .map_fastparse import WideRows, read_wide_rows
-from .spectrum import RamanMap
+from .spectrum import RamanMap, first_repeated_point
 from .text_tables import (
     COMMENT_PREFIXES,
     DELIMITER_NAMES,
@@ -209,12 +209,14 @@ def read_map_wide_columnar(source: bytes | Path) -> RamanMap | None:
             return None
         (positions, intensity), reader = parsed, "Apache Arrow"
     rows = positions.shape[0]
-    if rows == 0 or not (all_finite(intensity) and np.isfinite(positions).all()):
+    # The compiled parser makes finite numbers only (mantissa < 2⁵³, power within ±22).
+    if rows == 0 or (reader != "compiled"
+                     and not (all_finite(intensity) and np.isfinite(positions).all())):
         return None
     if _beyond_export_range(intensity, positions):
         return None  # the text reader refuses such a cell and names its line
     intensity.setflags(write=False)  # handed to the map as it is, not copied
-    if np.unique(positions, axis=0).shape[0] != rows:
+    if first_repeated_point(positions[:, 0], positions[:, 1]) is not None:
         return None
     metadata = {"layout": "wide", "header_lines": 1, "comment_lines": header_index,
                 "delimiter": DELIMITER_NAMES[delimiter], "decimal_comma": False,

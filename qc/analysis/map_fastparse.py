@@ -19,7 +19,10 @@ then the line-by-line reader, read it or name its fault as they always did.
 
 from __future__ import annotations
 
+import contextlib
 import io
+import os
+from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -32,6 +35,10 @@ _EXACT_POWERS = np.array([float(10**k) for k in range(23)])  # 10⁰ … 10²² 
 _POWERS_OF_FIVE = np.array([5**k for k in range(23)], dtype=np.int64)
 _MAX_EXACT_MANTISSA = 1 << 53
 _ROWS_MARGIN = 1.05  # rows first made for the file's length over its first row's, and 5 %
+# A block at least this long is parsed as two runs of whole lines on two threads (the
+# kernel releases the GIL); a shorter one on the calling thread (a thread's hand-over
+# would cost more than it saves).
+_SPLIT_BYTES = 256 << 10
 # A float64 exactly halfway between two float32 values: bit 28 set, bits 0–27 clear.
 _LOW_BITS, _HALFWAY = (1 << 29) - 1, 1 << 28
 _SPACE, _NEWLINE, _RETURN, _POINT, _MINUS, _PLUS = 32, 10, 13, 46, 45, 43
@@ -192,6 +199,27 @@ def _parse_rows(buf, i, end, delimiter, positions, intensity, row,  # pragma: no
 
 
 @njit(nogil=True, cache=True)
+def _newlines(buf, start, stop):  # pragma: no cover - compiled
+    """Newlines in ``buf[start:stop]``: at least the rows :func:`_parse_rows` reads from its
+    whole lines (it skips blank ones).  Counted as integers so the loop vectorises."""
+    view = buf[start:stop]
+    count = np.int64(0)
+    for i in range(view.size):
+        count += np.int64(view[i] == _NEWLINE)
+    return count
+
+
+@njit(nogil=True, cache=True)
+def _next_line(buf, i, stop):  # pragma: no cover - compiled
+    """Index just past the first newline of ``buf[i:stop]``, ``stop`` when there is none."""
+    while i < stop:
+        if buf[i] == _NEWLINE:
+            return i + 1
+        i += 1
+    return stop
+
+
+@njit(nogil=True, cache=True)
 def _after_last_newline(buf, end):  # pragma: no cover - compiled
     """Index just past the last newline of ``buf[:end]``, 0 when there is none."""
     for i in range(end - 1, -1, -1):
@@ -221,9 +249,47 @@ class _Rows:
         self.intensity.resize((rows, self.intensity.shape[1]), refcheck=False)
         self.positions.resize((rows, 2), refcheck=False)
 
-    def parse(self, buf, stop: int, separator: int, row: int, ascending: bool):
-        """Rows of ``buf[:stop]`` from ``row`` on: (code, rows so far, byte index)."""
-        at = 0
+    def parse(self, buf, stop: int, separator: int, row: int, ascending: bool,
+              pool: ThreadPoolExecutor | None = None):
+        """Rows of ``buf[:stop]`` from ``row`` on: (code, rows so far, byte index).
+
+        With a ``pool`` and a long block, the lines after the middle are parsed on the
+        pool's thread while this one parses those before.  That thread puts its rows after
+        as many rows as the first half has newlines; blank lines there (rare) leave a gap,
+        closed afterwards by moving its rows up.  The first fault in the file's order is
+        the one reported; a run that found the map full resumes here, in order, after the
+        map has grown.
+        """
+        middle = (_next_line(buf, stop // 2, stop) if pool is not None and stop >= _SPLIT_BYTES
+                  else stop)
+        if middle >= stop:
+            return self._resume(buf, 0, stop, separator, row, ascending)
+        second = pool.submit(self._second_run, buf, middle, stop, separator, row, ascending)
+        code, row, at = _parse_rows(buf, 0, middle, separator, self.positions,
+                                    self.intensity, row, ascending)
+        second_code, second_row, second_at, second_start = second.result()
+        if code == FULL:
+            code, row, at = self._resume(buf, at, middle, separator, row, ascending)
+        if code != OK:
+            return code, row, at
+        if row < second_start:  # blank lines before the middle: close the gap
+            moved = max(min(second_row, self.intensity.shape[0]) - second_start, 0)
+            self.intensity[row:row + moved] = self.intensity[second_start:second_start + moved]
+            self.positions[row:row + moved] = self.positions[second_start:second_start + moved]
+            second_row -= second_start - row
+        if second_code == FULL:
+            return self._resume(buf, second_at, stop, separator, second_row, ascending)
+        return second_code, second_row, second_at
+
+    def _second_run(self, buf, middle: int, stop: int, separator: int, row: int,
+                    ascending: bool):
+        start = row + _newlines(buf, 0, middle)
+        code, row, at = _parse_rows(buf, middle, stop, separator, self.positions,
+                                    self.intensity, start, ascending)
+        return code, row, at, start
+
+    def _resume(self, buf, at: int, stop: int, separator: int, row: int, ascending: bool):
+        """Rows of ``buf[at:stop]`` from ``row`` on, growing the map whenever it is full."""
         while True:
             code, row, at = _parse_rows(buf, at, stop, separator, self.positions,
                                         self.intensity, row, ascending)
@@ -245,7 +311,9 @@ def read_wide_rows(source: bytes | Path, data_start: int, delimiter: str, n_shif
     buffer = np.empty(_BLOCK_BYTES, dtype=np.uint8)
     out = None
     carry, row, offset = 0, 0, data_start  # bytes kept from the last block; its file offset
-    with source.open("rb") if isinstance(source, Path) else io.BytesIO(source) as handle:
+    pool = ThreadPoolExecutor(max_workers=1) if (os.cpu_count() or 1) > 1 else None
+    with (source.open("rb") if isinstance(source, Path) else io.BytesIO(source) as handle,
+          pool or contextlib.nullcontext()):
         handle.seek(data_start)
         while True:
             read = handle.readinto(buffer[carry:].data)
@@ -258,7 +326,7 @@ def read_wide_rows(source: bytes | Path, data_start: int, delimiter: str, n_shif
                 continue
             if out is None:
                 out = _Rows(n_shift, _first_line_bytes(buffer, stop), size - data_start)
-            code, row, at = out.parse(buffer, stop, separator, row, ascending)
+            code, row, at = out.parse(buffer, stop, separator, row, ascending, pool)
             if code != OK:
                 return Declined(int(code), offset + int(at))
             if read == 0:

@@ -7,6 +7,8 @@ results are normalised to counts/(mW·s) (see :func:`qc.analysis.bands.normalise
 
 from __future__ import annotations
 
+import os
+from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass
 
 import numpy as np
@@ -117,9 +119,11 @@ class MapQcResult:
 PERCENTILE_SAMPLE = 1000  # points; percentiles of a sample this size move by < 1 % of a band
 SAMPLE_BASELINES = 12  # points whose baselines are kept for display
 PERCENTILES = (5.0, 25.0, 50.0, 75.0, 95.0)
-# Points analysed at once: each float64 work array of a 1,024-shift block is 8 MiB, so the
-# whole map is held only as float32 (as read, and processed); spectra are independent.
-MAP_BLOCK_POINTS = 1024
+# Points analysed at once, a block on each of MAP_THREADS threads: each float64 work array
+# of a 512 × 1,024 block is 4 MiB, so the whole map is held only as float32 (as read, and
+# processed); spectra are independent.
+MAP_BLOCK_POINTS = 512
+MAP_THREADS = 2
 
 
 def _evenly_spaced(n_points: int, count: int) -> np.ndarray:
@@ -240,11 +244,12 @@ def analyse_qc_map(
 ) -> MapQcResult:
     """Vectorised QC of a whole map: spikes, baseline, band metrics per point, uniformity.
 
-    Steps: on blocks of ``MAP_BLOCK_POINTS`` spectra (in float64; only the map as given and
-    the processed map, in float32, are held whole) spike removal (Whitaker & Hayes 2018),
-    batched P-spline ASLS baselines (:func:`~qc.analysis.baseline.asls_baseline_map`) and
-    normalisation to counts/(mW·s); then the mean-spectrum band fit, the fitted band
-    height/area per point (:func:`~qc.analysis.band_maps.band_heights_map`), RSD and share
+    Steps: on blocks of ``MAP_BLOCK_POINTS`` spectra, ``MAP_THREADS`` blocks at a time (in
+    float64; only the map as given and the processed map, in float32, are held whole)
+    spike removal (Whitaker & Hayes 2018), batched P-spline ASLS baselines
+    (:func:`~qc.analysis.baseline.asls_baseline_map`) and normalisation to counts/(mW·s);
+    then the mean-spectrum band fit, the fitted band height/area per point
+    (:func:`~qc.analysis.band_maps.band_heights_map`), RSD and share
     within ±tolerance of the median (:func:`~qc.analysis.uniformity.map_uniformity`).
 
     Parameters
@@ -292,19 +297,20 @@ def analyse_qc_map(
     spikes_per_point = np.empty(n_points, dtype=np.int64)
     sample_spectra = np.empty((sample_index.size, axis.size))
     sample_baselines = np.empty_like(sample_spectra)
-    converged = True
     lam = lam_for_spacing(axis, baseline_stiffness_cm4)
-    for first in range(0, n_points, MAP_BLOCK_POINTS):
-        rows = slice(first, min(first + MAP_BLOCK_POINTS, n_points))
+
+    def process(rows: slice) -> bool:
+        """One block end to end, into ``processed``; whether every baseline converged."""
+        first = rows.start
         block = np.array(spectra[rows, ::-1] if descending else spectra[rows], dtype=np.float64)
         if not all_finite(block):
             row = first + int(np.flatnonzero(~np.isfinite(block).all(axis=1))[0])
             raise AnalysisInputError(f"point {row} holds NaN or infinity", field="counts_2d")
-        despiked = remove_spikes(block, threshold=spike_threshold)
+        despiked = remove_spikes(block, threshold=spike_threshold, max_threads=1)
         del block
         cleaned = despiked.cleaned
-        baseline, diagnostics = asls_baseline_map(axis, cleaned, lam=lam, p=baseline_p)
-        converged = converged and bool(diagnostics["converged"].all())
+        baseline, diagnostics = asls_baseline_map(axis, cleaned, lam=lam, p=baseline_p,
+                                                  max_threads=1)
         kept = (sample_index >= rows.start) & (sample_index < rows.stop)
         sample_spectra[kept] = cleaned[sample_index[kept] - first] * scale
         sample_baselines[kept] = baseline[sample_index[kept] - first] * scale
@@ -312,7 +318,21 @@ def analyse_qc_map(
         cleaned *= scale
         processed[rows] = cleaned  # float32: 7 digits, far below the counts' noise
         spikes_per_point[rows] = despiked.replaced_per_spectrum
-        del despiked, cleaned, baseline
+        return bool(diagnostics["converged"].all())
+
+    blocks = [slice(first, min(first + MAP_BLOCK_POINTS, n_points))
+              for first in range(0, n_points, MAP_BLOCK_POINTS)]
+    n_threads = min(MAP_THREADS, os.cpu_count() or 1, len(blocks))
+    if n_threads < 2:
+        converged = all([process(rows) for rows in blocks])
+    else:
+        # Whole blocks side by side: the compiled kernels and numpy's partitions release the
+        # GIL, and no step waits for the other thread (a fault is raised in block order).
+        pool = ThreadPoolExecutor(max_workers=n_threads)
+        try:
+            converged = all(list(pool.map(process, blocks)))
+        finally:
+            pool.shutdown(cancel_futures=True)
     percentile_spectra = np.percentile(
         processed[_evenly_spaced(n_points, PERCENTILE_SAMPLE)], PERCENTILES, axis=0)
     mean_spectrum = processed.mean(axis=0, dtype=np.float64)

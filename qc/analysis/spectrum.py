@@ -249,13 +249,22 @@ class RamanMap:
     __hash__ = None  # type: ignore[assignment]
 
 
+def first_repeated_point(x_um, y_um) -> int | None:
+    """Index of the first point whose position occurs more than once, or ``None``.
+
+    Positions are compared exactly (−0.0 equals 0.0).  One stable sort of the positions
+    puts equal ones side by side, first occurrence first: a fraction of the cost of
+    numpy's ``unique`` over rows, which mattered on 10,000-point maps.
+    """
+    order = np.lexsort((y_um, x_um))
+    x_sorted, y_sorted = x_um[order], y_um[order]
+    same = (x_sorted[1:] == x_sorted[:-1]) & (y_sorted[1:] == y_sorted[:-1])
+    return int(order[:-1][same].min()) if same.any() else None
+
+
 def _require_distinct_positions(x: np.ndarray, y: np.ndarray) -> None:
-    positions = np.column_stack([x, y])
-    _, first, counts = np.unique(
-        positions, axis=0, return_index=True, return_counts=True
-    )
-    if np.any(counts > 1):
-        repeated = np.sort(first[counts > 1])[0]
+    repeated = first_repeated_point(x, y)
+    if repeated is not None:
         raise AnalysisInputError(
             f"position ({x[repeated]}, {y[repeated]}) µm occurs more than once "
             f"(first at point {repeated})",

@@ -84,6 +84,7 @@ def remove_spikes(
     widen_points: int = 1,
     replace_window_points: int = 3,
     sharpness: float = 3.0,
+    max_threads: int | None = None,
 ) -> SpikeRemoval:
     """Find and replace cosmic-ray spikes (Whitaker & Hayes 2018), for a spectrum or a map.
 
@@ -106,6 +107,9 @@ def remove_spikes(
     sharpness : float, default 3
         How many times larger than the difference just outside it a spike's opening and
         closing jumps must be (see Notes).
+    max_threads : int, optional
+        Threads the rows of a map may be split over (default: up to four, by the rows); 1
+        for a caller that already runs blocks of a map side by side.
 
     Returns
     -------
@@ -155,7 +159,8 @@ def remove_spikes(
 
     spectra = np.atleast_2d(values)
     mask = _spike_points_threaded(
-        spectra, threshold, int(max_spike_width_points), float(sharpness)
+        spectra, threshold, int(max_spike_width_points), float(sharpness),
+        _MAX_THREADS if max_threads is None else max_threads,
     )
     mask = _widen(mask, int(widen_points))
     cleaned = _replace_by_neighbour_mean(spectra, mask, int(replace_window_points))
@@ -186,12 +191,13 @@ def _row_median_in_place(values: np.ndarray) -> np.ndarray:
 # Rows per thread below which one thread does all (thread start-up would dominate; a
 # map arrives in blocks of about a thousand spectra).
 _ROWS_PER_THREAD = 500
+_MAX_THREADS = 4
 
 
-def _spike_points_threaded(spectra, threshold, max_width, sharpness):
+def _spike_points_threaded(spectra, threshold, max_width, sharpness, max_threads):
     """:func:`_spike_points` on row blocks in parallel threads; rows are independent, and
     numpy releases the GIL in the partitions that dominate, so the mask is the same."""
-    n_threads = min(os.cpu_count() or 1, 4, spectra.shape[0] // _ROWS_PER_THREAD)
+    n_threads = min(os.cpu_count() or 1, max_threads, spectra.shape[0] // _ROWS_PER_THREAD)
     if n_threads < 2:
         return _spike_points(spectra, threshold, max_width, sharpness)
     edges = np.linspace(0, spectra.shape[0], n_threads + 1).astype(int)

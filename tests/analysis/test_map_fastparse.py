@@ -256,3 +256,60 @@ def test_noisy_rows_are_accepted_only_as_arrow_reads_them(rows):
         return
     assert compiled.intensity.tobytes() == arrow.intensity.tobytes()
     assert compiled.x_um.tobytes() == arrow.x_um.tobytes()
+
+
+def _one_thread(monkeypatch, raw):
+    """The same parse with every block on the calling thread."""
+    with monkeypatch.context() as patch:
+        patch.setattr(map_fastparse, "_SPLIT_BYTES", 1 << 62)
+        return map_fastparse.read_wide_rows(raw, len(HEADER), ",", 4, True)
+
+
+@pytest.mark.parametrize("block_bytes", [97, 150, 1000, 4096])
+def test_two_threads_read_bit_for_bit_what_one_thread_reads(monkeypatch, block_bytes):
+    # Blank lines ("", "\r": the second half's rows then move up to close the gap) and
+    # both line ends land on every side of the split of each block (its middle) and of the
+    # blocks, and the rows are shorter than the first, so the map grows while both halves
+    # are parsed; the one-thread parse itself equals Arrow's reading bit for bit (above).
+    rng = np.random.default_rng(7)
+    lines = ["0,0," + ",".join(["1234567.1234567"] * 4)]
+    for k in range(1, 400):
+        ending = rng.choice(["\n", "\r\n", "\n\n", "\r\n\r\n", "\n\r\n"])
+        cells = [f"{v:.{rng.integers(0, 4)}f}" for v in rng.normal(0, 1e4, 4)]
+        lines.append(f"{k},1," + ",".join(cells) + ending)
+    raw = (HEADER + lines[0] + "\n" + "".join(lines[1:])).encode()
+    monkeypatch.setattr(map_fastparse, "_BLOCK_BYTES", block_bytes)
+    single = _one_thread(monkeypatch, raw)
+    calls = {"_second_run": 0, "grow": 0}
+    for name in calls:
+        method = getattr(map_fastparse._Rows, name)
+
+        def counted(self, *args, method=method, name=name):
+            calls[name] += 1
+            return method(self, *args)
+
+        monkeypatch.setattr(map_fastparse._Rows, name, counted)
+    monkeypatch.setattr(map_fastparse, "_SPLIT_BYTES", 1)
+    threaded = map_fastparse.read_wide_rows(raw, len(HEADER), ",", 4, True)
+    assert calls["_second_run"] > 1 and calls["grow"] > 0  # both paths were taken
+    assert isinstance(single, map_fastparse.WideRows) and single.intensity.shape == (400, 4)
+    assert threaded.intensity.tobytes() == single.intensity.tobytes()
+    assert threaded.positions.tobytes() == single.positions.tobytes()
+    assert threaded.intensity.tobytes() == _arrow_only(monkeypatch, raw).intensity.tobytes()
+
+
+@pytest.mark.parametrize("bad_rows", [(30,), (170,), (30, 170), (199,)])
+def test_two_threads_report_the_first_fault_in_the_file_as_one_thread_does(monkeypatch,
+                                                                             bad_rows):
+    # One block of 200 rows split in its middle (about row 100): a fault before the split,
+    # after it, on both sides (the first is reported), and on the last row.
+    rows = [f"{k},0,{k},2,3,4" for k in range(200)]
+    for bad in bad_rows:
+        rows[bad] = f"{bad},0,{bad},x2,3,4"
+    raw = (HEADER + "\n".join(rows) + "\n").encode()
+    single = _one_thread(monkeypatch, raw)
+    monkeypatch.setattr(map_fastparse, "_SPLIT_BYTES", 1)
+    threaded = map_fastparse.read_wide_rows(raw, len(HEADER), ",", 4, True)
+    assert isinstance(single, map_fastparse.Declined)
+    assert threaded == single
+    assert raw[threaded.offset:threaded.offset + 2] == b"x2"

@@ -145,3 +145,25 @@ def test_a_float32_map_in_small_blocks_and_descending_gives_the_float64_heights(
         np.linalg.lstsq(design, (row - fitter.asls(row, lam=lam_for_spacing(x), p=0.01)[0])
                         [inside], rcond=None)[0][0] for row in counts[clean]])
     assert np.max(np.abs(lean.height_per_point[clean] / reference - 1)) < 0.02
+
+
+def test_blocks_on_two_threads_equal_one_thread_and_name_the_first_bad_point(monkeypatch):
+    """Blocks analysed side by side give the one-thread result bit for bit (spectra are
+    independent), and of two bad points in different blocks the first is named."""
+    x, counts, _ = _map(n_points=40, seed=11)
+    settings = dict(band_center_cm1=1075, band_window_cm1=60, power_mW=1, integration_s=1)
+    monkeypatch.setattr(qc_pipeline, "MAP_BLOCK_POINTS", 7)  # six blocks on two threads
+    threaded = analyse_qc_map(x, counts, **settings)
+    monkeypatch.setattr(qc_pipeline, "MAP_THREADS", 1)
+    single = analyse_qc_map(x, counts, **settings)
+    for name in ("height_per_point", "area_per_point", "spikes_per_point", "mean_spectrum",
+                 "percentile_spectra", "sample_spectra", "sample_baselines"):
+        np.testing.assert_array_equal(getattr(threaded, name), getattr(single, name))
+    assert threaded.baseline_converged == single.baseline_converged
+    monkeypatch.setattr(qc_pipeline, "MAP_THREADS", 2)
+    bad = counts.copy()
+    bad[30, 3] = np.inf
+    bad[9, 100] = np.nan
+    with pytest.raises(AnalysisInputError) as err:
+        analyse_qc_map(x, bad, **settings)
+    assert "point 9 " in err.value.message

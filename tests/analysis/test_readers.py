@@ -21,7 +21,7 @@ from qc.analysis.readers import (
     read_spectrum,
     read_two_column,
 )
-from qc.analysis.spectrum import RamanMap, Spectrum, infer_grid_shape
+from qc.analysis.spectrum import RamanMap, Spectrum, first_repeated_point, infer_grid_shape
 
 FIXTURES = Path(__file__).resolve().parents[2] / "fixtures" / "spectra"
 
@@ -294,3 +294,18 @@ def test_grid_shape_inference_and_irregular_maps():
     point = RamanMap(x, y, [100.0, 200.0], np.arange(12.0).reshape(6, 2)).spectrum(3)
     np.testing.assert_array_equal(point.y, [6.0, 7.0])
     assert (point.metadata["x_um"], point.metadata["y_um"]) == (2.0, 0.0)
+
+
+@pytest.mark.parametrize("seed", range(6))
+def test_first_repeated_point_is_the_one_numpy_unique_finds(seed):
+    # Reference: numpy's unique over rows (first index and count of each position); the
+    # positions come from a few values, with −0.0 beside 0.0, so some repeat and some not.
+    rng = np.random.default_rng(seed)
+    n = int(rng.integers(2, 60))
+    values = np.array([0.0, -0.0, 1.5, 2.0, -3.25])
+    x = rng.choice(values, n)
+    y = rng.choice(values, n) if seed % 2 else np.arange(n) * 0.5 + (seed == 4) * (n < 30)
+    _, first, counts = np.unique(np.column_stack([x, y]), axis=0, return_index=True,
+                                 return_counts=True)
+    expected = int(np.sort(first[counts > 1])[0]) if (counts > 1).any() else None
+    assert first_repeated_point(x, y) == expected
