@@ -48,19 +48,26 @@ TODAY = {  # issue 22's "today" column (10,000-point map), for the table
 GRID = {400: 20, 10_000: 100, 40_000: 200}
 
 
-def _map_file(points: int) -> Path:
-    path = OUT / f"map_{points}.csv"
+def _map_file(points: int, *, counts: str = "decimals") -> Path:
+    """The invented map of ``points`` spectra: counts with two decimals (``decimals``, about
+    8.2 MB per 1,000 points) or whole counts as a CCD reads them out (``integers``, about
+    5.1 MB per 1,000 points: the size of issue 22's 51 MB map)."""
+    path = OUT / (f"map_{points}.csv" if counts == "decimals" else f"map_{points}_{counts}.csv")
     if path.exists():
         return path
     from benchmarks.qc_map_pipeline import synthetic_map
 
     side = GRID[points]
-    shift, counts = synthetic_map(side, side, 1024, seed=points)
+    shift, intensity = synthetic_map(side, side, 1024, seed=points)
     ys, xs = np.divmod(np.arange(points), side)
     with path.open("w") as handle:
         handle.write("x_um,y_um," + ",".join(f"{s:.2f}" for s in shift) + "\n")
-        block = np.column_stack([xs * 2.0, ys * 2.0, counts + 0.25])
-        np.savetxt(handle, block, fmt="%.2f", delimiter=",")
+        if counts == "decimals":
+            block = np.column_stack([xs * 2.0, ys * 2.0, intensity + 0.25])
+            np.savetxt(handle, block, fmt="%.2f", delimiter=",")
+        else:
+            block = np.column_stack([xs * 2, ys * 2, np.rint(intensity)]).astype(np.int64)
+            np.savetxt(handle, block, fmt="%d", delimiter=",")
     return path
 
 
