@@ -274,13 +274,20 @@ def _require_not_future(day: date, *, field: str) -> None:
 
 
 def _check_substrates_usable(substrates: Sequence[Substrate], *, role: str, on_date: date,
-                             field: str = "substrates", date_field: str = "made_on") -> None:
-    """Each substrate usable on ``on_date`` and made by then; ``date_field`` is the name of
-    the caller's date parameter (``measured_on``, ``acquired_on``), which a refusal names."""
+                             field: str = "substrates", date_field: str = "made_on",
+                             state_read: bool = False) -> None:
+    """Each substrate named once, usable on ``on_date`` and made by then; ``date_field`` is
+    the name of the caller's date parameter (``measured_on``, ``acquired_on``), which a
+    refusal names; ``state_read`` as for ``check_usable`` (a sheet import read them)."""
     if not substrates:
         raise refusal(field, "Choose at least one substrate.", "required")
+    seen: set[str] = set()
     for substrate in substrates:
-        check_usable(substrate, role=role, on_date=on_date, field=field)
+        if substrate.code in seen:  # a second lineage edge would break its unique constraint
+            raise refusal(field, f"{substrate.code} is named twice.", "duplicate")
+        seen.add(substrate.code)
+        check_usable(substrate, role=role, on_date=on_date, field=field,
+                     state_read=state_read)
         if on_date < substrate.made_on:
             raise refusal(date_field, f"{substrate.code} was made on "
                                       f"{substrate.made_on.isoformat()}, after this step.",
