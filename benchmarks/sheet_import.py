@@ -18,6 +18,11 @@ services. ``--django-validation`` adds the loop with Django's own constraint val
 query per CHECK constraint), the way records were validated before the first speed work.
 Wall and CPU seconds and /proc/loadavg before and after go to
 ``benchmarks/out/sheet-import-<db>.json``.
+
+``--kinds linker_layers particle_attachments``: steps that move stored substrates to their
+next stage. Their substrates (rows + per-row rows of them) are made before the timed part;
+the linker sheet's import is kept, and the attachment sheet names the pieces it gave a
+layer. The reference is ``linker_layer_apply`` / ``particle_attach`` in a plain loop.
 """
 
 from __future__ import annotations
