@@ -18,6 +18,11 @@ services. ``--django-validation`` adds the loop with Django's own constraint val
 query per CHECK constraint), the way records were validated before the first speed work.
 Wall and CPU seconds and /proc/loadavg before and after go to
 ``benchmarks/out/sheet-import-<db>.json``.
+
+``--kinds linker_layers particle_attachments``: steps that move stored substrates to their
+next stage. Their substrates (rows + per-row rows of them) are made before the timed part;
+the linker sheet's import is kept, and the attachment sheet names the pieces it gave a
+layer. The reference is ``linker_layer_apply`` / ``particle_attach`` in a plain loop.
 """
 
 from __future__ import annotations
@@ -218,6 +223,176 @@ def rollback_import(kind: str) -> None:
     CodeCounter.objects.filter(prefix=model.CODE_PREFIX).update(last_value=0)
 
 
+# ---------------------------------------------------------------------------------------
+# Linker layers and particle attachments: steps that move stored substrates to a new stage
+# ---------------------------------------------------------------------------------------
+
+SURFACE_KINDS = ("linker_layers", "particle_attachments")
+LINKER_HEADER = ["Code or your ID", "Linker lot", "Solvent lot", "Substrates",
+                 "Concentration (mM)", "Immersion (h)", "Made on"]
+ATTACHMENT_HEADER = ["Code or your ID", "Substrate", "Colloid batch", "Immersion (min)",
+                     "Made on"]
+PIECES_PER_RUN = 200  # the most a deposition run yields
+
+
+def surface_parents(pieces: int) -> dict:
+    """Released linker, solvent and colloid, and ``pieces`` substrates of flat-film
+    deposition runs (200 a run), made before the timed part: each run and its first piece
+    through the service, the other pieces inserted in bulk like the service's (a code each,
+    history row, "cut from" edge), which is quicker than the service's one at a time."""
+    from django.db import transaction
+    from simple_history.utils import bulk_create_with_history
+
+    from inventory import services
+    from inventory.codes import code_next, codes_in_blocks
+    from inventory.models import LineageEdge, Substrate
+
+    def released(record):
+        return services.record_transition(actor=None, record=record, to_status="released")
+
+    lots = {kind: released(services.reagent_lot_receive(
+        actor=None, name=f"bench {kind}", kind=kind, received_on=date(2026, 2, 20)))
+        for kind in ("linker_thiol", "solvent", "base_slide", "plating_bath")}
+    colloid = released(services.nanoparticle_batch_make(
+        actor=None, metal="Ag", synthesis_method="citrate", volume_mL=500,
+        made_on=date(2026, 4, 30)))
+    made_on = date(2026, 3, 1)
+    codes: list[str] = []
+    with transaction.atomic(), codes_in_blocks():
+        while len(codes) < pieces:
+            run, (first,) = services.deposition_run_record(
+                actor=None, bath_lot=lots["plating_bath"], base_slide_lot=lots["base_slide"],
+                metal="Au", electrons_per_atom=1, mode="potentiostatic",
+                setpoint_potential_V=-0.7, electrode_area_cm2=1.0, made_on=made_on, pieces=1)
+            more = [Substrate(code=code_next(Substrate.CODE_PREFIX), deposition_run=run,
+                              piece_label=f"{run.code}/{n}", made_on=made_on)
+                    for n in range(2, min(PIECES_PER_RUN, pieces - len(codes)) + 1)]
+            bulk_create_with_history(more, Substrate, batch_size=500)
+            LineageEdge.objects.bulk_create([
+                LineageEdge(parent_code=run.code, child_code=piece.code, role="cut from",
+                            used_on=made_on) for piece in more])
+            codes += [first.code, *(piece.code for piece in more)]
+    return {"linker": lots["linker_thiol"].code, "solvent": lots["solvent"].code,
+            "colloid": colloid.code, "substrates": codes}
+
+
+def linker_values(n: int) -> dict:
+    return {"concentration_mM": 0.5 + (n % 4) * 0.5, "immersion_h": 12 + n % 12,
+            "made_on": date(2026, 3, 5) + timedelta(days=n % 30)}
+
+
+def attachment_values(n: int) -> dict:
+    return {"immersion_min": 30 + n % 60, "made_on": date(2026, 5, 1) + timedelta(days=n % 5)}
+
+
+def workbook(header: list[str], rows) -> bytes:
+    import openpyxl
+
+    book = openpyxl.Workbook()
+    ws = book.active
+    ws.append(header)
+    for row in rows:
+        ws.append(row)
+    out = io.BytesIO()
+    book.save(out)
+    return out.getvalue()
+
+
+def linker_sheet(parents: dict, substrates: list[str], first: int = 0) -> bytes:
+    """One layer a row on one substrate, IDs from ``first``; every second row names the
+    solvent."""
+    rows = []
+    for n, code in enumerate(substrates, start=first):
+        v = linker_values(n)
+        rows.append([f"LL-{n:06d}", parents["linker"], parents["solvent"] if n % 2 else None,
+                     code, v["concentration_mM"], v["immersion_h"], v["made_on"]])
+    return workbook(LINKER_HEADER, rows)
+
+
+def attachment_sheet(parents: dict, substrates: list[str], first: int = 0) -> bytes:
+    rows = []
+    for n, code in enumerate(substrates, start=first):
+        v = attachment_values(n)
+        rows.append([f"PA-{n:06d}", code, parents["colloid"], v["immersion_min"], v["made_on"]])
+    return workbook(ATTACHMENT_HEADER, rows)
+
+
+def surface_loop(kind: str, parents: dict, substrates: list[str]) -> None:
+    """The rows of ``kind`` through their service in a plain loop (no sheet), rolled back."""
+    from django.db import transaction
+
+    from inventory.models import NanoparticleBatch, ReagentLot, Substrate
+    from inventory.services import linker_layer_apply, particle_attach
+
+    with transaction.atomic():
+        lots = {lot.code: lot for lot in ReagentLot.objects.filter(
+            code__in=[parents["linker"], parents["solvent"]])}
+        colloid = NanoparticleBatch.objects.get(code=parents["colloid"])
+        pieces = Substrate.objects.in_bulk(substrates, field_name="code")
+        for n, code in enumerate(substrates):
+            if kind == "linker_layers":
+                linker_layer_apply(actor=None, linker_lot=lots[parents["linker"]],
+                                   solvent_lot=lots[parents["solvent"]] if n % 2 else None,
+                                   substrates=[pieces[code]], **linker_values(n))
+            else:
+                particle_attach(actor=None, substrate=pieces[code], batch=colloid,
+                                **attachment_values(n))
+        transaction.set_rollback(True)
+
+
+def surface_kind(result: dict, kind: str, parents: dict, *, rows: int, reference_rows: int,
+                 per_row_rows: int, timed_kind: bool) -> None:
+    """Reference loop, then dry run and import of ``kind`` by the bulk path (``rows``) and the
+    per-row path (the next ``per_row_rows`` substrates); imports are kept, since the
+    attachments need substrates with a layer.  Not ``timed_kind``: only the imports, untimed.
+    """
+    from exchange.importer import import_sheet
+
+    make = linker_sheet if kind == "linker_layers" else attachment_sheet
+    bulk_pieces = parents["substrates"][:rows]
+    per_row_pieces = parents["substrates"][rows:rows + per_row_rows]
+    runs = [("bulk", make(parents, bulk_pieces), len(bulk_pieces))]
+    if per_row_pieces:
+        runs.append(("per_row", make(parents, per_row_pieces, first=rows),
+                     len(per_row_pieces)))
+    figures = result.setdefault(kind, {}) if timed_kind else {}
+    if timed_kind:
+        figures["file_bytes"] = len(runs[0][1])
+        _, wall, cpu = timed(partial(surface_loop, kind, parents,
+                                     bulk_pieces[:reference_rows]))
+        figures["reference_ms_per_row"] = {"wall": 1000 * wall / reference_rows,
+                                           "cpu": 1000 * cpu / reference_rows}
+        print(f"{kind} reference loop: {reference_rows} rows, {wall:.1f} s wall, "
+              f"{cpu:.1f} s CPU, load {loadavg()}", flush=True)
+    for path, content, count in runs:
+        for label, commit in (("dry_run", False), ("import", True)):
+            if not (timed_kind or commit):
+                continue
+            report, wall, cpu = timed(partial(
+                import_sheet, kind=kind, content=content, file_name=f"{path}-{label}.xlsx",
+                actor=None, commit=commit, bulk=path == "bulk"))
+            assert report.ok and len(report.created) == count, report.errors[:3]
+            if timed_kind:
+                per_row_cpu = 1000 * cpu / count
+                figures[f"{path}_{label}"] = {
+                    "rows": count, "wall_s": wall, "cpu_s": cpu, "cpu_ms_per_row": per_row_cpu,
+                    "cpu_ratio_to_reference": per_row_cpu / figures["reference_ms_per_row"]["cpu"],
+                    "loadavg_after": loadavg()}
+                print(f"{kind} {path} {label}: {count} rows, {wall:.1f} s wall, {cpu:.1f} s "
+                      f"CPU, load {loadavg()}", flush=True)
+
+
+def surface_kinds(result: dict, kinds: list[str], args) -> None:
+    """Linker layers, then attachments on the substrates the linker sheet gave a layer."""
+    parents, wall, cpu = timed(partial(surface_parents, args.rows + args.per_row_rows))
+    result["surface_setup"] = {"substrates": len(parents["substrates"]), "wall_s": wall,
+                               "cpu_s": cpu}
+    print(f"surface setup: {len(parents['substrates'])} substrates, {wall:.1f} s", flush=True)
+    for kind in SURFACE_KINDS:
+        surface_kind(result, kind, parents, rows=args.rows, reference_rows=args.reference_rows,
+                     per_row_rows=args.per_row_rows, timed_kind=kind in kinds)
+
+
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--db", choices=("sqlite", "postgres"), required=True)
@@ -226,7 +401,7 @@ def main() -> None:
     parser.add_argument("--per-row-rows", type=int, default=2_000,
                         help="rows of the per-row path's dry run and import (0: skip)")
     parser.add_argument("--kinds", nargs="+", default=["sphere_lots", "colloid_batches"],
-                        choices=["sphere_lots", "colloid_batches"])
+                        choices=["sphere_lots", "colloid_batches", *SURFACE_KINDS])
     parser.add_argument("--django-validation", action="store_true",
                         help="also time the service loop with Django's constraint queries")
     parser.add_argument("--pg-database", default=PG_DATABASE,
@@ -236,7 +411,9 @@ def main() -> None:
     configure(args.db, args.pg_database)
 
     result = {"db": args.db, "rows": args.rows, "loadavg_before": loadavg()}
-    for kind in args.kinds:
+    if any(kind in SURFACE_KINDS for kind in args.kinds):
+        surface_kinds(result, args.kinds, args)
+    for kind in (kind for kind in args.kinds if kind not in SURFACE_KINDS):
         result[kind] = {}
         if kind == "sphere_lots":
             content = sheet(args.rows)

@@ -172,12 +172,20 @@ SUBSTRATES = Kind(
     ), _purchased_piece, find=_find_piece)
 
 
-def _linker(values, ctx):
-    return services.linker_layer_apply(
-        actor=ctx.actor, linker_lot=values["linker_lot"], substrates=values["substrates"],
+def _linker_values(values) -> dict:
+    return dict(
+        linker_lot=values["linker_lot"], substrates=values["substrates"],
         concentration_mM=values["concentration_mM"], immersion_h=values["immersion_h"],
         made_on=values["made_on"], solvent_lot=values.get("solvent_lot"),
         notes=text_of(values, "notes"))
+
+
+def _linker(values, ctx):
+    return services.linker_layer_apply(actor=ctx.actor, **_linker_values(values))
+
+
+def _linker_new(values, ctx):
+    return services.linker_layer_check(actor=ctx.actor, many=ctx.many, **_linker_values(values))
 
 
 LINKER_LAYERS = Kind(
@@ -196,14 +204,23 @@ LINKER_LAYERS = Kind(
         Column("made_on", "Made on", "date", required=True, aliases=("date",),
                example="2026-02-03"),
         NOTES,
-    ), _linker, export_value={"substrates": lambda r: [s.code for s in r.substrates.all()]})
+    ), _linker, prepare=_linker_new,
+    export_value={"substrates": lambda r: [s.code for s in r.substrates.all()]})
+
+
+def _attachment_values(values) -> dict:
+    return dict(substrate=values["substrate"], batch=values["batch"],
+                immersion_min=values["immersion_min"], made_on=values["made_on"],
+                notes=text_of(values, "notes"))
 
 
 def _attachment(values, ctx):
-    return services.particle_attach(
-        actor=ctx.actor, substrate=values["substrate"], batch=values["batch"],
-        immersion_min=values["immersion_min"], made_on=values["made_on"],
-        notes=text_of(values, "notes"))
+    return services.particle_attach(actor=ctx.actor, **_attachment_values(values))
+
+
+def _attachment_new(values, ctx):
+    return services.particle_attachment_check(actor=ctx.actor, many=ctx.many,
+                                              **_attachment_values(values))
 
 
 PARTICLE_ATTACHMENTS = Kind(
@@ -219,4 +236,4 @@ PARTICLE_ATTACHMENTS = Kind(
         Column("made_on", "Made on", "date", required=True, aliases=("date",),
                example="2026-02-04"),
         NOTES,
-    ), _attachment)
+    ), _attachment, prepare=_attachment_new)

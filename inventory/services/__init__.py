@@ -24,10 +24,8 @@ from .deposition import (
 )
 from .fabrication import (
     deposition_run_record,
-    linker_layer_apply,
     nanoparticle_batch_check,
     nanoparticle_batch_make,
-    particle_attach,
     substrate_receive,
     template_assemble,
 )
@@ -42,6 +40,12 @@ from .materials import (
     storage_location_create,
 )
 from .records import dataset_register, flag_raise, flag_resolve, sha256_of
+from .surface_steps import (
+    linker_layer_apply,
+    linker_layer_check,
+    particle_attach,
+    particle_attachment_check,
+)
 
 __all__ = [
     "CheckingMany",
@@ -59,11 +63,13 @@ __all__ = [
     "flag_raise",
     "flag_resolve",
     "linker_layer_apply",
+    "linker_layer_check",
     "nanoparticle_batch_check",
     "nanoparticle_batch_make",
     "new_record_save",
     "new_records_insert",
     "particle_attach",
+    "particle_attachment_check",
     "reagent_lot_check",
     "reagent_lot_open",
     "reagent_lot_receive",

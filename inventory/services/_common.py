@@ -168,6 +168,19 @@ class CheckingMany:
 STAMP_FIELDS = ("created_by", "updated_by")
 
 
+def _read_relations(record: Model, *, stored: bool) -> tuple[str, ...]:
+    """The foreign keys of ``record`` that need no existence query (``clean_fields`` asks one
+    per key): the stamps, and those whose record the caller holds, read from the database in
+    this transaction; for a ``stored`` record (read under a lock, being changed), all of
+    them.  The database's foreign keys still hold on every row written.
+    """
+    return STAMP_FIELDS + tuple(
+        field.name for field in record._meta.concrete_fields
+        if field.many_to_one and field.name not in STAMP_FIELDS
+        and (stored or (field.is_cached(record)
+                        and getattr(field.get_cached_value(record), "pk", None) is not None)))
+
+
 def _require_role(actor: User | None, role: str, *, action: str,
                   many: CheckingMany | None = None) -> None:
     """``require_role``, asked once per role by a caller checking many records."""
@@ -188,7 +201,7 @@ def _prepare_new(record: CodedRecord, *, actor: User | None,
     record.code = code_next(record.CODE_PREFIX)
     record.created_by = actor
     record.updated_by = actor
-    _check_fields(record, exclude=() if many is None else STAMP_FIELDS)
+    _check_fields(record, exclude=() if many is None else _read_relations(record, stored=False))
     if isinstance(record, LifecycleRecord):
         refresh_expiry(record, None if many is None else many.rules)
     _full_clean(record, fields_cleaned=True,
@@ -209,14 +222,17 @@ def _prepare_changed(record: StampedRecord, *, actor: User | None,
     """Stamp a changed record with a new version and check it; write nothing.
 
     The check part of every change: ``_save_changed`` saves what it approves, and a sheet
-    import keeps a checked copy in ``NewRecord.changed`` and writes many at once.
+    import keeps a checked copy in ``NewRecord.changed`` and writes many at once (a change
+    written that way moves no foreign key: they are not checked again).
     """
     record.updated_by = actor
     record.version += 1
-    _check_fields(record, exclude=() if many is None else STAMP_FIELDS)
+    _check_fields(record, exclude=() if many is None else _read_relations(record, stored=True))
     if isinstance(record, LifecycleRecord):
         refresh_expiry(record, None if many is None else many.rules)
-    _full_clean(record, fields_cleaned=True)
+    # Its code is the stored one: no unique query for it when checking many.
+    _full_clean(record, fields_cleaned=True,
+                unique_exclude=frozenset() if many is None else frozenset({"code"}))
 
 
 def _save_changed(record: StampedRecord, *, actor: User | None, reason: str = "") -> None:
@@ -274,13 +290,20 @@ def _require_not_future(day: date, *, field: str) -> None:
 
 
 def _check_substrates_usable(substrates: Sequence[Substrate], *, role: str, on_date: date,
-                             field: str = "substrates", date_field: str = "made_on") -> None:
-    """Each substrate usable on ``on_date`` and made by then; ``date_field`` is the name of
-    the caller's date parameter (``measured_on``, ``acquired_on``), which a refusal names."""
+                             field: str = "substrates", date_field: str = "made_on",
+                             state_read: bool = False) -> None:
+    """Each substrate named once, usable on ``on_date`` and made by then; ``date_field`` is
+    the name of the caller's date parameter (``measured_on``, ``acquired_on``), which a
+    refusal names; ``state_read`` as for ``check_usable`` (a sheet import read them)."""
     if not substrates:
         raise refusal(field, "Choose at least one substrate.", "required")
+    seen: set[str] = set()
     for substrate in substrates:
-        check_usable(substrate, role=role, on_date=on_date, field=field)
+        if substrate.code in seen:  # a second lineage edge would break its unique constraint
+            raise refusal(field, f"{substrate.code} is named twice.", "duplicate")
+        seen.add(substrate.code)
+        check_usable(substrate, role=role, on_date=on_date, field=field,
+                     state_read=state_read)
         if on_date < substrate.made_on:
             raise refusal(date_field, f"{substrate.code} was made on "
                                       f"{substrate.made_on.isoformat()}, after this step.",

@@ -6,9 +6,9 @@ A create service is split in two: ``<kind>_check`` applies every rule and return
 check functions and writes them with :func:`new_records_insert`: per model one INSERT per
 batch for the records and one for their history rows (django-simple-history's
 ``bulk_create_with_history``), then their many-to-many rows and lineage edges, then the
-stored records the new ones changed (a template consumed, a substrate's stage) with
-``bulk_update_with_history``, and the rows that record those changes.  The database's
-CHECK and unique constraints still hold on every inserted row.
+stored records the new ones changed (a template consumed, a substrate's stage), one UPDATE
+run with many parameter sets, with their history rows in bulk, and the rows that record
+those changes.  The database's CHECK and unique constraints still hold on every row written.
 """
 
 from __future__ import annotations
@@ -18,9 +18,10 @@ from collections.abc import Sequence
 from dataclasses import dataclass, field
 from datetime import date
 
+from django.db import connections, router
 from django.db.models import Model
 from django.utils import timezone
-from simple_history.utils import bulk_create_with_history, bulk_update_with_history
+from simple_history.utils import bulk_create_with_history, get_history_manager_for_model
 
 from ..models import CodedRecord, LineageEdge, StampedRecord
 from ._common import User, _lineage_edges, _link, _stamp_history
@@ -113,11 +114,28 @@ def _changes_write(news: Sequence[NewRecord], *, actor: User | None, batch_rows:
         for row in new.rows:
             rows[type(row)].append(row)
     for model, records in changed.items():
-        names = [f.name for f in model._meta.concrete_fields if not f.primary_key]
-        bulk_update_with_history(records, model, names, batch_size=batch_rows,
-                                 default_user=actor)
+        _rows_update(model, records)
+        get_history_manager_for_model(model).bulk_history_create(
+            records, batch_size=batch_rows, update=True, default_user=actor)
     for model, group in rows.items():
         model.objects.bulk_create(group, batch_size=batch_rows)
+
+
+def _rows_update(model: type[Model], records: Sequence[Model]) -> None:
+    """Every column but the key of each record's row: one UPDATE statement run with many
+    parameter sets.  In place of ``bulk_update``, whose CASE WHEN for each column and row
+    cost ~7 ms a row to build (70 of the 75 s of a 10,000-row linker sheet)."""
+    connection = connections[router.db_for_write(model)]
+    quote = connection.ops.quote_name
+    fields = [f for f in model._meta.concrete_fields if not f.primary_key]
+    key = model._meta.pk
+    sql = (f"UPDATE {quote(model._meta.db_table)} SET "
+           f"{', '.join(f'{quote(f.column)} = %s' for f in fields)} "
+           f"WHERE {quote(key.column)} = %s")
+    params = [[f.get_db_prep_save(getattr(record, f.attname), connection) for f in fields]
+              + [key.get_db_prep_save(record.pk, connection)] for record in records]
+    with connection.cursor() as cursor:
+        cursor.executemany(sql, params)
 
 
 def codes_taken(news: Sequence[NewRecord]) -> list[NewRecord]:

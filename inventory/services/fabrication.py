@@ -1,4 +1,5 @@
-"""The fabrication chain: template, deposition run and pieces, linker, colloid, particles."""
+"""The fabrication chain: template, deposition run and pieces, colloid (the steps on a
+substrate's surface, linker layer and particles, are in surface_steps)."""
 
 from __future__ import annotations
 
@@ -20,9 +21,7 @@ from ..models import (
     CodedRecord,
     DepositionRun,
     LineageEdge,
-    LinkerLayer,
     NanoparticleBatch,
-    ParticleAttachment,
     ReagentKind,
     ReagentLot,
     SphereLot,
@@ -35,13 +34,11 @@ from ..roles import MAKER, require_role
 from ._common import (
     CheckingMany,
     User,
-    _check_substrates_usable,
     _link,
     _prepare_new,
     _require_kind,
     _require_not_future,
     _require_role,
-    _save_changed,
     _save_new,
 )
 from .creation import NewRecord, new_record_save
@@ -226,45 +223,6 @@ def substrate_receive(*, actor: User | None, purchased_lot: ReagentLot, pieces: 
     return substrates
 
 
-@transaction.atomic
-def linker_layer_apply(
-    *, actor: User | None, linker_lot: ReagentLot, substrates: Sequence[Substrate],
-    concentration_mM: float, immersion_h: float, made_on: date,
-    solvent_lot: ReagentLot | None = None, notes: str = "",
-) -> LinkerLayer:
-    """A thiol monolayer self-assembled on one or more substrates in one immersion."""
-    require_role(actor, MAKER, action="Recording a linker layer")
-    _require_not_future(made_on, field="made_on")
-    _require_kind(linker_lot, [ReagentKind.LINKER_THIOL], field="linker_lot")
-    check_usable(linker_lot, role="the linker", on_date=made_on, field="linker_lot")
-    inputs: list[tuple[CodedRecord, str]] = [(linker_lot, "linker")]
-    if solvent_lot is not None:
-        _require_kind(solvent_lot, [ReagentKind.SOLVENT], field="solvent_lot")
-        check_usable(solvent_lot, role="the solvent", on_date=made_on, field="solvent_lot")
-        inputs.append((solvent_lot, "solvent"))
-    _check_substrates_usable(substrates, role="a linker substrate", on_date=made_on)
-    for substrate in substrates:
-        if substrate.stage == Substrate.Stage.PARTICLES:
-            raise refusal(
-                "substrates", f"{substrate.code} already carries particles.", "wrong_stage"
-            )
-    layer = _save_new(LinkerLayer(
-        linker_lot=linker_lot, solvent_lot=solvent_lot, concentration_mM=concentration_mM,
-        immersion_h=immersion_h, made_on=made_on, notes=notes,
-    ), actor=actor)
-    layer.substrates.set(substrates)
-    _link(inputs, layer, used_on=made_on, actor=actor)
-    LineageEdge.objects.bulk_create([
-        LineageEdge(parent_code=layer.code, child_code=s.code, role="linker layer",
-                    used_on=made_on, created_by=actor) for s in substrates
-    ])
-    for substrate in substrates:
-        substrate.refresh_from_db()
-        substrate.stage = Substrate.Stage.LINKER
-        _save_changed(substrate, actor=actor, reason=f"linker layer {layer.code}")
-    return layer
-
-
 def nanoparticle_batch_check(
     *, actor: User | None, metal: str, synthesis_method: str, volume_mL: float, made_on: date,
     source_lots: Sequence[ReagentLot] = (), target_diameter_nm: float | None = None,
@@ -290,34 +248,3 @@ def nanoparticle_batch_check(
 def nanoparticle_batch_make(*, actor: User | None, **values) -> NanoparticleBatch:
     """Record a colloid batch; ``values`` are those of :func:`nanoparticle_batch_check`."""
     return new_record_save(nanoparticle_batch_check(actor=actor, **values), actor=actor)
-
-
-@transaction.atomic
-def particle_attach(*, actor: User | None, substrate: Substrate, batch: NanoparticleBatch,
-                    immersion_min: float, made_on: date, notes: str = "") -> ParticleAttachment:
-    """Bind particles of ``batch`` onto a substrate that carries a linker layer."""
-    require_role(actor, MAKER, action="Recording a particle attachment")
-    _require_not_future(made_on, field="made_on")
-    _check_substrates_usable([substrate], role="a substrate for particles", on_date=made_on,
-                             field="substrate")
-    if substrate.stage != Substrate.Stage.LINKER:
-        raise refusal(
-            "substrate",
-            f"{substrate.code} has no linker layer yet (stage: {substrate.get_stage_display()}).",
-            "wrong_stage",
-        )
-    check_usable(batch, role="the colloid", on_date=made_on, field="batch")
-    if made_on < batch.made_on:
-        raise refusal(
-            "made_on", "Particles cannot be bound before the colloid was made.", "date_order"
-        )
-    attachment = _save_new(ParticleAttachment(
-        substrate=substrate, batch=batch, immersion_min=immersion_min, made_on=made_on,
-        notes=notes,
-    ), actor=actor)
-    _link([(batch, "colloid")], attachment, used_on=made_on, actor=actor)
-    _link([(attachment, "particles")], substrate, used_on=made_on, actor=actor)
-    substrate.refresh_from_db()
-    substrate.stage = Substrate.Stage.PARTICLES
-    _save_changed(substrate, actor=actor, reason=f"particles {attachment.code}")
-    return attachment

@@ -63,14 +63,15 @@ def snapshot() -> dict:
     return state
 
 
-def both_paths(kind: str, content: bytes, actor, *, commit: bool):
-    """The per-row and the bulk path on the same database state, each rolled back after."""
+def both_paths(kind: str, content: bytes, actor, *, commit: bool, state=None):
+    """The per-row and the bulk path on the same database state, each rolled back after;
+    ``state`` says what to compare (default: ``snapshot``)."""
     results = {}
     for bulk in (False, True):
         with transaction.atomic():
             report = import_sheet(kind=kind, content=content, file_name="lab sheet.csv",
                                   actor=actor, commit=commit, bulk=bulk)
-            results[bulk] = (report.as_dict(), snapshot())
+            results[bulk] = (report.as_dict(), (state or snapshot)())
             transaction.set_rollback(True)
     return results[False], results[True]
 

@@ -112,3 +112,21 @@ def test_a_fractional_whole_number_is_refused_not_truncated(chain):
     amended = record_amend(actor=chain.maker, record=run, changes={"electrons_per_atom": 3.0},
                            reason="three electrons", expected_version=run.version)
     assert amended.electrons_per_atom == 3
+
+
+def test_a_substrate_named_twice_in_one_step_is_refused_by_name(chain):
+    """A sheet cell "SUB-1; SUB-1" or an API list with a code twice: refused under the field,
+    not a database error on the second lineage edge, and nothing is written."""
+    _run, (piece,) = chain.run(pieces=1)
+    with pytest.raises(ValidationError) as error:
+        chain.s.linker_layer_apply(actor=chain.maker, linker_lot=chain.lot("linker_thiol"),
+                                   substrates=[piece, piece], concentration_mM=1,
+                                   immersion_h=12, made_on=chain.day(1))
+    assert error.value.error_dict["substrates"][0].code == "duplicate"
+    assert piece.code in str(error.value)
+    with pytest.raises(ValidationError) as error:
+        chain.s.dataset_register(actor=chain.maker, title="twice", substrates=[piece, piece],
+                                 acquired_on=chain.day(1))
+    assert error.value.error_dict["substrates"][0].code == "duplicate"
+    assert not LineageEdge.objects.filter(child_code__startswith="LNK-").exists()
+    assert Substrate.objects.get(pk=piece.pk).stage == Substrate.Stage.FILM
