@@ -28,8 +28,11 @@ from .fabrication import (
     nanoparticle_batch_check,
     nanoparticle_batch_make,
     particle_attach,
+    purchased_piece_check,
+    purchased_piece_receive,
     substrate_receive,
     template_assemble,
+    template_assembly_check,
 )
 from .lifecycle import record_transition
 from .materials import (
@@ -64,6 +67,8 @@ __all__ = [
     "new_record_save",
     "new_records_insert",
     "particle_attach",
+    "purchased_piece_check",
+    "purchased_piece_receive",
     "reagent_lot_check",
     "reagent_lot_open",
     "reagent_lot_receive",
@@ -79,4 +84,5 @@ __all__ = [
     "storage_location_create",
     "substrate_receive",
     "template_assemble",
+    "template_assembly_check",
 ]
