@@ -133,7 +133,9 @@ class ImportContext:
 
     def add(self, new: NewRecord) -> None:
         self.pending.append(new)
-        self._pending_codes.add(new.record.code)
+        code = getattr(new.record, "code", None)  # a record without a code is named by none
+        if code:
+            self._pending_codes.add(code)
 
     def finish(self, *, write: bool) -> None:
         """At the end of the rows: write what is checked (``write``: no row failed); either

@@ -150,14 +150,18 @@ def sheet_uvvis_reading_record(*, actor: User | None, **values) -> SheetUvVisRea
     return new.record
 
 
-@transaction.atomic
-def imported_qc_result_record(
+def imported_qc_result_check(
     *, actor: User | None, substrate: Substrate, measured_on: date, verdict: str,
     enhancement_factor: float | None = None, rsd_percent: float | None = None,
     analyte: str = "", laser_nm: float | None = None, notes: str = "", source: str,
-) -> ImportedQcResult:
-    """A historical QC result from a sheet, kept as an imported figure beside the substrate."""
-    require_role(actor, MAKER, action="Importing a QC result")
+    many: CheckingMany | None = None,
+) -> NewRecord:
+    """Every rule of a historical QC result from a sheet, on the unsaved result; no write.
+
+    ``many``: the import's shared state (the actor's role asked once; the substrate was
+    read by the import, so its key is not looked up again).
+    """
+    require_role_once(actor, MAKER, action="Importing a QC result", many=many)
     _check_figures({"enhancement_factor": enhancement_factor, "rsd_percent": rsd_percent,
                     "laser_nm": laser_nm}, parent=substrate, day=measured_on,
                    date_field="measured_on")
@@ -166,9 +170,19 @@ def imported_qc_result_record(
                       "required")
     result = ImportedQcResult(substrate=substrate, measured_on=measured_on, verdict=verdict,
                               enhancement_factor=enhancement_factor, rsd_percent=rsd_percent,
-                              analyte=analyte, laser_nm=laser_nm, notes=notes, source=source)
-    _save(result, actor=actor, reason=source)
-    return result
+                              analyte=analyte, laser_nm=laser_nm, notes=notes, source=source,
+                              created_by=actor, updated_by=actor)
+    _clean(result, exclude={"created_by", "updated_by", "substrate"})
+    return NewRecord(result, reason=source)
+
+
+@transaction.atomic
+def imported_qc_result_record(*, actor: User | None, **values) -> ImportedQcResult:
+    """A historical QC result from a sheet, kept as an imported figure beside the substrate;
+    ``values`` are those of :func:`imported_qc_result_check`."""
+    new = imported_qc_result_check(actor=actor, **values)
+    _save(new.record, actor=actor, reason=new.reason)
+    return new.record
 
 
 @transaction.atomic

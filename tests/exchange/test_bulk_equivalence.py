@@ -63,22 +63,23 @@ def snapshot() -> dict:
     return state
 
 
-def both_paths(kind: str, content: bytes, actor, *, commit: bool):
-    """The per-row and the bulk path on the same database state, each rolled back after."""
+def both_paths(kind: str, content: bytes, actor, *, commit: bool, state=snapshot):
+    """The per-row and the bulk path on the same database state, each rolled back after;
+    ``state()`` says what each left behind."""
     results = {}
     for bulk in (False, True):
         with transaction.atomic():
             report = import_sheet(kind=kind, content=content, file_name="lab sheet.csv",
                                   actor=actor, commit=commit, bulk=bulk)
-            results[bulk] = (report.as_dict(), snapshot())
+            results[bulk] = (report.as_dict(), state())
             transaction.set_rollback(True)
     return results[False], results[True]
 
 
-def assert_same(kind, rows, actor, *, expect_errors: bool):
+def assert_same(kind, rows, actor, *, expect_errors: bool, state=snapshot):
     content = csv_bytes(rows)
     for commit in (False, True):
-        per_row, bulk = both_paths(kind, content, actor, commit=commit)
+        per_row, bulk = both_paths(kind, content, actor, commit=commit, state=state)
         assert bulk[0] == per_row[0]
         assert bulk[1] == per_row[1]
         assert bool(per_row[0]["errors"]) == expect_errors, per_row[0]["errors"]
