@@ -168,6 +168,16 @@ class CheckingMany:
 STAMP_FIELDS = ("created_by", "updated_by")
 
 
+def _inputs_in_hand(record: Model) -> tuple[str, ...]:
+    """The foreign keys of ``record`` set to a stored record the caller holds: a caller
+    checking many read each input under a row lock already, where Django's field check asks
+    the table once per key and record whether it still exists."""
+    return tuple(field.name for field in record._meta.concrete_fields
+                 if field.is_relation and field.is_cached(record)
+                 and getattr(record, field.name) is not None
+                 and getattr(record, field.name).pk is not None)
+
+
 def _require_role(actor: User | None, role: str, *, action: str,
                   many: CheckingMany | None = None) -> None:
     """``require_role``, asked once per role by a caller checking many records."""
@@ -188,7 +198,8 @@ def _prepare_new(record: CodedRecord, *, actor: User | None,
     record.code = code_next(record.CODE_PREFIX)
     record.created_by = actor
     record.updated_by = actor
-    _check_fields(record, exclude=() if many is None else STAMP_FIELDS)
+    _check_fields(record, exclude=() if many is None
+                  else (*STAMP_FIELDS, *_inputs_in_hand(record)))
     if isinstance(record, LifecycleRecord):
         refresh_expiry(record, None if many is None else many.rules)
     _full_clean(record, fields_cleaned=True,

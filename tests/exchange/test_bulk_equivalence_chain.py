@@ -270,3 +270,22 @@ def test_a_stored_qc_result_given_other_figures_is_refused_not_a_crash(chain, bu
     assert [(e.row, e.column, e.code) for e in report.errors] == \
         [(2, "Enhancement factor", "not_amendable")]
     assert ImportedQcResult.objects.get().enhancement_factor == 1e6
+
+
+def test_templates_and_pieces_bulk_path_costs_few_queries(chain, django_assert_max_num_queries):
+    """120 new templates (and 120 purchased pieces), each naming stored parents, in a few
+    dozen queries: the parents read once under a lock, not looked up again per row (Django's
+    field check asks the table once per foreign key and record)."""
+    spheres, slides = chain.spheres(days_ago=30), chain.lot("base_slide", days_ago=30)
+    purchased = chain.lot("purchased_substrate", days_ago=30)
+    d = chain.day(3).isoformat()
+    sheets = {
+        "templates": [TEMPLATES, *([f"T-{n}", spheres.code, slides.code, "spin_coating", 1.0,
+                                    "", d, ""] for n in range(120))],
+        "substrates": [SUBSTRATES, *([f"P-{n}", "", str(n + 1), purchased.code, d, 0.5, ""]
+                                     for n in range(120))]}
+    for kind, rows in sheets.items():
+        with django_assert_max_num_queries(60):
+            report = import_sheet(kind=kind, content=csv_bytes(rows), file_name="many.csv",
+                                  actor=chain.maker, commit=True)
+        assert report.committed and len(report.created) == 120
