@@ -14,8 +14,14 @@ imported by the bulk path (the default) and, with ``--per-row-rows`` rows, by th
 path; the reference in the same run is the same rows written by calling the service
 (``sphere_lot_receive``, ``nanoparticle_batch_make``) in a plain loop (no sheet, no
 savepoints), so the report can say how much of the time is the importer and how much the
-services. ``--django-validation`` adds the loop with Django's own constraint validation (a
-query per CHECK constraint), the way records were validated before the first speed work.
+services. ``--kinds templates substrates qc_results`` adds the chain's kinds: templates
+naming three sphere lots and two base-slide lots, numbered pieces of two purchased lots
+(with area and notes), and one historical QC result for each of 10,000 pieces (imported by
+a substrates sheet first); their parents are made before the timed part, and their
+references are ``template_assemble``, ``purchased_piece_receive`` and
+``imported_qc_result_record`` in a plain loop.  ``--django-validation`` adds the loop with
+Django's own constraint validation (a query per CHECK constraint), the way records were
+validated before the first speed work.
 Wall and CPU seconds and /proc/loadavg before and after go to
 ``benchmarks/out/sheet-import-<db>.json``.
 
@@ -141,6 +147,142 @@ def colloid_loop(rows: int, lots: list[str]) -> None:
         transaction.set_rollback(True)
 
 
+TEMPLATE_HEADER = ["Code or your ID", "Sphere lot", "Base slide lot", "Method",
+                   "Slide area (cm²)", "Coverage (%)", "Made on", "Notes"]
+SUBSTRATE_HEADER = ["Code or your ID", "Piece", "Purchased substrate lot",
+                    "Made or received on", "Area (cm²)", "Notes"]
+QC_HEADER = ["Substrate", "Measured on", "Enhancement factor", "RSD (%)", "Verdict",
+             "Analyte", "Laser wavelength (nm)", "Notes"]
+
+
+def xlsx(header: list[str], rows) -> bytes:
+    import openpyxl
+
+    book = openpyxl.Workbook()
+    ws = book.active
+    ws.append(header)
+    for row in rows:
+        ws.append(row)
+    out = io.BytesIO()
+    book.save(out)
+    return out.getvalue()
+
+
+def released_lots(kind: str, count: int) -> list:
+    from inventory import services
+
+    return [services.record_transition(
+        actor=None, to_status="released", record=services.reagent_lot_receive(
+            actor=None, name=f"bench {kind} {n}", kind=kind, received_on=date(2026, 1, 2)))
+        for n in range(count)]
+
+
+def template_parents() -> dict:
+    """Three released sphere lots and two released base-slide lots the template rows name."""
+    from inventory import services
+
+    spheres = [services.record_transition(
+        actor=None, to_status="released", record=services.sphere_lot_receive(
+            actor=None, material="polystyrene", nominal_diameter_nm=400 + 100 * n,
+            solids_percent_w_v=10, received_on=date(2026, 1, 2)))
+        for n in range(3)]
+    return {"spheres": spheres, "slides": released_lots("base_slide", 2)}
+
+
+def template_values(n: int, parents: dict) -> dict:
+    return {"sphere_lot": parents["spheres"][n % 3], "base_slide_lot": parents["slides"][n % 2],
+            "method": ("interface_transfer", "spin_coating", "drop_casting")[n % 3],
+            "slide_area_cm2": 1.0 + n % 4, "coverage_percent": 70 + n % 30,
+            "made_on": date(2026, 2, 1) + timedelta(days=n % 120), "notes": f"bench {n}"}
+
+
+def template_sheet(rows: int, parents: dict) -> bytes:
+    return xlsx(TEMPLATE_HEADER, (
+        [f"TP-{n:06d}", v["sphere_lot"].code, v["base_slide_lot"].code, v["method"],
+         v["slide_area_cm2"], v["coverage_percent"], v["made_on"], v["notes"]]
+        for n, v in ((n, template_values(n, parents)) for n in range(rows))))
+
+
+def template_loop(rows: int, parents: dict) -> None:
+    """The template rows through ``template_assemble`` in a plain loop, rolled back."""
+    from django.db import transaction
+
+    from inventory.services import template_assemble
+
+    with transaction.atomic():
+        for n in range(rows):
+            template_assemble(actor=None, **template_values(n, parents))
+        transaction.set_rollback(True)
+
+
+def piece_values(n: int, lots: list) -> dict:
+    return {"purchased_lot": lots[n % 2], "number": str(n // 2 + 1),
+            "received_on": date(2026, 2, 1) + timedelta(days=n % 120),
+            "area_cm2": 0.25 * (1 + n % 4), "notes": f"bench {n}"}
+
+
+def substrate_sheet(rows: int, lots: list) -> bytes:
+    """Pieces of two purchased lots, numbered, each with its area and a note."""
+    return xlsx(SUBSTRATE_HEADER, (
+        [f"PC-{n:06d}", v["number"], v["purchased_lot"].code, v["received_on"], v["area_cm2"],
+         v["notes"]] for n, v in ((n, piece_values(n, lots)) for n in range(rows))))
+
+
+def substrate_loop(rows: int, parents: list) -> None:
+    """The piece rows through ``purchased_piece_receive`` in a plain loop, rolled back;
+    ``parents``: the purchased lots."""
+    from django.db import transaction
+
+    from inventory.services import purchased_piece_receive
+
+    with transaction.atomic():
+        for n in range(rows):
+            purchased_piece_receive(actor=None, **piece_values(n, parents))
+        transaction.set_rollback(True)
+
+
+def qc_parents(rows: int) -> list:
+    """``rows`` purchased pieces, imported by a substrates sheet before the timed part."""
+    from exchange.importer import import_sheet
+    from inventory.models import Substrate
+
+    lots = released_lots("purchased_substrate", 2)
+    report = import_sheet(kind="substrates", content=substrate_sheet(rows, lots),
+                          file_name="qc-parents.xlsx", actor=None, commit=True)
+    assert report.committed, report.errors[:3]
+    return list(Substrate.objects.order_by("id"))
+
+
+def qc_values(n: int, pieces: list) -> dict:
+    piece = pieces[n]
+    return {"substrate": piece, "measured_on": piece.made_on + timedelta(days=1 + n % 30),
+            "verdict": ("passed", "failed")[n % 7 == 0], "enhancement_factor": 1e5 * (1 + n % 90),
+            "rsd_percent": 5 + n % 20, "analyte": ("Benzenethiol", "4-MBA")[n % 2],
+            "laser_nm": (633, 785)[n % 2], "notes": ""}
+
+
+def qc_sheet(rows: int, pieces: list) -> bytes:
+    """One historical result for each of the first ``rows`` pieces."""
+    return xlsx(QC_HEADER, (
+        [v["substrate"].code, v["measured_on"], v["enhancement_factor"], v["rsd_percent"],
+         v["verdict"], v["analyte"], v["laser_nm"], v["notes"]]
+        for v in (qc_values(n, pieces) for n in range(rows))))
+
+
+def qc_loop(rows: int, parents: list) -> None:
+    """The QC rows through ``imported_qc_result_record`` in a plain loop, rolled back;
+    ``parents``: the pieces."""
+    from django.db import transaction
+
+    from exchange.services import imported_qc_result_record
+
+    with transaction.atomic():
+        for n in range(rows):
+            imported_qc_result_record(actor=None, source=f"bench row {n}",
+                                      **qc_values(n, parents))
+        transaction.set_rollback(True)
+
+
 def timed(action):
     wall, cpu = time.perf_counter(), time.process_time()
     result = action()
@@ -193,6 +335,7 @@ def measure(result: dict, kind: str, content: bytes, rows: int, reference: dict,
         if not count:
             continue
         for label, commit in (("dry_run", False), ("import", True)):
+            before = import_baseline(kind)
             report, wall, cpu = timed(partial(
                 import_sheet, kind=kind, content=data, file_name=f"{path}-{label}.xlsx",
                 actor=None, commit=commit, bulk=path == "bulk"))
@@ -204,23 +347,54 @@ def measure(result: dict, kind: str, content: bytes, rows: int, reference: dict,
             print(f"{kind} {path} {label}: {count} rows, {wall:.1f} s wall, {cpu:.1f} s CPU,"
                   f" load {loadavg()}", flush=True)
             if commit and report.committed:
-                rollback_import(kind)
+                rollback_import(kind, before)
 
 
-def rollback_import(kind: str) -> None:
+def import_model(kind: str):
+    from exchange.kinds import KINDS
+
+    return KINDS[kind].model
+
+
+def import_baseline(kind: str) -> tuple[int, int | None]:
+    """The kind's highest key and code counter before an import."""
+    from inventory.models import CodeCounter
+
+    model = import_model(kind)
+    prefix = getattr(model, "CODE_PREFIX", None)
+    counter = CodeCounter.objects.filter(prefix=prefix).values_list("last_value", flat=True)
+    return (model.objects.order_by("-pk").values_list("pk", flat=True).first() or 0,
+            counter.first() if prefix else None)
+
+
+def rollback_import(kind: str, before: tuple[int, int | None]) -> None:
     """Remove what an import wrote, so the next one starts from the same records."""
     from exchange.models import SheetKey, SheetUvVisReading
-    from inventory.models import CodeCounter, LineageEdge, NanoparticleBatch, SphereLot
+    from inventory.models import CodeCounter, LineageEdge
 
-    model = {"sphere_lots": SphereLot, "colloid_batches": NanoparticleBatch}[kind]
+    model = import_model(kind)
+    last_pk, last_code = before
+    made = model.objects.filter(pk__gt=last_pk)
     if kind == "colloid_batches":
-        SheetUvVisReading.history.all().delete()
-        SheetUvVisReading.objects.all().delete()
-        LineageEdge.objects.filter(child_code__startswith="NPB-").delete()
-    model.history.all().delete()
-    model.objects.all().delete()
+        SheetUvVisReading.history.filter(batch_id__in=made.values("pk")).delete()
+        SheetUvVisReading.objects.filter(batch__in=made).delete()
+    if last_code is not None:
+        codes = list(made.values_list("code", flat=True))
+        for start in range(0, len(codes), 500):
+            LineageEdge.objects.filter(child_code__in=codes[start:start + 500]).delete()
+        CodeCounter.objects.filter(prefix=model.CODE_PREFIX).update(last_value=last_code)
+    model.history.filter(id__gt=last_pk).delete()
+    made.delete()
     SheetKey.objects.filter(kind=kind).delete()
-    CodeCounter.objects.filter(prefix=model.CODE_PREFIX).update(last_value=0)
+
+
+# kind -> (parents made before the timed part, sheet of n rows, reference loop of n rows)
+CHAIN_KINDS = {
+    "templates": (lambda rows: template_parents(), template_sheet, template_loop),
+    "substrates": (lambda rows: released_lots("purchased_substrate", 2), substrate_sheet,
+                   substrate_loop),
+    "qc_results": (qc_parents, qc_sheet, qc_loop),
+}
 
 
 # ---------------------------------------------------------------------------------------
@@ -401,7 +575,8 @@ def main() -> None:
     parser.add_argument("--per-row-rows", type=int, default=2_000,
                         help="rows of the per-row path's dry run and import (0: skip)")
     parser.add_argument("--kinds", nargs="+", default=["sphere_lots", "colloid_batches"],
-                        choices=["sphere_lots", "colloid_batches", *SURFACE_KINDS])
+                        choices=["sphere_lots", "colloid_batches", *SURFACE_KINDS,
+                                 *CHAIN_KINDS])
     parser.add_argument("--django-validation", action="store_true",
                         help="also time the service loop with Django's constraint queries")
     parser.add_argument("--pg-database", default=PG_DATABASE,
@@ -419,6 +594,13 @@ def main() -> None:
             content = sheet(args.rows)
             per_row_content = sheet(args.per_row_rows) if args.per_row_rows else b""
             loop = reference_loop
+        elif kind in CHAIN_KINDS:
+            make_parents, make_sheet, chain_loop = CHAIN_KINDS[kind]
+            parents = make_parents(max(args.rows, args.reference_rows))
+            content = make_sheet(args.rows, parents)
+            per_row_content = make_sheet(args.per_row_rows, parents) if args.per_row_rows \
+                else b""
+            loop = partial(chain_loop, parents=parents)
         else:
             lots = colloid_parents()
             content = colloid_sheet(args.rows, lots)

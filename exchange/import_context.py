@@ -11,6 +11,8 @@ per-row path.
 
 from __future__ import annotations
 
+from collections.abc import Callable
+
 from django.db import IntegrityError
 
 from inventory.codes import RecordNotFound, model_for_code, record_get
@@ -48,6 +50,7 @@ class ImportContext:
         self.rows_by_key: dict[str, int] = {}
         self.rows_by_lot: dict[tuple, int] = {}
         self._saved_keys: dict[str, dict[str, str]] = {}
+        self._read_once: dict[str, object] = {}
         self._lot_numbers: dict[tuple, str] | None = None
         # The bulk path: rules and named records read once; records checked, not yet written.
         self.bulk = bulk and kind.prepare is not None
@@ -64,6 +67,13 @@ class ImportContext:
             self._lot_numbers = {tuple(row[:-1]): row[-1] for row in
                                  self.kind.model.objects.values_list(*fields, "code")}
         return self._lot_numbers
+
+    def read_once(self, name: str, read: Callable[[], object]):
+        """What ``read()`` returns, read at the first row that asks and kept for this run
+        (a lab setting every row applies); the next import reads it afresh."""
+        if name not in self._read_once:
+            self._read_once[name] = read()
+        return self._read_once[name]
 
     def remember(self, key: str, record, values: dict) -> None:
         code = getattr(record, "code", None)
@@ -126,7 +136,9 @@ class ImportContext:
 
     def add(self, new: NewRecord) -> None:
         self.pending.append(new)
-        self._pending_codes.add(new.record.code)
+        code = getattr(new.record, "code", None)  # a record without a code is named by none
+        if code:
+            self._pending_codes.add(code)
         self._changed_codes.update(_changed_codes(new))
 
     def finish(self, *, write: bool) -> None:

@@ -195,7 +195,8 @@ def _update(kind: Kind, record, values: dict, plans: list[ColumnPlan], ctx) -> l
         allowed = amendable_fields(type(record))
         for name in changes:
             if name not in allowed:
-                raise refusal(name, f"{record.code} exists and its {name} cannot be changed "
+                stored = getattr(record, "code", "") or f"A stored {record._meta.verbose_name}"
+                raise refusal(name, f"{stored} exists and its {name} cannot be changed "
                                     "by an import.", "not_amendable")
         record_amend(actor=ctx.actor, record=record, changes=changes, reason=ctx.source,
                      expected_version=record.version)
@@ -281,7 +282,7 @@ def _check_new(kind: Kind, values: dict, key: str, number: int, ctx: ImportConte
         item.changed = [(record, with_source(ctx.source, reason))
                         for record, reason in item.changed]
     ctx.add(new)
-    return RowOutcome(number, "create", key, new.record.code), new.record
+    return RowOutcome(number, "create", key, getattr(new.record, "code", "")), new.record
 
 
 def _column_name(row, plans: list[ColumnPlan], index: int | None) -> str:

@@ -102,6 +102,9 @@ class ImportedQcResult(StampedRecord):
     measurements computed from spectra (qc.readiness), never these.
     """
 
+    # Kept as the sheet gave it: a sheet row with other figures is refused, not amended.
+    AMENDABLE_FIELDS = frozenset()
+
     class Verdict(models.TextChoices):
         PASSED = "passed", "Passed"
         FAILED = "failed", "Failed"

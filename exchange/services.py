@@ -18,16 +18,17 @@ from django.utils import timezone
 from inventory.errors import refusal
 from inventory.models import NanoparticleBatch, Substrate
 from inventory.roles import MAKER, VIEWER, require_role
-from inventory.services import NewRecord
+from inventory.services import CheckingMany, NewRecord
 from inventory.services.lifecycle import check_not_voided
 from inventory.services.toolkit import (
     User,
     require_not_future,
+    require_role_once,
     stamp_history,
     validate_constraints,
 )
 from qc.analysis.uvvis import PlasmonBand
-from qc.services.colloid import uvvis_sizes_from_band
+from qc.services.colloid import SilverTable, uvvis_sizes_from_band
 
 from .models import (
     CalendarSecret,
@@ -92,15 +93,19 @@ def _save(record, *, actor: User | None, reason: str) -> None:
 def sheet_uvvis_reading_check(
     *, actor: User | None, batch: NanoparticleBatch, measured_on: date, peak_nm: float,
     peak_absorbance: float, absorbance_450: float | None = None, dilution_factor: float = 1.0,
-    path_length_cm: float = 1.0, source: str,
+    path_length_cm: float = 1.0, source: str, silver_table: SilverTable | None = None,
+    many: CheckingMany | None = None,
 ) -> NewRecord:
     """Every rule of a UV-vis reading from a sheet, and its sizes; writes nothing.
 
     Absorbances (as measured, i.e. diluted, in the cell used) are scaled to the undiluted
     colloid in 1 cm (Beer–Lambert: A ∝ c·l), then sized by the calibration the spectrum
     import uses.  ``batch`` may be a batch checked in the same import and not yet written.
+    ``silver_table``: the active silver table, read once by an import of many readings
+    (``silver_calibration_active()``); None reads it here.  ``many``: the import's shared
+    state (the actor's role asked once).
     """
-    require_role(actor, MAKER, action="Recording a UV-vis reading")
+    require_role_once(actor, MAKER, action="Recording a UV-vis reading", many=many)
     _check_figures({"uvvis_peak_nm": peak_nm, "uvvis_peak_absorbance": peak_absorbance,
                     "uvvis_absorbance_450": absorbance_450,
                     "uvvis_dilution_factor": dilution_factor,
@@ -126,7 +131,7 @@ def sheet_uvvis_reading_check(
     # Range first (a peak outside 300-1100 nm is no plasmon band); then size it.  The batch
     # is the object in hand (perhaps not written yet): its key is not looked up here.
     _clean(reading, exclude={"created_by", "updated_by", "batch"})
-    sizes = uvvis_sizes_from_band(metal=batch.metal, band=band)
+    sizes = uvvis_sizes_from_band(metal=batch.metal, band=band, silver_table=silver_table)
     reading.diameter_nm = sizes["diameter_nm"]
     reading.diameter_method = sizes["diameter_method"] or ""
     reading.number_per_mL = sizes["number_per_mL"]
@@ -145,14 +150,18 @@ def sheet_uvvis_reading_record(*, actor: User | None, **values) -> SheetUvVisRea
     return new.record
 
 
-@transaction.atomic
-def imported_qc_result_record(
+def imported_qc_result_check(
     *, actor: User | None, substrate: Substrate, measured_on: date, verdict: str,
     enhancement_factor: float | None = None, rsd_percent: float | None = None,
     analyte: str = "", laser_nm: float | None = None, notes: str = "", source: str,
-) -> ImportedQcResult:
-    """A historical QC result from a sheet, kept as an imported figure beside the substrate."""
-    require_role(actor, MAKER, action="Importing a QC result")
+    many: CheckingMany | None = None,
+) -> NewRecord:
+    """Every rule of a historical QC result from a sheet, on the unsaved result; no write.
+
+    ``many``: the import's shared state (the actor's role asked once; the substrate was
+    read by the import, so its key is not looked up again).
+    """
+    require_role_once(actor, MAKER, action="Importing a QC result", many=many)
     _check_figures({"enhancement_factor": enhancement_factor, "rsd_percent": rsd_percent,
                     "laser_nm": laser_nm}, parent=substrate, day=measured_on,
                    date_field="measured_on")
@@ -161,9 +170,19 @@ def imported_qc_result_record(
                       "required")
     result = ImportedQcResult(substrate=substrate, measured_on=measured_on, verdict=verdict,
                               enhancement_factor=enhancement_factor, rsd_percent=rsd_percent,
-                              analyte=analyte, laser_nm=laser_nm, notes=notes, source=source)
-    _save(result, actor=actor, reason=source)
-    return result
+                              analyte=analyte, laser_nm=laser_nm, notes=notes, source=source,
+                              created_by=actor, updated_by=actor)
+    _clean(result, exclude={"created_by", "updated_by", "substrate"})
+    return NewRecord(result, reason=source)
+
+
+@transaction.atomic
+def imported_qc_result_record(*, actor: User | None, **values) -> ImportedQcResult:
+    """A historical QC result from a sheet, kept as an imported figure beside the substrate;
+    ``values`` are those of :func:`imported_qc_result_check`."""
+    new = imported_qc_result_check(actor=actor, **values)
+    _save(new.record, actor=actor, reason=new.reason)
+    return new.record
 
 
 @transaction.atomic

@@ -18,12 +18,21 @@ from inventory.models import (
 from .base import CODE, NOTES, Column, Kind, pick, text_of
 
 
-def _template(values, ctx):
-    return services.template_assemble(
-        actor=ctx.actor, sphere_lot=values["sphere_lot"], base_slide_lot=values["base_slide_lot"],
+def _template_values(values) -> dict:
+    return dict(
+        sphere_lot=values["sphere_lot"], base_slide_lot=values["base_slide_lot"],
         method=values["method"], slide_area_cm2=values["slide_area_cm2"],
         made_on=values["made_on"], notes=text_of(values, "notes"),
         **pick(values, "coverage_percent", "suspension_volume_uL"))
+
+
+def _template(values, ctx):
+    return services.template_assemble(actor=ctx.actor, **_template_values(values))
+
+
+def _template_new(values, ctx):
+    return services.template_assembly_check(actor=ctx.actor, many=ctx.many,
+                                            **_template_values(values))
 
 
 TEMPLATES = Kind(
@@ -45,7 +54,7 @@ TEMPLATES = Kind(
         Column("made_on", "Made on", "date", required=True, aliases=("date", "made"),
                example="2026-02-01"),
         NOTES,
-    ), _template)
+    ), _template, prepare=_template_new)
 
 
 def _run(values, ctx):
@@ -139,21 +148,23 @@ def _find_piece(values, ctx):
                   "parent_missing")
 
 
-def _purchased_piece(values, ctx):
-
+def _purchased_piece_values(values) -> dict:
+    """A row without a run: the piece of a purchased lot, numbered as the row says (else 1)."""
     if values.get("purchased_lot") is None:
         raise refusal("purchased_lot", "Give the deposition run the piece was cut from, or the "
                                        "purchased substrate lot.", "required")
-    (piece,) = services.substrate_receive(actor=ctx.actor, purchased_lot=values["purchased_lot"],
-                                          pieces=1, received_on=values["made_on"])
-    changes = {name: values[name] for name in ("area_cm2", "notes") if values.get(name)}
-    number = _piece_number(values.get("piece_label") or "")
-    if number and piece.piece_label != f"{values['purchased_lot'].code}/{number}":
-        changes["piece_label"] = f"{values['purchased_lot'].code}/{number}"
-    if changes:
-        piece = services.record_amend(actor=ctx.actor, record=piece, changes=changes,
-                                      reason=ctx.source, expected_version=piece.version)
-    return piece
+    return dict(purchased_lot=values["purchased_lot"], received_on=values["made_on"],
+                number=_piece_number(values.get("piece_label") or "") or "1",
+                notes=text_of(values, "notes"), **pick(values, "area_cm2"))
+
+
+def _purchased_piece(values, ctx):
+    return services.purchased_piece_receive(actor=ctx.actor, **_purchased_piece_values(values))
+
+
+def _purchased_piece_new(values, ctx):
+    return services.purchased_piece_check(actor=ctx.actor, many=ctx.many,
+                                          **_purchased_piece_values(values))
 
 
 SUBSTRATES = Kind(
@@ -169,7 +180,7 @@ SUBSTRATES = Kind(
                aliases=("date", "made on", "received on"), example="2026-02-02"),
         Column("area_cm2", "Area", "number", "cm²", aliases=("area",), example=0.25),
         NOTES,
-    ), _purchased_piece, find=_find_piece)
+    ), _purchased_piece, find=_find_piece, prepare=_purchased_piece_new)
 
 
 def _linker_values(values) -> dict:

@@ -5,6 +5,7 @@ from __future__ import annotations
 from inventory import services
 from inventory.errors import refusal
 from inventory.models import NanoparticleBatch, ReagentKind, ReagentLot, SphereLot
+from qc.services.colloid import silver_calibration_active
 
 from .. import services as exchange_services
 from ..models import SheetUvVisReading
@@ -133,7 +134,8 @@ def _reading_values(values, ctx) -> dict | None:
         peak_absorbance=values["uvvis_peak_absorbance"],
         absorbance_450=values.get("uvvis_absorbance_450"),
         dilution_factor=values.get("uvvis_dilution_factor") or 1.0,
-        path_length_cm=values.get("uvvis_path_length_cm") or 1.0, source=ctx.source)
+        path_length_cm=values.get("uvvis_path_length_cm") or 1.0, source=ctx.source,
+        silver_table=ctx.read_once("silver table", silver_calibration_active))
 
 
 def _colloid_reading(batch, values, ctx, created: bool) -> list[str]:
@@ -156,7 +158,7 @@ def _colloid_new(values, ctx):
     reading = _reading_values(values, ctx)
     if reading is not None:
         new.after.append(exchange_services.sheet_uvvis_reading_check(
-            actor=ctx.actor, batch=new.record, **reading))
+            actor=ctx.actor, batch=new.record, many=ctx.many, **reading))
     return new
 
 

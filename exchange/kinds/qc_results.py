@@ -9,20 +9,58 @@ from ..models import ImportedQcResult
 from .base import NOTES, Column, Kind, pick, text_of
 
 
-def _qc_result(values, ctx):
-    return exchange_services.imported_qc_result_record(
-        actor=ctx.actor, substrate=values["substrate"], measured_on=values["measured_on"],
+def _qc_result_values(values, ctx) -> dict:
+    return dict(
+        substrate=values["substrate"], measured_on=values["measured_on"],
         verdict=values["verdict"], analyte=text_of(values, "analyte"),
         notes=text_of(values, "notes"), source=ctx.source,
         **pick(values, "enhancement_factor", "rsd_percent", "laser_nm"))
 
 
+def _result_key(values) -> tuple:
+    return values["substrate"].pk, values["measured_on"], values.get("analyte") or ""
+
+
+def _stored_results() -> dict[tuple, object]:
+    """(substrate key, day, analyte) -> the first stored result's key, for the whole table."""
+    found: dict[tuple, object] = {}
+    for pk, *key in ImportedQcResult.objects.order_by("id").values_list(
+            "id", "substrate_id", "measured_on", "analyte"):
+        found.setdefault(tuple(key), pk)
+    return found
+
+
+def _known_results(ctx) -> dict[tuple, object]:
+    """The results stored or made by this import, by key: read once per import; a value is a
+    stored result's key or a result checked above and not written yet."""
+    return ctx.read_once("imported qc results", _stored_results)
+
+
+def _qc_result(values, ctx):
+    result = exchange_services.imported_qc_result_record(
+        actor=ctx.actor, **_qc_result_values(values, ctx))
+    _known_results(ctx).setdefault(_result_key(values), result.pk)
+    return result
+
+
+def _qc_result_new(values, ctx):
+    new = exchange_services.imported_qc_result_check(
+        actor=ctx.actor, many=ctx.many, **_qc_result_values(values, ctx))
+    _known_results(ctx).setdefault(_result_key(values), new.record)
+    return new
+
+
 def _find_qc_result(values, ctx):
-    substrate = values.get("substrate")
-    if substrate is None:
+    """A stored result of the same substrate, day and analyte; one this import checked above
+    is written first, so the row meets it in the database as on the per-row path."""
+    if values.get("substrate") is None:
         return None
-    return ImportedQcResult.objects.filter(substrate=substrate, measured_on=values["measured_on"],
-                                           analyte=values.get("analyte") or "").first()
+    found = _known_results(ctx).get(_result_key(values))
+    if isinstance(found, ImportedQcResult):
+        if found.pk is None:
+            ctx.flush()
+        found = found.pk
+    return None if found is None else ImportedQcResult.objects.get(pk=found)
 
 
 def _qc_rows():
@@ -51,7 +89,7 @@ QC_RESULTS = Kind(
         Column("laser_nm", "Laser wavelength", "number", "nm", aliases=("laser", "excitation"),
                example=785),
         NOTES,
-    ), _qc_result, find=_find_qc_result, export_queryset=_qc_rows,
+    ), _qc_result, find=_find_qc_result, prepare=_qc_result_new, export_queryset=_qc_rows,
     export_value={"verdict": lambda r: r.verdict if isinstance(r, ImportedQcResult)
                   else ("passed" if r.passed else "failed"),
                   "analyte": lambda r: r.analyte if isinstance(r, ImportedQcResult)

@@ -26,8 +26,11 @@ from .fabrication import (
     deposition_run_record,
     nanoparticle_batch_check,
     nanoparticle_batch_make,
+    purchased_piece_check,
+    purchased_piece_receive,
     substrate_receive,
     template_assemble,
+    template_assembly_check,
 )
 from .lifecycle import record_transition
 from .materials import (
@@ -70,6 +73,8 @@ __all__ = [
     "new_records_insert",
     "particle_attach",
     "particle_attachment_check",
+    "purchased_piece_check",
+    "purchased_piece_receive",
     "reagent_lot_check",
     "reagent_lot_open",
     "reagent_lot_receive",
@@ -85,4 +90,5 @@ __all__ = [
     "storage_location_create",
     "substrate_receive",
     "template_assemble",
+    "template_assembly_check",
 ]

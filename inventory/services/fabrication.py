@@ -52,15 +52,15 @@ from .deposition_target import _require_known_metal
 from .lifecycle import record_transition
 
 
-@transaction.atomic
-def template_assemble(
+def template_assembly_check(
     *, actor: User | None, sphere_lot: SphereLot, base_slide_lot: ReagentLot, method: str,
     slide_area_cm2: float, made_on: date, coverage_percent: float | None = None,
     suspension_volume_uL: float | None = None, sphere_density_g_cm3: float | None = None,
     suspension_excess_factor: float = 1.0, storage: StorageLocation | None = None,
-    notes: str = "",
-) -> TemplateAssembly:
-    """Record a sphere monolayer on a base slide, with its close-packed figures.
+    notes: str = "", many: CheckingMany | None = None,
+) -> NewRecord:
+    """Every rule of recording a template, on the unsaved template (with its code and its
+    close-packed figures); no write.
 
     Spheres per cm² and the suspension volume one close-packed layer needs (times
     ``suspension_excess_factor``) are computed from the sphere lot by
@@ -68,23 +68,31 @@ def template_assemble(
     the lot's material; with neither the volume is left blank.  A ``suspension_volume_uL``
     the maker gives is kept as given; the computed one is stored beside it.
     """
-    require_role(actor, MAKER, action="Recording a template")
+    _require_role(actor, MAKER, action="Recording a template", many=many)
     _require_not_future(made_on, field="made_on")
-    check_usable(sphere_lot, role="template spheres", on_date=made_on, field="sphere_lot")
+    check_usable(sphere_lot, role="template spheres", on_date=made_on, field="sphere_lot",
+                 state_read=many is not None)
     _require_kind(base_slide_lot, [ReagentKind.BASE_SLIDE], field="base_slide_lot")
-    check_usable(base_slide_lot, role="a base slide", on_date=made_on, field="base_slide_lot")
+    check_usable(base_slide_lot, role="a base slide", on_date=made_on, field="base_slide_lot",
+                 state_read=many is not None)
     figures = _template_figures(sphere_lot, slide_area_cm2=slide_area_cm2,
                                 sphere_density_g_cm3=sphere_density_g_cm3,
                                 excess_factor=suspension_excess_factor)
-    template = _save_new(TemplateAssembly(
+    template = _prepare_new(TemplateAssembly(
         sphere_lot=sphere_lot, base_slide_lot=base_slide_lot, method=method,
         slide_area_cm2=slide_area_cm2, coverage_percent=coverage_percent,
         suspension_volume_uL=suspension_volume_uL, made_on=made_on, storage=storage,
         notes=notes, **figures,
-    ), actor=actor)
-    _link([(sphere_lot, "spheres"), (base_slide_lot, "base slide")], template,
-          used_on=made_on, actor=actor)
-    return template
+    ), actor=actor, many=many)
+    return NewRecord(template, inputs=[(sphere_lot, "spheres"), (base_slide_lot, "base slide")],
+                     used_on=made_on)
+
+
+@transaction.atomic
+def template_assemble(*, actor: User | None, **values) -> TemplateAssembly:
+    """Record a sphere monolayer on a base slide, with its close-packed figures; ``values``
+    are those of :func:`template_assembly_check`."""
+    return new_record_save(template_assembly_check(actor=actor, **values), actor=actor)
 
 
 def _template_figures(sphere_lot: SphereLot, *, slide_area_cm2: float,
@@ -203,24 +211,42 @@ def deposition_run_record(
     return run, substrates
 
 
+def purchased_piece_check(
+    *, actor: User | None, purchased_lot: ReagentLot, received_on: date, number: str = "1",
+    area_cm2: float | None = None, storage: StorageLocation | None = None, notes: str = "",
+    many: CheckingMany | None = None,
+) -> NewRecord:
+    """Every rule of registering piece ``number`` of a purchased substrate lot, on the unsaved
+    piece (labelled ``<lot code>/<number>``, with its code); no write."""
+    _require_role(actor, MAKER, action="Receiving purchased substrates", many=many)
+    _require_kind(purchased_lot, [ReagentKind.PURCHASED_SUBSTRATE], field="purchased_lot")
+    check_usable(purchased_lot, role="purchased substrates", on_date=received_on,
+                 field="purchased_lot", state_read=many is not None)
+    piece = _prepare_new(Substrate(
+        purchased_lot=purchased_lot, piece_label=f"{purchased_lot.code}/{number}",
+        stage=Substrate.Stage.PURCHASED, made_on=received_on, area_cm2=area_cm2,
+        storage=storage, notes=notes,
+    ), actor=actor, many=many)
+    return NewRecord(piece, inputs=[(purchased_lot, "supplied as")], used_on=received_on)
+
+
+@transaction.atomic
+def purchased_piece_receive(*, actor: User | None, **values) -> Substrate:
+    """Register one piece of a purchased substrate lot; ``values`` are those of
+    :func:`purchased_piece_check`."""
+    return new_record_save(purchased_piece_check(actor=actor, **values), actor=actor)
+
+
 @transaction.atomic
 def substrate_receive(*, actor: User | None, purchased_lot: ReagentLot, pieces: int,
                       received_on: date, storage: StorageLocation | None = None
                       ) -> list[Substrate]:
-    """Register pieces of a purchased substrate lot as substrates."""
-    require_role(actor, MAKER, action="Receiving purchased substrates")
-    _require_kind(purchased_lot, [ReagentKind.PURCHASED_SUBSTRATE], field="purchased_lot")
-    check_usable(purchased_lot, role="purchased substrates", on_date=received_on,
-                 field="purchased_lot")
-    substrates = [
-        _save_new(Substrate(purchased_lot=purchased_lot, piece_label=f"{purchased_lot.code}/{n}",
-                            stage=Substrate.Stage.PURCHASED, made_on=received_on,
-                            storage=storage), actor=actor)
-        for n in range(1, pieces + 1)
-    ]
-    for piece in substrates:
-        _link([(purchased_lot, "supplied as")], piece, used_on=received_on, actor=actor)
-    return substrates
+    """Register ``pieces`` pieces of a purchased substrate lot (numbered from 1) as
+    substrates."""
+    return [purchased_piece_receive(actor=actor, purchased_lot=purchased_lot,
+                                    received_on=received_on, number=str(number),
+                                    storage=storage)
+            for number in range(1, pieces + 1)]
 
 
 def nanoparticle_batch_check(

@@ -15,6 +15,7 @@ from ._common import _files_removed_if_failed as files_removed_if_failed
 from ._common import _link as link
 from ._common import _require_kind as require_kind
 from ._common import _require_not_future as require_not_future
+from ._common import _require_role as require_role_once
 from ._common import _save_changed as save_changed
 from ._common import _save_new as save_new
 from ._common import _save_setting as save_setting
@@ -36,6 +37,7 @@ __all__ = [
     "lock",
     "require_kind",
     "require_not_future",
+    "require_role_once",
     "save_changed",
     "save_new",
     "save_setting",

@@ -71,11 +71,12 @@ from .colloid_limits import (
     silver_calibration_active,
     silver_calibration_record,
 )
-from .colloid_sizing import store_calibration, uvvis_sizes_from_band
+from .colloid_sizing import SilverTable, store_calibration, uvvis_sizes_from_band
 
 __all__ = [
     "UvVisImport",
     "colloid_limit_set_set",
+    "SilverTable",
     "silver_calibration_active",
     "silver_calibration_record",
     "uvvis_record_import",

@@ -14,15 +14,23 @@ from qc.analysis import gold_haiss, silver_calibration
 from qc.analysis.errors import AnalysisInputError
 from qc.analysis.uvvis import PlasmonBand
 
-from ..models.colloid import ColloidMetal, UvVisRecord
+from ..models.colloid import ColloidMetal, SilverCalibration, UvVisRecord
 from .colloid_limits import silver_calibration_active
 
+# The silver table in force, as silver_calibration_active() returns it.
+SilverTable = tuple[silver_calibration.CalibrationTable, SilverCalibration | None]
 
-def store_calibration(record: UvVisRecord, metal: str, band: PlasmonBand) -> float | None:
-    """Size and concentration from the metal's calibration; returns the size used."""
+
+def store_calibration(record: UvVisRecord, metal: str, band: PlasmonBand, *,
+                      silver_table: SilverTable | None = None) -> float | None:
+    """Size and concentration from the metal's calibration; returns the size used.
+
+    ``silver_table``: the active silver table read once by a caller sizing many bands
+    (a sheet of readings); None reads it here.
+    """
     if metal == ColloidMetal.GOLD:
         return store_gold(record, band)
-    return store_silver(record, band)
+    return store_silver(record, band, silver_table=silver_table)
 
 
 def store_gold(record: UvVisRecord, band: PlasmonBand) -> float | None:
@@ -60,8 +68,9 @@ def store_gold(record: UvVisRecord, band: PlasmonBand) -> float | None:
     return chosen.value
 
 
-def store_silver(record: UvVisRecord, band: PlasmonBand) -> float | None:
-    table, stored = silver_calibration_active()
+def store_silver(record: UvVisRecord, band: PlasmonBand, *,
+                 silver_table: SilverTable | None = None) -> float | None:
+    table, stored = silver_table or silver_calibration_active()
     record.silver_calibration = stored
     record.calibration_source = (f"lab table '{stored.name}': {stored.provenance}" if stored
                                  else f"built-in table ({table.provenance}); not independent "
@@ -89,19 +98,21 @@ SIZING_FIELDS = ("diameter_nm", "diameter_method", "number_per_mL", "molar_conce
                  "concentration_note", "calibration_source")
 
 
-def uvvis_sizes_from_band(*, metal: str, band: PlasmonBand) -> dict:
+def uvvis_sizes_from_band(*, metal: str, band: PlasmonBand,
+                          silver_table: SilverTable | None = None) -> dict:
     """Size and concentration of a band measured elsewhere (e.g. typed in a lab's sheet).
 
     Runs the very calibration a spectrum import runs (``store_calibration``: Haiss et al.
     2007 for gold, the active silver table for silver) on an unsaved record and returns its
     sizing fields, so a sheet's peak and absorbances are sized exactly like a file's.
+    ``silver_table`` as for ``store_calibration``.
     """
     if metal not in ColloidMetal.values:
         raise refusal("metal", f"UV-vis sizing covers silver (Ag) and gold (Au) only, not "
                                f"{metal}.", "unsupported_metal")
     record = UvVisRecord()
     try:
-        store_calibration(record, metal, band)
+        store_calibration(record, metal, band, silver_table=silver_table)
     except AnalysisInputError as error:
         raise refusal(error.field or "peak_nm", error.message, "bad_value") from None
     return {name: getattr(record, name) for name in SIZING_FIELDS}

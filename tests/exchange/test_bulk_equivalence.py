@@ -76,10 +76,10 @@ def both_paths(kind: str, content: bytes, actor, *, commit: bool, state=None):
     return results[False], results[True]
 
 
-def assert_same(kind, rows, actor, *, expect_errors: bool):
+def assert_same(kind, rows, actor, *, expect_errors: bool, state=snapshot):
     content = csv_bytes(rows)
     for commit in (False, True):
-        per_row, bulk = both_paths(kind, content, actor, commit=commit)
+        per_row, bulk = both_paths(kind, content, actor, commit=commit, state=state)
         assert bulk[0] == per_row[0]
         assert bulk[1] == per_row[1]
         assert bool(per_row[0]["errors"]) == expect_errors, per_row[0]["errors"]
