@@ -278,6 +278,7 @@ def _check_new(kind: Kind, values: dict, key: str, number: int, ctx: ImportConte
     new = kind.prepare(values, ctx)
     for item in (new, *new.after):  # the source, as the per-row path's history rows get it
         item.reason = with_source(ctx.source, item.reason)
+        item.changed = [(record, with_source(ctx.source, why)) for record, why in item.changed]
     ctx.add(new)
     return RowOutcome(number, "create", key, new.record.code), new.record
 
