@@ -24,7 +24,7 @@ from ..errors import refusal
 from ..flags import flags_open
 from ..models import DepositionRun, DepositionTolerance, Flag, Substrate
 from ..roles import ADMINISTRATOR, require_role
-from ._common import CheckingMany, User, _save_setting
+from ._common import CheckingMany, User, _read_once, _save_setting
 from .creation import NewRecord, new_record_save
 from .records import flag_check
 
@@ -140,7 +140,8 @@ def _compare(run: DepositionRun, analysis: DepositionAnalysis, *, pieces: Iterab
             run=run, unchanged=False, analysis=analysis, target_height_over_diameter=target,
             deviation_height_over_diameter=None, tolerance=None, flags=(),
             notes=(f"Not compared with a target: {why}.",)), []
-    tolerance = deposition_tolerance_in_force(run.metal)
+    tolerance = _read_once(many, ("deposition tolerance", run.metal),
+                           lambda: deposition_tolerance_in_force(run.metal))
     notes = [(f"Tolerance ±{tolerance.max_abs_deviation_height_over_diameter:g} on h/D, "
               f"from {tolerance.source}.")]
     flags: list[NewRecord] = []

@@ -39,6 +39,7 @@ from ._common import (
     _check_substrates_usable,
     _link,
     _prepare_new,
+    _read_once,
     _require_kind,
     _require_not_future,
     _require_role,
@@ -173,6 +174,9 @@ def deposition_run_check(
         electrode_area_cm2=electrode_area_cm2,
         target_height_over_diameter=target_height_over_diameter, made_on=made_on, notes=notes,
     )
+    if template is not None and many is not None:  # each sphere lot read once for all rows
+        template.sphere_lot = _read_once(many, ("sphere lot", template.sphere_lot_id),
+                                         lambda: template.sphere_lot)
     # The charge before the run's own checks, so a bad charge is what a row is refused for.
     entered = None if charge_C is None else prepare_entered_charge(run, charge_C)
     new = NewRecord(_prepare_new(run, actor=actor, many=many), inputs=inputs, used_on=made_on)
