@@ -9,7 +9,10 @@ Each run uses its own database (SQLite ``benchmarks/out/sheet_import.sqlite3``, 
 ``sersledger_sheet_bench`` or ``--pg-database``), dropped and migrated first; the lab's
 database is never touched. The sheets are invented xlsx files built with openpyxl: sphere
 lots (the kind with the most rows in a lab's sheets) and colloid batches (each naming two
-reagent lots as parents, every tenth with a UV-vis reading to size). Each is dry-run and
+reagent lots as parents, every tenth with a UV-vis reading to size) and deposition runs
+(``--kinds deposition_runs``: each through its own released template, inserted before the
+timing starts; 2-4 pieces; a charge on nine rows in ten, one in 25 off target, so flagged;
+the reference loop is ``deposition_run_record``). Each is dry-run and
 imported by the bulk path (the default) and, with ``--per-row-rows`` rows, by the per-row
 path; the reference in the same run is the same rows written by calling the service
 (``sphere_lot_receive``, ``nanoparticle_batch_make``) in a plain loop (no sheet, no
