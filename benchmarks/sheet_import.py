@@ -9,7 +9,10 @@ Each run uses its own database (SQLite ``benchmarks/out/sheet_import.sqlite3``, 
 ``sersledger_sheet_bench`` or ``--pg-database``), dropped and migrated first; the lab's
 database is never touched. The sheets are invented xlsx files built with openpyxl: sphere
 lots (the kind with the most rows in a lab's sheets) and colloid batches (each naming two
-reagent lots as parents, every tenth with a UV-vis reading to size). Each is dry-run and
+reagent lots as parents, every tenth with a UV-vis reading to size) and deposition runs
+(``--kinds deposition_runs``: each through its own released template, inserted before the
+timing starts; 2-4 pieces; a charge on nine rows in ten, one in 25 off target, so flagged;
+the reference loop is ``deposition_run_record``). Each is dry-run and
 imported by the bulk path (the default) and, with ``--per-row-rows`` rows, by the per-row
 path; the reference in the same run is the same rows written by calling the service
 (``sphere_lot_receive``, ``nanoparticle_batch_make``) in a plain loop (no sheet, no
@@ -145,6 +148,64 @@ def colloid_loop(rows: int, lots: list[str]) -> None:
                                                              by_code[lots[2]]],
                                     **colloid_values(n))
         transaction.set_rollback(True)
+
+
+# --------------------------------------------------------------------------- deposition runs
+
+RUN_HEADER = ["Code or your ID", "Template", "Plating bath lot", "Metal", "Electrons per atom",
+              "Mode", "Electrode area (cm²)", "Target h/D", "Charge (C)", "Made on",
+              "Pieces cut", "Piece area (cm²)"]
+RUN_SPHERE_NM = 600
+
+
+def run_values(n: int, on_target_C: float) -> dict:
+    """Run ``n``: 2-4 pieces; a charge on nine rows in ten, within 2 % of the target's but
+    every 25th row 30 % over it (a flagged film)."""
+    charge = None if n % 10 == 9 else on_target_C * (1.3 if n % 25 == 0 else
+                                                     1 + (n % 5 - 2) * 0.01)
+    return {"metal": "Au", "electrons_per_atom": 1, "mode": "potentiostatic",
+            "electrode_area_cm2": 1.0, "target_height_over_diameter": 0.5, "charge_C": charge,
+            "made_on": date(2026, 3, 1) + timedelta(days=n % 200), "pieces": 2 + n % 3,
+            "piece_area_cm2": 0.25}
+
+
+def run_parents(count: int) -> tuple[str, list[str], float]:
+    """A released bath and ``count`` released templates (one per run), made before the
+    timed part: the templates are inserted in bulk with the figures ``template_assemble``
+    works out for them (the services would take minutes here and are not what is timed)."""
+    from django.db import transaction
+    from simple_history.utils import bulk_create_with_history
+
+    from inventory import services
+    from inventory.codes import code_next, codes_in_blocks
+    from inventory.models import Status, TemplateAssembly
+    from inventory.physics.electrodeposition import charge_for_target_height_C
+    from inventory.services.fabrication import _template_figures
+
+    def released(lot):
+        return services.record_transition(actor=None, record=lot, to_status="released")
+
+    bath = released(services.reagent_lot_receive(actor=None, name="bench gold bath",
+                                                 kind="plating_bath",
+                                                 received_on=date(2026, 1, 2)))
+    slides = released(services.reagent_lot_receive(actor=None, name="bench slides",
+                                                   kind="base_slide",
+                                                   received_on=date(2026, 1, 2)))
+    spheres = released(services.sphere_lot_receive(
+        actor=None, material="polystyrene", nominal_diameter_nm=RUN_SPHERE_NM,
+        solids_percent_w_v=10, received_on=date(2026, 1, 2)))
+    figures = _template_figures(spheres, slide_area_cm2=2.0, sphere_density_g_cm3=None,
+                                excess_factor=1.0)
+    with transaction.atomic(), codes_in_blocks():
+        templates = [TemplateAssembly(
+            code=code_next("TPL"), sphere_lot=spheres, base_slide_lot=slides,
+            method="interface_transfer", slide_area_cm2=2.0, made_on=date(2026, 2, 1),
+            status=Status.RELEASED, **figures) for _ in range(count)]
+        bulk_create_with_history(templates, TemplateAssembly, batch_size=500)
+    on_target_C = charge_for_target_height_C(
+        target_height_over_diameter=0.5, sphere_diameter_nm=RUN_SPHERE_NM,
+        electrode_area_cm2=1.0, metal="Au", electrons_per_atom=1, current_efficiency=1.0)
+    return bath.code, [t.code for t in templates], on_target_C
 
 
 TEMPLATE_HEADER = ["Code or your ID", "Sphere lot", "Base slide lot", "Method",
@@ -283,6 +344,70 @@ def qc_loop(rows: int, parents: list) -> None:
         transaction.set_rollback(True)
 
 
+def run_loop(rows: int, bath: str, templates: list[str], on_target_C: float) -> None:
+    """The run rows through ``deposition_run_record`` in a plain loop, rolled back."""
+    from django.db import transaction
+
+    from inventory.models import ReagentLot, TemplateAssembly
+    from inventory.services import deposition_run_record
+
+    with transaction.atomic():
+        bath_lot = ReagentLot.objects.get(code=bath)
+        by_code = TemplateAssembly.objects.in_bulk(templates[:rows], field_name="code")
+        for n in range(rows):
+            values = {k: v for k, v in run_values(n, on_target_C).items() if v is not None}
+            deposition_run_record(actor=None, bath_lot=bath_lot,
+                                  template=by_code[templates[n]], **values)
+        transaction.set_rollback(True)
+
+
+def rollback_deposition_runs() -> None:
+    """Remove what a run import wrote and release its templates again."""
+    from inventory.models import (
+        CodeCounter,
+        DepositionRun,
+        Flag,
+        LineageEdge,
+        StatusChange,
+        Substrate,
+        TemplateAssembly,
+    )
+
+    Flag.history.all().delete()
+    Flag.objects.all().delete()
+    LineageEdge.objects.filter(child_code__startswith="SUB-").delete()
+    LineageEdge.objects.filter(child_code__startswith="DEP-").delete()
+    StatusChange.objects.filter(to_status="consumed").delete()
+    for model in (Substrate, DepositionRun):
+        model.history.all().delete()
+        model.objects.all().delete()
+    TemplateAssembly.history.filter(status="consumed").delete()
+    TemplateAssembly.objects.filter(status="consumed").update(status="released", version=1)
+    from exchange.models import SheetKey
+
+    SheetKey.objects.filter(kind="deposition_runs").delete()
+    CodeCounter.objects.filter(prefix__in=["DEP", "SUB", "FLG"]).update(last_value=0)
+
+
+def run_sheet(rows: int, bath: str, templates: list[str], on_target_C: float) -> bytes:
+    return xlsx(RUN_HEADER, (
+        [f"RUN-{n:06d}", templates[n], bath, v["metal"], v["electrons_per_atom"], v["mode"],
+         v["electrode_area_cm2"], v["target_height_over_diameter"], v["charge_C"],
+         v["made_on"], v["pieces"], v["piece_area_cm2"]]
+        for n, v in ((n, run_values(n, on_target_C)) for n in range(rows))))
+
+
+def deposition_run_inputs(args) -> tuple[bytes, bytes, object]:
+    """The run sheet (all rows), the per-row path's sheet and the reference loop."""
+    bath, templates, on_target_C = run_parents(max(args.rows, args.reference_rows,
+                                                   args.per_row_rows))
+    content = run_sheet(args.rows, bath, templates, on_target_C)
+    per_row_content = run_sheet(args.per_row_rows, bath, templates, on_target_C) \
+        if args.per_row_rows else b""
+    return content, per_row_content, partial(run_loop, bath=bath, templates=templates,
+                                             on_target_C=on_target_C)
+
+
 def timed(action):
     wall, cpu = time.perf_counter(), time.process_time()
     result = action()
@@ -372,6 +497,8 @@ def rollback_import(kind: str, before: tuple[int, int | None]) -> None:
     from exchange.models import SheetKey, SheetUvVisReading
     from inventory.models import CodeCounter, LineageEdge
 
+    if kind == "deposition_runs":
+        return rollback_deposition_runs()
     model = import_model(kind)
     last_pk, last_code = before
     made = model.objects.filter(pk__gt=last_pk)
@@ -575,8 +702,8 @@ def main() -> None:
     parser.add_argument("--per-row-rows", type=int, default=2_000,
                         help="rows of the per-row path's dry run and import (0: skip)")
     parser.add_argument("--kinds", nargs="+", default=["sphere_lots", "colloid_batches"],
-                        choices=["sphere_lots", "colloid_batches", *SURFACE_KINDS,
-                                 *CHAIN_KINDS])
+                        choices=["sphere_lots", "colloid_batches", "deposition_runs",
+                                 *SURFACE_KINDS, *CHAIN_KINDS])
     parser.add_argument("--django-validation", action="store_true",
                         help="also time the service loop with Django's constraint queries")
     parser.add_argument("--pg-database", default=PG_DATABASE,
@@ -601,6 +728,8 @@ def main() -> None:
             per_row_content = make_sheet(args.per_row_rows, parents) if args.per_row_rows \
                 else b""
             loop = partial(chain_loop, parents=parents)
+        elif kind == "deposition_runs":
+            content, per_row_content, loop = deposition_run_inputs(args)
         else:
             lots = colloid_parents()
             content = colloid_sheet(args.rows, lots)

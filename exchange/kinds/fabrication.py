@@ -57,16 +57,25 @@ TEMPLATES = Kind(
     ), _template, prepare=_template_new)
 
 
-def _run(values, ctx):
-    run, _pieces = services.deposition_run_record(
-        actor=ctx.actor, bath_lot=values["bath_lot"], metal=values["metal"],
+def _run_values(values) -> dict:
+    return dict(
+        bath_lot=values["bath_lot"], metal=values["metal"],
         electrons_per_atom=values["electrons_per_atom"], mode=values["mode"],
         electrode_area_cm2=values["electrode_area_cm2"], made_on=values["made_on"],
         pieces=values["pieces"], template=values.get("template"),
         base_slide_lot=values.get("base_slide_lot"), notes=text_of(values, "notes"),
         **pick(values, "current_efficiency", "setpoint_potential_V", "setpoint_current_mA",
                 "target_height_over_diameter", "piece_area_cm2", "charge_C"))
+
+
+def _run(values, ctx):
+    run, _pieces = services.deposition_run_record(actor=ctx.actor, **_run_values(values))
     return run
+
+
+def _run_new(values, ctx):
+    """The run, its pieces, the template it consumes and an entered charge, all checked."""
+    return services.deposition_run_check(actor=ctx.actor, many=ctx.many, **_run_values(values))
 
 
 def _run_charge(run, values, ctx, created: bool) -> list[str]:
@@ -124,8 +133,9 @@ DEPOSITION_RUNS = Kind(
         Column("piece_area_cm2", "Piece area", "number", "cm²", compare=False,
                aliases=("piece area",), example=0.25),
         NOTES,
-    ), _run, extra=_run_charge, export_value={"pieces": lambda r: len(r.substrates.all()),
-                                              "piece_area_cm2": _first_piece_area},
+    ), _run, extra=_run_charge, prepare=_run_new,
+    export_value={"pieces": lambda r: len(r.substrates.all()),
+                  "piece_area_cm2": _first_piece_area},
     export_prefetch=("substrates",))
 
 

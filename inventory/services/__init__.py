@@ -23,6 +23,7 @@ from .deposition import (
     deposition_tolerance_set,
 )
 from .fabrication import (
+    deposition_run_check,
     deposition_run_record,
     nanoparticle_batch_check,
     nanoparticle_batch_make,
@@ -57,6 +58,7 @@ __all__ = [
     "codes_taken",
     "dataset_register",
     "deposition_run_attach_chronoamperogram",
+    "deposition_run_check",
     "deposition_run_check_target",
     "deposition_run_enter_charge",
     "deposition_run_record",

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import dataclasses
 import math
-from collections.abc import Iterable, Iterator, Sequence
+from collections.abc import Callable, Iterable, Iterator, Sequence
 from contextlib import contextmanager
 from datetime import date
 from pathlib import PurePosixPath
@@ -163,22 +163,36 @@ class CheckingMany:
 
     rules: dict = dataclasses.field(default_factory=dict)
     roles_granted: set[str] = dataclasses.field(default_factory=set)
+    # What a check reads that no row of the import changes (a lab setting, an input's own
+    # parent), read once (``_read_once``).
+    read: dict = dataclasses.field(default_factory=dict)
+
+
+def _read_once(many: CheckingMany | None, key, read: Callable[[], object]):
+    """``read()``; for a caller checking many, only the first time ``key`` is asked for."""
+    if many is None:
+        return read()
+    if key not in many.read:
+        many.read[key] = read()
+    return many.read[key]
 
 
 STAMP_FIELDS = ("created_by", "updated_by")
 
 
-def _read_relations(record: Model, *, stored: bool) -> tuple[str, ...]:
-    """The foreign keys of ``record`` that need no existence query (``clean_fields`` asks one
-    per key): the stamps, and those whose record the caller holds, read from the database in
-    this transaction; for a ``stored`` record (read under a lock, being changed), all of
-    them.  The database's foreign keys still hold on every row written.
+def _checked_apart(record: Model, many: CheckingMany | None, *,
+                   stored: bool = False) -> tuple[str, ...]:
+    """Fields a caller checking many has checked otherwise, which Django's ``clean_fields``
+    would look up once per field and record: the stamps, and the foreign keys whose record
+    is in hand (read under a lock in this transaction, or checked in the same step and not
+    yet written); for a ``stored`` record (read under a lock, being changed, its keys not
+    moved), all of them.  The database's foreign keys still hold on every row written.
     """
-    return STAMP_FIELDS + tuple(
-        field.name for field in record._meta.concrete_fields
-        if field.many_to_one and field.name not in STAMP_FIELDS
-        and (stored or (field.is_cached(record)
-                        and getattr(field.get_cached_value(record), "pk", None) is not None)))
+    if many is None:
+        return ()
+    return (*STAMP_FIELDS, *(field.name for field in record._meta.concrete_fields
+                             if field.many_to_one and field.name not in STAMP_FIELDS
+                             and (stored or field.get_cached_value(record, None) is not None)))
 
 
 def _require_role(actor: User | None, role: str, *, action: str,
@@ -201,7 +215,7 @@ def _prepare_new(record: CodedRecord, *, actor: User | None,
     record.code = code_next(record.CODE_PREFIX)
     record.created_by = actor
     record.updated_by = actor
-    _check_fields(record, exclude=() if many is None else _read_relations(record, stored=False))
+    _check_fields(record, exclude=_checked_apart(record, many))
     if isinstance(record, LifecycleRecord):
         refresh_expiry(record, None if many is None else many.rules)
     _full_clean(record, fields_cleaned=True,
@@ -227,10 +241,10 @@ def _prepare_changed(record: StampedRecord, *, actor: User | None,
     """
     record.updated_by = actor
     record.version += 1
-    _check_fields(record, exclude=() if many is None else _read_relations(record, stored=True))
+    _check_fields(record, exclude=_checked_apart(record, many, stored=True))
     if isinstance(record, LifecycleRecord):
         refresh_expiry(record, None if many is None else many.rules)
-    # Its code is the stored one: no unique query for it when checking many.
+    # A change keeps the code; a new one is checked against the table by ``codes_taken``.
     _full_clean(record, fields_cleaned=True,
                 unique_exclude=frozenset() if many is None else frozenset({"code"}))
 

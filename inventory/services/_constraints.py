@@ -29,6 +29,9 @@ class _CannotEvaluate(Exception):
     """The condition uses something this evaluator does not know: ask the database."""
 
 
+_UNWRITTEN = object()  # the value of a foreign key to a parent in hand but not yet written
+
+
 @cache
 def _range_constraint_names(model: type[Model]) -> frozenset[str]:
     """The model's CHECK constraints that say exactly what its ``RANGES`` table says."""
@@ -47,6 +50,8 @@ def _value(record: Model, name: str):
     if not getattr(field, "concrete", False):
         raise _CannotEvaluate(name)
     value = getattr(record, field.attname)
+    if value is None and field.many_to_one and field.get_cached_value(record, None) is not None:
+        return _UNWRITTEN  # a parent checked in the same step, not written yet: not null
     if isinstance(value, float) and math.isnan(value):
         raise _CannotEvaluate(name)  # NaN orders differently on each database
     return value
@@ -60,6 +65,8 @@ def _lookup(record: Model, key: str, rhs) -> bool | None:
         lookup, rhs = "isnull", True  # as Django reads field=None
     if lookup == "isnull":
         return (value is None) == bool(rhs)
+    if value is _UNWRITTEN:
+        raise _CannotEvaluate(key)  # its key is not known yet
     if isinstance(rhs, F):
         rhs = _value(record, rhs.name)
     elif hasattr(rhs, "resolve_expression"):

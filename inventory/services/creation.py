@@ -41,6 +41,7 @@ class NewRecord:
     after: list[NewRecord] = field(default_factory=list)  # records that point at this one
     # Stored records this one changes, each a checked copy (``_prepare_changed``: new
     # version, stamped) with the reason of its history row; written after the new records.
+    # A copy of this record itself (no key yet) is its second save in the same step.
     changed: list[tuple[StampedRecord, str]] = field(default_factory=list)
     # Further rows that record the step (status changes, lineage edges from this record to
     # stored ones), written last; they may name this record's code, not its key.
@@ -59,7 +60,7 @@ def new_record_save(new: NewRecord, *, actor: User | None) -> StampedRecord:
         new_record_save(follower, actor=actor)
     for record, reason in new.changed:
         _stamp_history(record, actor=actor, reason=reason)
-        record.save()
+        _saved_again(record, new.record).save()
     for row in new.rows:
         row.save()
     return new.record
@@ -110,7 +111,7 @@ def _changes_write(news: Sequence[NewRecord], *, actor: User | None, batch_rows:
         for record, reason in new.changed:
             _stamp_history(record, actor=actor, reason=reason)
             record.updated_at = now  # bulk_update does not run auto_now's pre_save
-            changed[type(record)].append(record)
+            changed[type(record)].append(_saved_again(record, new.record))
         for row in new.rows:
             rows[type(row)].append(row)
     for model, records in changed.items():
@@ -119,6 +120,15 @@ def _changes_write(news: Sequence[NewRecord], *, actor: User | None, batch_rows:
             records, batch_size=batch_rows, update=True, default_user=actor)
     for model, group in rows.items():
         model.objects.bulk_create(group, batch_size=batch_rows)
+
+
+def _saved_again(changed: StampedRecord, inserted: StampedRecord) -> StampedRecord:
+    """A changed copy of the new record itself (saved twice in one step, as a run and then
+    its entered charge) takes the key and creation time its insert has just given it."""
+    if changed.pk is None and getattr(changed, "code", None) == inserted.code:
+        changed.pk, changed.created_at = inserted.pk, inserted.created_at
+        changed._state.adding = False
+    return changed
 
 
 def _rows_update(model: type[Model], records: Sequence[Model]) -> None:

@@ -12,8 +12,10 @@ readiness blocks them.  The tolerance and the target reads are in ``deposition_t
 
 from __future__ import annotations
 
+import copy
 import math
 import os
+from collections.abc import Sequence
 from dataclasses import dataclass, replace
 
 from django.core.exceptions import ValidationError
@@ -29,15 +31,17 @@ from inventory.physics.electrodeposition import (
 from inventory.physics.errors import AnalysisInputError
 
 from ..errors import refusal
-from ..models import DepositionRun
+from ..models import DepositionRun, Substrate
 from ..roles import MAKER, require_role
-from ._common import User, _check_upload, _save_changed
+from ._common import CheckingMany, User, _check_upload, _prepare_changed, _save_changed
+from .creation import NewRecord
 from .deposition_target import (
     DEFAULT_MAX_ABS_DEVIATION_HEIGHT_OVER_DIAMETER,
     FLAG_CATEGORY,
     ChronoamperogramAttachment,
     DepositionTargetCheck,
     ToleranceInForce,
+    _compare,
     _compare_and_flag,
     _deviation,
     _sphere_diameter_nm,
@@ -305,7 +309,7 @@ def deposition_run_enter_charge(*, actor: User | None, run: DepositionRun, charg
             deviation_height_over_diameter=_deviation(run), tolerance=None, flags=(),
             notes=(f"{run.code} already holds the entered charge {charge:.6g} C; nothing "
                    "changed.",))
-    said = (f"charge entered as reported: {charge:.6g} C" if run.charge_C is None
+    said = (entered_charge_reason(charge) if run.charge_C is None
             else f"charge entered again: {run.charge_C:.6g} C → {charge:.6g} C")
     return apply_entered_charge(run, _entered_analysis(run, charge), actor=actor,
                                 reason="; ".join(filter(None, (said, reason.strip()))))
@@ -344,6 +348,24 @@ def _entered_analysis(run: DepositionRun, charge: float) -> DepositionAnalysis:
 def prepare_entered_charge(run: DepositionRun, charge_C) -> DepositionAnalysis:
     """Check an entered charge and work out its figures before anything is saved."""
     return _entered_analysis(run, checked_entered_charge(charge_C))
+
+
+def entered_charge_check(run: DepositionRun, analysis: DepositionAnalysis, *,
+                         pieces: Sequence[Substrate], actor, many: CheckingMany | None = None,
+                         ) -> tuple[DepositionRun, list[NewRecord]]:
+    """The check part of :func:`apply_entered_charge` for a run checked and not yet written
+    (with its ``pieces``): the run as its second save leaves it (a copy with the figures, a
+    new version, checked) and the flags of an off-target film; nothing written."""
+    charged = copy.copy(run)
+    _set_figures(charged, analysis, parsed=None)
+    _prepare_changed(charged, actor=actor, many=many)
+    _result, flags = _compare(charged, analysis, pieces=pieces, actor=actor, many=many)
+    return charged, flags
+
+
+def entered_charge_reason(charge_C: float) -> str:
+    """The history reason of a run's first entered charge."""
+    return f"charge entered as reported: {charge_C:.6g} C"
 
 
 def apply_entered_charge(run: DepositionRun, analysis: DepositionAnalysis, *, actor,

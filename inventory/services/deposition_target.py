@@ -8,7 +8,8 @@ the pages and the API.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from collections.abc import Iterable
+from dataclasses import dataclass, replace
 
 from django.db import transaction
 
@@ -21,10 +22,11 @@ from inventory.physics.errors import AnalysisInputError
 
 from ..errors import refusal
 from ..flags import flags_open
-from ..models import DepositionRun, DepositionTolerance, Flag
+from ..models import DepositionRun, DepositionTolerance, Flag, Substrate
 from ..roles import ADMINISTRATOR, require_role
-from ._common import User, _save_setting
-from .records import flag_raise
+from ._common import CheckingMany, User, _read_once, _save_setting
+from .creation import NewRecord, new_record_save
+from .records import flag_check
 
 #: Used only when the lab has recorded no DepositionTolerance: a built-in default of this
 #: project (not a published value), reported as such wherever it is applied.
@@ -119,6 +121,16 @@ class ChronoamperogramAttachment:
 
 def _compare_and_flag(run: DepositionRun, analysis: DepositionAnalysis, *,
                       actor) -> ChronoamperogramAttachment:
+    """Compare a saved run's new figures with its target; raise the flags if off target."""
+    result, flags = _compare(run, analysis, pieces=run.substrates.all(), actor=actor)
+    return replace(result, flags=tuple(new_record_save(flag, actor=actor) for flag in flags))
+
+
+def _compare(run: DepositionRun, analysis: DepositionAnalysis, *, pieces: Iterable[Substrate],
+             actor, many: CheckingMany | None = None,
+             ) -> tuple[ChronoamperogramAttachment, list[NewRecord]]:
+    """The check part of :func:`_compare_and_flag`: the comparison and the unsaved flags of
+    an off-target film (the run's, then each of its ``pieces`` in code order); no write."""
     target = run.target_height_over_diameter
     deviation = _deviation(run)
     if deviation is None:
@@ -127,25 +139,27 @@ def _compare_and_flag(run: DepositionRun, analysis: DepositionAnalysis, *,
         return ChronoamperogramAttachment(
             run=run, unchanged=False, analysis=analysis, target_height_over_diameter=target,
             deviation_height_over_diameter=None, tolerance=None, flags=(),
-            notes=(f"Not compared with a target: {why}.",))
-    tolerance = deposition_tolerance_in_force(run.metal)
+            notes=(f"Not compared with a target: {why}.",)), []
+    tolerance = _read_once(many, ("deposition tolerance", run.metal),
+                           lambda: deposition_tolerance_in_force(run.metal))
     notes = [(f"Tolerance ±{tolerance.max_abs_deviation_height_over_diameter:g} on h/D, "
               f"from {tolerance.source}.")]
-    flags: list[Flag] = []
+    flags: list[NewRecord] = []
     if abs(deviation) > tolerance.max_abs_deviation_height_over_diameter:
         sentence = (f"film height h/D = {run.height_over_diameter:.3f} is {deviation:+.3f} "
                     f"from the target {target:.3f}; the tolerance is "
                     f"±{tolerance.max_abs_deviation_height_over_diameter:g} "
                     f"({tolerance.source}).")
-        flags.append(flag_raise(actor=actor, target=run, category=FLAG_CATEGORY,
-                                message=f"Deposition {run.code}: {sentence}"))
-        for piece in run.substrates.order_by("code"):
-            flags.append(flag_raise(actor=actor, target=piece, category=FLAG_CATEGORY,
-                                    message=f"Cut from {run.code}, whose {sentence}"))
+        flags.append(flag_check(actor=actor, target=run, category=FLAG_CATEGORY,
+                                message=f"Deposition {run.code}: {sentence}", many=many))
+        for piece in sorted(pieces, key=lambda piece: piece.code):
+            flags.append(flag_check(actor=actor, target=piece, category=FLAG_CATEGORY,
+                                    message=f"Cut from {run.code}, whose {sentence}",
+                                    many=many))
     return ChronoamperogramAttachment(
         run=run, unchanged=False, analysis=analysis, target_height_over_diameter=target,
-        deviation_height_over_diameter=deviation, tolerance=tolerance, flags=tuple(flags),
-        notes=tuple(notes))
+        deviation_height_over_diameter=deviation, tolerance=tolerance, flags=(),
+        notes=tuple(notes)), flags
 
 
 # --------------------------------------------------------------------------- reads

@@ -3,6 +3,7 @@ substrate's surface, linker layer and particles, are in surface_steps)."""
 
 from __future__ import annotations
 
+import copy
 from collections.abc import Sequence
 from datetime import date
 
@@ -20,7 +21,6 @@ from ..lifecycle import check_usable
 from ..models import (
     CodedRecord,
     DepositionRun,
-    LineageEdge,
     NanoparticleBatch,
     ReagentKind,
     ReagentLot,
@@ -34,22 +34,22 @@ from ..roles import MAKER, require_role
 from ._common import (
     CheckingMany,
     User,
-    _link,
     _prepare_new,
+    _read_once,
     _require_kind,
     _require_not_future,
     _require_role,
-    _save_new,
 )
 from .creation import NewRecord, new_record_save
 from .deposition import (
     _apply,
     _prepare,
-    apply_entered_charge,
+    entered_charge_check,
+    entered_charge_reason,
     prepare_entered_charge,
 )
 from .deposition_target import _require_known_metal
-from .lifecycle import record_transition
+from .lifecycle import lock, transition_prepare, transition_reason
 
 
 def template_assembly_check(
@@ -120,47 +120,40 @@ def _template_figures(sphere_lot: SphereLot, *, slide_area_cm2: float,
     }
 
 
-@transaction.atomic
-def deposition_run_record(
+def deposition_run_check(
     *, actor: User | None, bath_lot: ReagentLot, metal: str, electrons_per_atom: int,
     mode: str, electrode_area_cm2: float, made_on: date, pieces: int,
     template: TemplateAssembly | None = None, base_slide_lot: ReagentLot | None = None,
     current_efficiency: float = 1.0, setpoint_potential_V: float | None = None,
     setpoint_current_mA: float | None = None, target_height_over_diameter: float | None = None,
     piece_area_cm2: float | None = None, storage: StorageLocation | None = None,
-    notes: str = "", chronoamperogram: tuple[str, bytes] | None = None,
-    time_unit: str | None = None, current_unit: str | None = None,
-    cathodic_sign: str = DepositionRun.CathodicSign.NEGATIVE, start_s: float | None = None,
-    end_s: float | None = None, charge_C: float | None = None,
-) -> tuple[DepositionRun, list[Substrate]]:
-    """Record a deposition run and the ``pieces`` substrates it was cut into, atomically.
+    notes: str = "", charge_C: float | None = None, many: CheckingMany | None = None,
+) -> NewRecord:
+    """Every rule of recording a deposition run, on the unsaved run (with its code); no write.
 
-    Through a template (which is consumed) or, without one, onto a flat base slide.  With
-    ``chronoamperogram=(filename, content)`` the file is analysed and its numbers stored
-    in the same transaction (see
-    :func:`inventory.services.deposition.deposition_run_attach_chronoamperogram`, whose
-    options the remaining keywords are): a bad file saves no run, no piece, and leaves the
-    template unconsumed.  Without the file, ``charge_C`` is the charge the potentiostat
-    reported, and the same figures follow from it
-    (:func:`inventory.services.deposition.deposition_run_enter_charge`); a run takes one or
-    the other, and a bad charge saves nothing either.
+    The NewRecord holds the run with its inputs (the bath, the template or the base slide);
+    the template consumed (a checked copy and its StatusChange); the ``pieces`` substrates
+    cut from it; and, with ``charge_C`` (the charge the potentiostat reported), the run with
+    the figures that follow from it as a second save of the run, and the flags of an
+    off-target film.  ``template`` and the lots may be records read under a lock by a caller
+    checking many (``many``).
     """
-    require_role(actor, MAKER, action="Recording a deposition run")
+    _require_role(actor, MAKER, action="Recording a deposition run", many=many)
     _require_not_future(made_on, field="made_on")
     _require_known_metal(metal)
     if (template is None) == (base_slide_lot is None):
         raise refusal("template", "Give either a template or, for a flat film, a base "
                                            "slide lot (not both).", "template_or_flat")
-    if chronoamperogram is not None and charge_C is not None:
-        raise refusal("charge_C", "Give the chronoamperogram or the charge, not both: the "
-                                  "file's charge is integrated from it.", "charge_or_file")
     if not 1 <= pieces <= 200:
         raise refusal("pieces", "A run yields between 1 and 200 pieces.", "pieces_range")
+    state_read = many is not None
     _require_kind(bath_lot, [ReagentKind.PLATING_BATH], field="bath_lot")
-    check_usable(bath_lot, role="the plating bath", on_date=made_on, field="bath_lot")
+    check_usable(bath_lot, role="the plating bath", on_date=made_on, field="bath_lot",
+                 state_read=state_read)
     inputs: list[tuple[CodedRecord, str]] = [(bath_lot, "plating bath")]
     if template is not None:
-        check_usable(template, role="the template", on_date=made_on, field="template")
+        check_usable(template, role="the template", on_date=made_on, field="template",
+                     state_read=state_read)
         if template.status != Status.RELEASED:
             raise refusal(
                 "template",
@@ -173,7 +166,8 @@ def deposition_run_record(
         inputs.append((template, "template"))
     else:
         _require_kind(base_slide_lot, [ReagentKind.BASE_SLIDE], field="base_slide_lot")
-        check_usable(base_slide_lot, role="a base slide", on_date=made_on, field="base_slide_lot")
+        check_usable(base_slide_lot, role="a base slide", on_date=made_on,
+                     field="base_slide_lot", state_read=state_read)
         inputs.append((base_slide_lot, "base slide"))
     run = DepositionRun(
         template=template, base_slide_lot=base_slide_lot, bath_lot=bath_lot, metal=metal,
@@ -182,33 +176,78 @@ def deposition_run_record(
         electrode_area_cm2=electrode_area_cm2,
         target_height_over_diameter=target_height_over_diameter, made_on=made_on, notes=notes,
     )
+    if template is not None and many is not None:  # each sphere lot read once for all rows
+        template.sphere_lot = _read_once(many, ("sphere lot", template.sphere_lot_id),
+                                         lambda: template.sphere_lot)
+    # The charge before the run's own checks, so a bad charge is what a row is refused for.
+    entered = None if charge_C is None else prepare_entered_charge(run, charge_C)
+    new = NewRecord(_prepare_new(run, actor=actor, many=many), inputs=inputs, used_on=made_on)
+    if template is not None:
+        _consume_template(new, template, actor=actor, many=many)
+    for number in range(1, pieces + 1):
+        piece = _prepare_new(Substrate(
+            deposition_run=run, piece_label=f"{run.code}/{number}", area_cm2=piece_area_cm2,
+            made_on=made_on, storage=storage,
+        ), actor=actor, many=many)
+        new.after.append(NewRecord(piece, inputs=[(run, "cut from")], used_on=made_on))
+    if entered is not None:
+        charged, flags = entered_charge_check(
+            run, entered, pieces=[piece.record for piece in new.after], actor=actor, many=many)
+        new.changed.append((charged, entered_charge_reason(entered.charge_C)))
+        new.after += flags
+    return new
+
+
+def _consume_template(new: NewRecord, template: TemplateAssembly, *, actor: User | None,
+                      many: CheckingMany | None) -> None:
+    """Plating consumes the template: its checked copy and its StatusChange go with ``new``.
+
+    One record at a time, the template's current row is read under a lock; a caller checking
+    many read it so already.
+    """
+    consumed = copy.copy(template) if many is not None else lock(template)
+    change = transition_prepare(consumed, Status.CONSUMED, reason=f"plated in {new.record.code}",
+                                actor=actor, many=many)
+    new.changed.append((consumed, transition_reason(Status.CONSUMED, change.reason)))
+    new.rows.append(change)
+
+
+@transaction.atomic
+def deposition_run_record(
+    *, actor: User | None, chronoamperogram: tuple[str, bytes] | None = None,
+    time_unit: str | None = None, current_unit: str | None = None,
+    cathodic_sign: str = DepositionRun.CathodicSign.NEGATIVE, start_s: float | None = None,
+    end_s: float | None = None, **values,
+) -> tuple[DepositionRun, list[Substrate]]:
+    """Record a deposition run and the pieces it was cut into, atomically; ``values`` are
+    those of :func:`deposition_run_check`.
+
+    Through a template (which is consumed) or, without one, onto a flat base slide.  With
+    ``chronoamperogram=(filename, content)`` the file is analysed and its numbers stored
+    in the same transaction (see
+    :func:`inventory.services.deposition.deposition_run_attach_chronoamperogram`, whose
+    options the remaining keywords are): a bad file saves no run, no piece, and leaves the
+    template unconsumed.  Without the file, ``charge_C`` is the charge the potentiostat
+    reported, and the same figures follow from it
+    (:func:`inventory.services.deposition.deposition_run_enter_charge`); a run takes one or
+    the other, and a bad charge saves nothing either.
+    """
+    require_role(actor, MAKER, action="Recording a deposition run")
+    if chronoamperogram is not None and values.get("charge_C") is not None:
+        raise refusal("charge_C", "Give the chronoamperogram or the charge, not both: the "
+                                  "file's charge is integrated from it.", "charge_or_file")
+    new = deposition_run_check(actor=actor, **values)
+    run = new.record
     # Analyse the file before writing anything, so a bad file leaves nothing behind.
     prepared = None if chronoamperogram is None else _prepare(
         run, *chronoamperogram, time_unit=time_unit, current_unit=current_unit,
         cathodic_sign=cathodic_sign, start_s=start_s, end_s=end_s)
-    entered = None if charge_C is None else prepare_entered_charge(run, charge_C)
-    run = _save_new(run, actor=actor)
-    _link(inputs, run, used_on=made_on, actor=actor)
-    if template is not None:
-        record_transition(actor=actor, record=template, to_status=Status.CONSUMED,
-                          reason=f"plated in {run.code}")
-    substrates = []
-    for number in range(1, pieces + 1):
-        piece = _save_new(Substrate(
-            deposition_run=run, piece_label=f"{run.code}/{number}", area_cm2=piece_area_cm2,
-            made_on=made_on, storage=storage,
-        ), actor=actor)
-        substrates.append(piece)
-    LineageEdge.objects.bulk_create([
-        LineageEdge(parent_code=run.code, child_code=piece.code, role="cut from",
-                    used_on=made_on, created_by=actor) for piece in substrates
-    ])
+    new_record_save(new, actor=actor)
+    if new.changed and new.changed[-1][0].code == run.code:
+        run.refresh_from_db()  # as its second save (an entered charge's figures) left it
     if prepared is not None:
         _apply(run, prepared, actor=actor)
-    if entered is not None:
-        apply_entered_charge(run, entered, actor=actor,
-                             reason=f"charge entered as reported: {entered.charge_C:.6g} C")
-    return run, substrates
+    return run, [piece.record for piece in new.after if isinstance(piece.record, Substrate)]
 
 
 def purchased_piece_check(

@@ -13,15 +13,19 @@ from ..errors import refusal
 from ..models import CodedRecord, Dataset, DatasetFile, Flag, Status, Substrate
 from ..roles import MAKER, REVIEWER, require_role
 from ._common import (
+    CheckingMany,
     User,
     _check_substrates_usable,
     _check_upload,
     _files_removed_if_failed,
     _link,
+    _prepare_new,
     _require_not_future,
+    _require_role,
     _save_changed,
     _save_new,
 )
+from .creation import NewRecord, new_record_save
 from .lifecycle import record_transition
 from .uploads import RawUpload
 
@@ -78,14 +82,25 @@ def dataset_register(
     return dataset
 
 
+def flag_check(*, actor: User | None, target: CodedRecord, category: str, message: str,
+               many: CheckingMany | None = None) -> NewRecord:
+    """Every rule of raising a flag, on the unsaved flag (with its code); no write.
+
+    ``target`` may be a record checked in the same step and not written yet (its code is
+    all a flag keeps).
+    """
+    _require_role(actor, MAKER, action="Raising a flag", many=many)
+    if not message.strip():
+        raise refusal("message", "Say what deviates.", "required")
+    return NewRecord(_prepare_new(Flag(target_code=target.code, category=category,
+                                       message=message), actor=actor, many=many))
+
+
 @transaction.atomic
 def flag_raise(*, actor: User | None, target: CodedRecord, category: str, message: str) -> Flag:
     """Record a deviation on any record; an open flag blocks readiness downstream."""
-    require_role(actor, MAKER, action="Raising a flag")
-    if not message.strip():
-        raise refusal("message", "Say what deviates.", "required")
-    return _save_new(Flag(target_code=target.code, category=category, message=message),
-                     actor=actor)
+    return new_record_save(flag_check(actor=actor, target=target, category=category,
+                                      message=message), actor=actor)
 
 
 @transaction.atomic

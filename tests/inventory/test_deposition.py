@@ -384,7 +384,7 @@ def test_a_failure_after_the_file_is_written_removes_the_file(chain, run, monkey
     def refuse(*args, **kwargs):
         raise ValidationError({"message": "refused for the test"})
 
-    monkeypatch.setattr(deposition_target, "flag_raise", refuse)  # the flag comes after
+    monkeypatch.setattr(deposition_target, "flag_check", refuse)  # the flag comes after
     storage = DepositionRun._meta.get_field("chronoamperogram").storage
     before = _counts()
     name = f"orphan-check-{run.code}.txt"  # a name no other test stores
