@@ -260,8 +260,9 @@ class _Rows:
         the one reported; a run that found the map full resumes here, in order, after the
         map has grown.
         """
-        middle = (_next_line(buf, stop // 2, stop) if pool is not None and stop >= _SPLIT_BYTES
-                  else stop)
+        if pool is None or stop < _SPLIT_BYTES:
+            return self._resume(buf, 0, stop, separator, row, ascending)
+        middle = _next_line(buf, stop // 2, stop)
         if middle >= stop:
             return self._resume(buf, 0, stop, separator, row, ascending)
         second = pool.submit(self._second_run, buf, middle, stop, separator, row, ascending)
