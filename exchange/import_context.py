@@ -99,7 +99,7 @@ class ImportContext:
             self.flush()  # a row names a record checked (or changed) above it: write it first
         record = self._records[code] if code in self._records else _record_or_none(code)
         if not isinstance(record, model):
-            raise CellError(f"no {KINDS[kind_name].label.lower()[:-1]} '{key}' in this file "
+            raise CellError(f"no {model._meta.verbose_name} '{key}' in this file "
                             "(above this row) or in the database", "parent_missing")
         return record
 

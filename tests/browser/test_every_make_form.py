@@ -158,8 +158,9 @@ CASES = [
     Case("spheres", SphereLot, _spheres, "nominal_diameter_nm", "-500",
          "outside the allowed range"),
     Case("template", TemplateAssembly, _template, "slide_area_cm2", "-2", "positive number"),
+    # The run's own range check comes before its file is analysed (deposition_run_check).
     Case("deposition", DepositionRun, _deposition, "electrode_area_cm2", "-1",
-         "positive number", "/make/done/DEP-", ("chronoamperogram",)),
+         "outside the allowed range", "/make/done/DEP-", ("chronoamperogram",)),
     Case("linker", LinkerLayer, _linker, "concentration_mM", "-1", "outside the allowed range"),
     Case("colloid", NanoparticleBatch, _colloid, "volume_mL", "-100", "outside the allowed range"),
     Case("uvvis", UvVisRecord, _uvvis, "dilution_factor", "-2", "outside the allowed range",

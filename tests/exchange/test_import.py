@@ -142,3 +142,23 @@ def test_reimporting_an_exported_reagent_sheet_changes_nothing(maker, chain):
     report = import_sheet(kind="reagent_lots", content=content, file_name="r.csv", actor=maker,
                           commit=False)
     assert report.ok and len(report.unchanged) == 1 and not report.changed, report.changed
+
+
+@pytest.mark.parametrize("kind, header, cell, words", [
+    ("deposition_runs", "Template", "TPL-99999", "no template assembly 'TPL-99999'"),
+    ("particle_attachments", "Colloid batch", "NPB-99999",
+     "no nanoparticle batch 'NPB-99999'"),
+])
+def test_a_missing_parent_is_named_by_its_kind_in_words(chain, kind, header, cell, words):
+    """The refusal names the parent's kind whole ("template assemblie" was cut from the
+    plural label before)."""
+    from exchange.kinds import KINDS
+
+    spec = KINDS[kind]
+    headers = [c.header for c in spec.columns]
+    row = [c.example for c in spec.columns]
+    row[headers.index(next(h for h in headers if h.startswith(header)))] = cell
+    report = import_sheet(kind=kind, content=csv_bytes([headers, row]),
+                          file_name=f"{kind}.csv", actor=chain.maker, commit=False)
+    assert any(words in e.reason and e.code == "parent_missing" for e in report.errors), \
+        report.errors
