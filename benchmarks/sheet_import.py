@@ -586,19 +586,6 @@ def attachment_values(n: int) -> dict:
     return {"immersion_min": 30 + n % 60, "made_on": date(2026, 5, 1) + timedelta(days=n % 5)}
 
 
-def workbook(header: list[str], rows) -> bytes:
-    import openpyxl
-
-    book = openpyxl.Workbook()
-    ws = book.active
-    ws.append(header)
-    for row in rows:
-        ws.append(row)
-    out = io.BytesIO()
-    book.save(out)
-    return out.getvalue()
-
-
 def linker_sheet(parents: dict, substrates: list[str], first: int = 0) -> bytes:
     """One layer a row on one substrate, IDs from ``first``; every second row names the
     solvent."""
@@ -607,7 +594,7 @@ def linker_sheet(parents: dict, substrates: list[str], first: int = 0) -> bytes:
         v = linker_values(n)
         rows.append([f"LL-{n:06d}", parents["linker"], parents["solvent"] if n % 2 else None,
                      code, v["concentration_mM"], v["immersion_h"], v["made_on"]])
-    return workbook(LINKER_HEADER, rows)
+    return xlsx(LINKER_HEADER, rows)
 
 
 def attachment_sheet(parents: dict, substrates: list[str], first: int = 0) -> bytes:
@@ -615,7 +602,7 @@ def attachment_sheet(parents: dict, substrates: list[str], first: int = 0) -> by
     for n, code in enumerate(substrates, start=first):
         v = attachment_values(n)
         rows.append([f"PA-{n:06d}", code, parents["colloid"], v["immersion_min"], v["made_on"]])
-    return workbook(ATTACHMENT_HEADER, rows)
+    return xlsx(ATTACHMENT_HEADER, rows)
 
 
 def surface_loop(kind: str, parents: dict, substrates: list[str]) -> None:

@@ -16,19 +16,16 @@ import pytest
 from django.db import transaction
 
 from exchange.importer import import_sheet
-from exchange.models import SheetKey
 from inventory.models import (
-    CodeCounter,
     DepositionRun,
     Flag,
-    LineageEdge,
     StatusChange,
     Substrate,
     TemplateAssembly,
 )
 
 from .sheets import csv_bytes
-from .test_bulk_equivalence import _values
+from .test_bulk_equivalence import _values, links_and_keys
 
 pytestmark = pytest.mark.django_db
 
@@ -57,11 +54,7 @@ def snapshot() -> dict:
     state["status changes"] = list(StatusChange.objects.order_by(
         "record_code", "to_status").values_list("record_code", "from_status", "to_status",
                                                 "reason", "changed_by_id"))
-    state["lineage"] = list(LineageEdge.objects.order_by("child_code", "parent_code", "role")
-                            .values_list("parent_code", "child_code", "role", "used_on",
-                                         "created_by_id"))
-    state["keys"] = sorted(SheetKey.objects.values_list("kind", "key", "record_code"))
-    state["counters"] = sorted(CodeCounter.objects.values_list("prefix", "last_value"))
+    state.update(links_and_keys())
     return state
 
 

@@ -37,6 +37,17 @@ def _values(queryset, codes: dict[int, str] | None = None) -> list[dict]:
     return rows
 
 
+def links_and_keys() -> dict:
+    """What every kind's import leaves beside its records: lineage, sheet keys, counters."""
+    return {
+        "lineage": list(LineageEdge.objects.order_by("child_code", "parent_code", "role")
+                        .values_list("parent_code", "child_code", "role", "used_on",
+                                     "created_by_id")),
+        "keys": sorted(SheetKey.objects.values_list("kind", "key", "record_code")),
+        "counters": sorted(CodeCounter.objects.values_list("prefix", "last_value")),
+    }
+
+
 def snapshot() -> dict:
     """What an import leaves behind: records, their history, lineage, links and keys."""
     batch_codes = dict(NanoparticleBatch.objects.values_list("id", "code"))
@@ -49,17 +60,13 @@ def snapshot() -> dict:
                                 batch_codes)
     state["reading history"] = _values(SheetUvVisReading.history.order_by(
         "measured_on", "peak_nm", "history_type"), batch_codes)
-    state["lineage"] = list(LineageEdge.objects.order_by("child_code", "parent_code", "role")
-                            .values_list("parent_code", "child_code", "role", "used_on",
-                                         "created_by_id"))
     state["prepared from"] = sorted(
         (lot.code, parent.code) for lot in ReagentLot.objects.all()
         for parent in lot.prepared_from.all())
     state["source lots"] = sorted(
         (batch.code, lot.code) for batch in NanoparticleBatch.objects.all()
         for lot in batch.source_lots.all())
-    state["keys"] = sorted(SheetKey.objects.values_list("kind", "key", "record_code"))
-    state["counters"] = sorted(CodeCounter.objects.values_list("prefix", "last_value"))
+    state.update(links_and_keys())
     return state
 
 

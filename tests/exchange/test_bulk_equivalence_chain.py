@@ -14,11 +14,12 @@ import pytest
 from django.db.models import ForeignKey
 
 from exchange.importer import import_sheet
-from exchange.models import ImportedQcResult, SheetKey
-from inventory.models import CodeCounter, LineageEdge, Substrate, TemplateAssembly
+from exchange.models import ImportedQcResult
+from inventory.models import Substrate, TemplateAssembly
 
 from .sheets import csv_bytes
 from .test_bulk_equivalence import assert_same as assert_same_as_per_row
+from .test_bulk_equivalence import links_and_keys
 
 pytestmark = pytest.mark.django_db
 
@@ -54,11 +55,7 @@ def snapshot() -> dict:
     state["qc results"] = _values(ImportedQcResult.objects.order_by(*order))
     state["qc result history"] = _values(ImportedQcResult.history.order_by(
         "measured_on", "analyte", "enhancement_factor", "history_type"))
-    state["lineage"] = list(LineageEdge.objects.order_by("child_code", "parent_code", "role")
-                            .values_list("parent_code", "child_code", "role", "used_on",
-                                         "created_by_id"))
-    state["keys"] = sorted(SheetKey.objects.values_list("kind", "key", "record_code"))
-    state["counters"] = sorted(CodeCounter.objects.values_list("prefix", "last_value"))
+    state.update(links_and_keys())
     return state
 
 

@@ -14,17 +14,14 @@ from __future__ import annotations
 import pytest
 
 from exchange.importer import import_sheet
-from exchange.models import SheetKey
 from inventory.models import (
-    CodeCounter,
-    LineageEdge,
     LinkerLayer,
     ParticleAttachment,
     Substrate,
 )
 
 from .sheets import csv_bytes
-from .test_bulk_equivalence import _values, both_paths
+from .test_bulk_equivalence import _values, both_paths, links_and_keys
 
 pytestmark = pytest.mark.django_db
 
@@ -45,11 +42,7 @@ def snapshot() -> dict:
     state["layer substrates"] = sorted(
         (layer.code, substrate.code) for layer in LinkerLayer.objects.all()
         for substrate in layer.substrates.all())
-    state["lineage"] = list(LineageEdge.objects.order_by("child_code", "parent_code", "role")
-                            .values_list("parent_code", "child_code", "role", "used_on",
-                                         "created_by_id"))
-    state["keys"] = sorted(SheetKey.objects.values_list("kind", "key", "record_code"))
-    state["counters"] = sorted(CodeCounter.objects.values_list("prefix", "last_value"))
+    state.update(links_and_keys())
     return state
 
 
