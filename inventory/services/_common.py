@@ -7,6 +7,7 @@ import math
 from collections.abc import Callable, Iterable, Iterator, Sequence
 from contextlib import contextmanager
 from datetime import date
+from functools import cache
 from pathlib import PurePosixPath
 
 from django.conf import settings
@@ -58,19 +59,21 @@ def _check_values(model: type[Model], values: dict) -> None:
     call this on their parameters before any computation, and ``_check_fields`` on every
     record before it is saved.
     """
-    today = _today()
     ranges = getattr(model, "RANGES", {})
+    today = None  # asked only for a date (the time zone's date costs more than the check)
     for name, value in values.items():
         span = ranges.get(name)
         if value is None or span is None:
             continue
-        label = model._meta.get_field(name).verbose_name
         if isinstance(span, PastDate):
+            today = today or _today()
             if not span.holds(value, today):
+                label = model._meta.get_field(name).verbose_name
                 code = "future_date" if value > today else "out_of_range"
                 raise refusal(name, f"The {label} {value.isoformat()} is outside the allowed "
                                     f"range: {span.describe(today)}.", code)
         elif not span.holds(value):
+            label = model._meta.get_field(name).verbose_name
             if span.computed:
                 raise refusal(name, f"The {label} computed from the inputs came out "
                                     f"{float(value):g}, outside {span.describe()}; check the "
@@ -79,10 +82,11 @@ def _check_values(model: type[Model], values: dict) -> None:
                                 f"{span.describe()}.", "out_of_range")
 
 
-def _check_ranges(record: Model) -> None:
-    """``_check_values`` for every ranged field of ``record``."""
+def _check_ranges(record: Model, *, skip: Iterable[str] = ()) -> None:
+    """``_check_values`` for every ranged field of ``record`` but those in ``skip``."""
     model = type(record)
-    _check_values(model, {name: getattr(record, name) for name in getattr(model, "RANGES", {})})
+    _check_values(model, {name: getattr(record, name) for name in getattr(model, "RANGES", {})
+                          if name not in skip})
 
 
 def _refuse_fractional_integers(record: Model) -> None:
@@ -91,27 +95,51 @@ def _refuse_fractional_integers(record: Model) -> None:
     Django's ``IntegerField.to_python`` is ``int(value)``: it would store 2.5 as 2 without a
     word, and raise OverflowError (a 500) on infinity.  3.0 is a whole number and passes.
     """
-    for field in record._meta.concrete_fields:
+    for field in _integer_fields(type(record)):
         value = getattr(record, field.attname, None)
-        if (isinstance(field, IntegerField) and isinstance(value, float)
-                and not (math.isfinite(value) and value.is_integer())):
+        if isinstance(value, float) and not (math.isfinite(value) and value.is_integer()):
             raise refusal(field.name, f"The {field.verbose_name} must be a whole number "
                                       f"(got {value:g}).", "not_whole_number")
 
 
+@cache
+def _integer_fields(model: type[Model]) -> tuple[IntegerField, ...]:
+    return tuple(field for field in model._meta.concrete_fields
+                 if isinstance(field, IntegerField))
+
+
+@cache
+def _unique_checks(model: type[Model], exclude: frozenset[str]) -> tuple[list, list]:
+    """What ``Model.validate_unique`` checks, which depends on the model and ``exclude``
+    only: worked out once, where Django works it out for every record."""
+    return model._get_unique_checks(model(), exclude=exclude)
+
+
+def _validate_unique(record: Model, *, exclude: frozenset[str]) -> None:
+    """``Model.validate_unique`` with the checks worked out once per model (above)."""
+    unique_checks, date_checks = _unique_checks(type(record), exclude)
+    errors = record._perform_unique_checks(unique_checks)
+    for name, found in record._perform_date_checks(date_checks).items():
+        errors.setdefault(name, []).extend(found)
+    if errors:
+        raise ValidationError(errors)
+
+
 def _check_fields(record: Model, *, exclude: Sequence[str] = ()) -> None:
-    """Every field's own cleaning (text to numbers and dates), then its range.
+    """Every field's own cleaning (text to numbers and dates), then its range; the fields in
+    ``exclude`` are checked otherwise (see ``_checked_apart``, ``_unchanged_fields``).
 
     Before expiry is derived (a date in the year 9999 would overflow it) and before the
     constraints are checked (a constraint checked with NaN on SQLite reads it as NULL).
     """
     _refuse_fractional_integers(record)
     record.clean_fields(exclude=exclude or None)
-    _check_ranges(record)
+    _check_ranges(record, skip=exclude)
 
 
 def _full_clean(record: Model, *, fields_cleaned: bool = False,
-                unique_exclude: frozenset[str] = frozenset()) -> None:
+                unique_exclude: frozenset[str] = frozenset(),
+                unchanged: frozenset[str] = frozenset()) -> None:
     """``full_clean``, with a violated constraint reported under the field it guards.
 
     The CHECK constraints made from the kind's ``RANGES`` table are checked here in Python
@@ -119,11 +147,13 @@ def _full_clean(record: Model, *, fields_cleaned: bool = False,
     (``_constraints``) instead of by one ``SELECT`` each; the database still enforces all of
     them on insert.  ``fields_cleaned``: the caller ran ``clean_fields`` already
     (``_check_fields``), so it is not run twice; ``unique_exclude``: unique fields the caller
-    checks for many records at once (a new code, against the table, by ``codes_taken``).
+    checks for many records at once (a new code, against the table, by ``codes_taken``);
+    ``unchanged``: fields of a changed record that hold their stored or checked values, so
+    no unique check or constraint reading only those is asked again.
     """
-    if not fields_cleaned:
+    if not fields_cleaned:  # else ``_check_fields`` has checked the ranges (expiry has none)
         _refuse_fractional_integers(record)
-    _check_ranges(record)
+        _check_ranges(record)
     errors: dict = {}
     steps = [record.clean] if fields_cleaned else [record.clean_fields, record.clean]
     for step in steps:  # Model.full_clean's order, its errors merged the same way
@@ -133,11 +163,11 @@ def _full_clean(record: Model, *, fields_cleaned: bool = False,
             errors = error.update_error_dict(errors)
     exclude = {name for name in errors if name != NON_FIELD_ERRORS}
     try:
-        record.validate_unique(exclude=exclude | unique_exclude)
+        _validate_unique(record, exclude=frozenset(exclude | unique_exclude | unchanged))
     except ValidationError as error:
         errors = error.update_error_dict(errors)
     try:
-        validate_constraints(record, exclude=exclude)
+        validate_constraints(record, exclude=exclude, unchanged=unchanged)
     except ValidationError as error:
         errors = error.update_error_dict(errors)
     if errors:
@@ -205,21 +235,37 @@ def _require_role(actor: User | None, role: str, *, action: str,
         many.roles_granted.add(role)
 
 
+def _unchanged_fields(record: Model, before: Model | None) -> frozenset[str]:
+    """The fields of ``record`` that hold ``before``'s value: ``before`` is the same record
+    as stored (under its CHECK constraints) or a record of the kind just checked, so those
+    fields need no cleaning again; any other value is checked as ever."""
+    if before is None:
+        return frozenset()
+    now, then = vars(record), vars(before)  # stored values (a file field's name, say)
+    return frozenset(field.name for field in record._meta.concrete_fields
+                     if field.attname in now and field.attname in then
+                     and now[field.attname] == then[field.attname])
+
+
 def _prepare_new(record: CodedRecord, *, actor: User | None,
-                 many: CheckingMany | None = None) -> CodedRecord:
+                 many: CheckingMany | None = None, like: Model | None = None) -> CodedRecord:
     """Give ``record`` its code and check every field, range and constraint; write nothing.
 
     The check part of every create: ``_save_new`` saves what it approves, and a sheet import
     checks many records through it and writes them at once (``creation.new_records_insert``).
+    ``like``: a record of the same kind just checked in the same step (the first piece cut
+    from a run), whose values this one's equal fields need not be checked again for.
     """
     record.code = code_next(record.CODE_PREFIX)
     record.created_by = actor
     record.updated_by = actor
-    _check_fields(record, exclude=_checked_apart(record, many))
+    unchanged = _unchanged_fields(record, like)
+    _check_fields(record, exclude=tuple({*_checked_apart(record, many), *unchanged}))
     if isinstance(record, LifecycleRecord):
         refresh_expiry(record, None if many is None else many.rules)
     _full_clean(record, fields_cleaned=True,
-                unique_exclude=frozenset() if many is None else frozenset({"code"}))
+                unique_exclude=frozenset() if many is None else frozenset({"code"}),
+                unchanged=unchanged)
     return record
 
 
@@ -232,21 +278,25 @@ def _save_new(record: CodedRecord, *, actor: User | None, reason: str = "") -> C
 
 
 def _prepare_changed(record: StampedRecord, *, actor: User | None,
-                     many: CheckingMany | None = None) -> None:
+                     many: CheckingMany | None = None, before: Model | None = None) -> None:
     """Stamp a changed record with a new version and check it; write nothing.
 
     The check part of every change: ``_save_changed`` saves what it approves, and a sheet
     import keeps a checked copy in ``NewRecord.changed`` and writes many at once (a change
-    written that way moves no foreign key: they are not checked again).
+    written that way moves no foreign key: they are not checked again).  ``before``: the
+    record as stored or as last checked, whose unchanged fields are not cleaned again.
     """
     record.updated_by = actor
     record.version += 1
-    _check_fields(record, exclude=_checked_apart(record, many, stored=True))
+    unchanged = _unchanged_fields(record, before)
+    _check_fields(record, exclude=tuple({*_checked_apart(record, many, stored=True),
+                                         *unchanged}))
     if isinstance(record, LifecycleRecord):
         refresh_expiry(record, None if many is None else many.rules)
     # A change keeps the code; a new one is checked against the table by ``codes_taken``.
     _full_clean(record, fields_cleaned=True,
-                unique_exclude=frozenset() if many is None else frozenset({"code"}))
+                unique_exclude=frozenset() if many is None else frozenset({"code"}),
+                unchanged=unchanged)
 
 
 def _save_changed(record: StampedRecord, *, actor: User | None, reason: str = "") -> None:

@@ -4,11 +4,12 @@ A create service is split in two: ``<kind>_check`` applies every rule and return
 :class:`NewRecord` (the unsaved record with its code, its lineage inputs and links), and
 :func:`new_record_save` writes it.  A sheet import checks thousands of rows through the same
 check functions and writes them with :func:`new_records_insert`: per model one INSERT per
-batch for the records and one for their history rows (django-simple-history's
-``bulk_create_with_history``), then their many-to-many rows and lineage edges, then the
-stored records the new ones changed (a template consumed, a substrate's stage), one UPDATE
-run with many parameter sets, with their history rows in bulk, and the rows that record
-those changes.  The database's CHECK and unique constraints still hold on every row written.
+batch for the records and one for their history rows (the history rows
+django-simple-history writes, by ``_rows``), then their many-to-many rows and lineage
+edges, then the stored records the new ones changed (a template consumed, a substrate's
+stage), one UPDATE run with many parameter sets, with their history rows in bulk, and the
+rows that record those changes.  The database's CHECK and unique constraints still hold on
+every row written.
 """
 
 from __future__ import annotations
@@ -18,15 +19,14 @@ from collections.abc import Sequence
 from dataclasses import dataclass, field
 from datetime import date
 
-from django.db import connections, router
 from django.db.models import Model
 from django.utils import timezone
-from simple_history.utils import bulk_create_with_history, get_history_manager_for_model
 
 from ..models import CodedRecord, LineageEdge, StampedRecord
 from ._common import User, _lineage_edges, _link, _stamp_history
+from ._rows import history_rows_insert, rows_insert, rows_update
 
-BATCH_ROWS = 500  # rows per INSERT (SQLite's bound-parameter limit leaves room for ~30 columns)
+BATCH_ROWS = 500  # codes per query of codes_taken
 
 
 @dataclass
@@ -66,8 +66,7 @@ def new_record_save(new: NewRecord, *, actor: User | None) -> StampedRecord:
     return new.record
 
 
-def new_records_insert(news: Sequence[NewRecord], *, actor: User | None,
-                       batch_rows: int = BATCH_ROWS) -> None:
+def new_records_insert(news: Sequence[NewRecord], *, actor: User | None) -> None:
     """Write many checked records, batch by batch, with what :func:`new_record_save` writes.
 
     Records of each model are inserted in the given order, so their keys follow it.
@@ -77,7 +76,8 @@ def new_records_insert(news: Sequence[NewRecord], *, actor: User | None,
         _stamp_history(new.record, actor=actor, reason=new.reason)
         by_model[type(new.record)].append(new.record)
     for model, records in by_model.items():
-        bulk_create_with_history(records, model, batch_size=batch_rows, default_user=actor)
+        rows_insert(model, records)
+        history_rows_insert(model, records, update=False, actor=actor)
     through_rows: dict[type[Model], list[Model]] = defaultdict(list)
     edges = []
     for new in news:
@@ -90,15 +90,15 @@ def new_records_insert(news: Sequence[NewRecord], *, actor: User | None,
                                       for linked in targets]
         edges += _lineage_edges(new.inputs, new.record, used_on=new.used_on, actor=actor)
     for through, rows in through_rows.items():
-        through.objects.bulk_create(rows, batch_size=batch_rows)
-    LineageEdge.objects.bulk_create(edges, batch_size=batch_rows)
+        rows_insert(through, rows)
+    rows_insert(LineageEdge, edges)
     followers = [follower for new in news for follower in new.after]
     if followers:
-        new_records_insert(followers, actor=actor, batch_rows=batch_rows)
-    _changes_write(news, actor=actor, batch_rows=batch_rows)
+        new_records_insert(followers, actor=actor)
+    _changes_write(news, actor=actor)
 
 
-def _changes_write(news: Sequence[NewRecord], *, actor: User | None, batch_rows: int) -> None:
+def _changes_write(news: Sequence[NewRecord], *, actor: User | None) -> None:
     """The stored records the new ones changed, then the rows recording the steps.
 
     A record changed by two new records of one batch would get two history rows with its
@@ -110,16 +110,15 @@ def _changes_write(news: Sequence[NewRecord], *, actor: User | None, batch_rows:
     for new in news:
         for record, reason in new.changed:
             _stamp_history(record, actor=actor, reason=reason)
-            record.updated_at = now  # bulk_update does not run auto_now's pre_save
+            record.updated_at = now  # as auto_now's pre_save does on a save
             changed[type(record)].append(_saved_again(record, new.record))
         for row in new.rows:
             rows[type(row)].append(row)
     for model, records in changed.items():
-        _rows_update(model, records)
-        get_history_manager_for_model(model).bulk_history_create(
-            records, batch_size=batch_rows, update=True, default_user=actor)
+        rows_update(model, records)
+        history_rows_insert(model, records, update=True, actor=actor)
     for model, group in rows.items():
-        model.objects.bulk_create(group, batch_size=batch_rows)
+        rows_insert(model, group)
 
 
 def _saved_again(changed: StampedRecord, inserted: StampedRecord) -> StampedRecord:
@@ -129,23 +128,6 @@ def _saved_again(changed: StampedRecord, inserted: StampedRecord) -> StampedReco
         changed.pk, changed.created_at = inserted.pk, inserted.created_at
         changed._state.adding = False
     return changed
-
-
-def _rows_update(model: type[Model], records: Sequence[Model]) -> None:
-    """Every column but the key of each record's row: one UPDATE statement run with many
-    parameter sets.  In place of ``bulk_update``, whose CASE WHEN for each column and row
-    cost ~7 ms a row to build (70 of the 75 s of a 10,000-row linker sheet)."""
-    connection = connections[router.db_for_write(model)]
-    quote = connection.ops.quote_name
-    fields = [f for f in model._meta.concrete_fields if not f.primary_key]
-    key = model._meta.pk
-    sql = (f"UPDATE {quote(model._meta.db_table)} SET "
-           f"{', '.join(f'{quote(f.column)} = %s' for f in fields)} "
-           f"WHERE {quote(key.column)} = %s")
-    params = [[f.get_db_prep_save(getattr(record, f.attname), connection) for f in fields]
-              + [key.get_db_prep_save(record.pk, connection)] for record in records]
-    with connection.cursor() as cursor:
-        cursor.executemany(sql, params)
 
 
 def codes_taken(news: Sequence[NewRecord]) -> list[NewRecord]:

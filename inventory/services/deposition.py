@@ -358,7 +358,7 @@ def entered_charge_check(run: DepositionRun, analysis: DepositionAnalysis, *,
     new version, checked) and the flags of an off-target film; nothing written."""
     charged = copy.copy(run)
     _set_figures(charged, analysis, parsed=None)
-    _prepare_changed(charged, actor=actor, many=many)
+    _prepare_changed(charged, actor=actor, many=many, before=run)
     _result, flags = _compare(charged, analysis, pieces=pieces, actor=actor, many=many)
     return charged, flags
 

@@ -184,11 +184,13 @@ def deposition_run_check(
     new = NewRecord(_prepare_new(run, actor=actor, many=many), inputs=inputs, used_on=made_on)
     if template is not None:
         _consume_template(new, template, actor=actor, many=many)
+    first = None  # the pieces differ in code and label only: the first is checked in full
     for number in range(1, pieces + 1):
         piece = _prepare_new(Substrate(
             deposition_run=run, piece_label=f"{run.code}/{number}", area_cm2=piece_area_cm2,
             made_on=made_on, storage=storage,
-        ), actor=actor, many=many)
+        ), actor=actor, many=many, like=first)
+        first = first or piece
         new.after.append(NewRecord(piece, inputs=[(run, "cut from")], used_on=made_on))
     if entered is not None:
         charged, flags = entered_charge_check(

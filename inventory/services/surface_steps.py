@@ -100,8 +100,9 @@ def _substrate_at_stage(substrate: Substrate, stage: str, *, actor: User | None,
         moved = substrate
     else:
         moved = copy.copy(substrate)
+    before = copy.copy(moved)
     moved.stage = stage
-    _prepare_changed(moved, actor=actor, many=many)
+    _prepare_changed(moved, actor=actor, many=many, before=before)
     return moved
 
 
