@@ -32,7 +32,7 @@ from ..models import (
 from ..models.ranges import PastDate
 from ..roles import require_role
 from ..shelf_life import refresh_expiry
-from ._constraints import validate_constraints
+from ._constraints import validate_constraints, validate_unique
 
 User = AbstractBaseUser
 
@@ -108,23 +108,6 @@ def _integer_fields(model: type[Model]) -> tuple[IntegerField, ...]:
                  if isinstance(field, IntegerField))
 
 
-@cache
-def _unique_checks(model: type[Model], exclude: frozenset[str]) -> tuple[list, list]:
-    """What ``Model.validate_unique`` checks, which depends on the model and ``exclude``
-    only: worked out once, where Django works it out for every record."""
-    return model._get_unique_checks(model(), exclude=exclude)
-
-
-def _validate_unique(record: Model, *, exclude: frozenset[str]) -> None:
-    """``Model.validate_unique`` with the checks worked out once per model (above)."""
-    unique_checks, date_checks = _unique_checks(type(record), exclude)
-    errors = record._perform_unique_checks(unique_checks)
-    for name, found in record._perform_date_checks(date_checks).items():
-        errors.setdefault(name, []).extend(found)
-    if errors:
-        raise ValidationError(errors)
-
-
 def _check_fields(record: Model, *, exclude: Sequence[str] = ()) -> None:
     """Every field's own cleaning (text to numbers and dates), then its range; the fields in
     ``exclude`` are checked otherwise (see ``_checked_apart``, ``_unchanged_fields``).
@@ -163,7 +146,7 @@ def _full_clean(record: Model, *, fields_cleaned: bool = False,
             errors = error.update_error_dict(errors)
     exclude = {name for name in errors if name != NON_FIELD_ERRORS}
     try:
-        _validate_unique(record, exclude=frozenset(exclude | unique_exclude | unchanged))
+        validate_unique(record, exclude=frozenset(exclude | unique_exclude | unchanged))
     except ValidationError as error:
         errors = error.update_error_dict(errors)
     try:

@@ -9,7 +9,8 @@ only from plain comparisons of fields with constants or other fields (``isnull``
 logic (a comparison with NULL is unknown, and a CHECK passes unless its condition is false),
 compiled once per constraint into a function of the record.
 Any other condition, or a NaN value, goes to the database as before.  The database itself
-still enforces every constraint on insert and update.
+still enforces every constraint on insert and update.  ``validate_unique`` is Django's, with
+the list of unique checks (which depends on the model only) worked out once per model.
 """
 
 from __future__ import annotations
@@ -207,5 +208,22 @@ def validate_constraints(record: Model, *, exclude: set[str],
                 errors.setdefault(constraint.fields[0], []).append(error)
             else:
                 errors = error.update_error_dict(errors)
+    if errors:
+        raise ValidationError(errors)
+
+
+@cache
+def _unique_checks(model: type[Model], exclude: frozenset[str]) -> tuple[list, list]:
+    """What ``Model.validate_unique`` checks, which depends on the model and ``exclude``
+    only: worked out once, where Django works it out for every record."""
+    return model._get_unique_checks(model(), exclude=exclude)
+
+
+def validate_unique(record: Model, *, exclude: frozenset[str]) -> None:
+    """``Model.validate_unique`` with the checks worked out once per model (above)."""
+    unique_checks, date_checks = _unique_checks(type(record), exclude)
+    errors = record._perform_unique_checks(unique_checks)
+    for name, found in record._perform_date_checks(date_checks).items():
+        errors.setdefault(name, []).extend(found)
     if errors:
         raise ValidationError(errors)
