@@ -142,8 +142,9 @@ class ImportContext:
         self._changed_codes.update(_changed_codes(new))
 
     def finish(self, *, write: bool) -> None:
-        """At the end of the rows: write what is checked (``write``: no row failed); either
-        way a new code a stored record holds sends the sheet down the per-row path."""
+        """At the end of the rows: write what is checked (``write``: an import in which no
+        row failed; a dry run checks without writing); either way a new code a stored record
+        holds sends the sheet down the per-row path."""
         if not write and codes_taken(self.pending):
             raise BulkFallback("a new code is taken")
         if write:

@@ -5,6 +5,13 @@ savepoint so one bad row does not hide the next one's problems.  A dry run (and 
 that met any row error) then rolls the whole transaction back; an import without errors
 commits it.  So a dry run reports exactly what the services would refuse, including a
 parent lot that an earlier row of the same file creates, and nothing is ever half saved.
+
+On the bulk path (``bulk=True``) the rows are checked by their services' check parts and
+written in batches (``ImportContext``).  A dry run writes only what a later row must meet in
+the database (a parent it names); the rest it checks without writing, including the new
+codes against the table.  What only an insert could still refuse (a constraint the checks
+do not foresee; none is known) would make the import fall back to the per-row path, which
+then reports it by row and saves nothing.
 """
 
 from __future__ import annotations
@@ -340,7 +347,7 @@ def _run(spec: Kind, sheet: Sheet, plans: list[ColumnPlan], report: ImportReport
             ctx.preload(sheet.rows, plans)
         for row in sheet.rows:
             _apply_row(spec, row, plans, ctx, report)
-        ctx.finish(write=report.ok)
+        ctx.finish(write=commit and report.ok)
         if commit and report.ok:
             SheetKey.objects.bulk_create(
                 [SheetKey(kind=k, key=key, record_code=code)

@@ -203,9 +203,14 @@ def _checked_apart(record: Model, many: CheckingMany | None, *,
     """
     if many is None:
         return ()
-    return (*STAMP_FIELDS, *(field.name for field in record._meta.concrete_fields
-                             if field.many_to_one and field.name not in STAMP_FIELDS
-                             and (stored or field.get_cached_value(record, None) is not None)))
+    return (*STAMP_FIELDS, *(field.name for field in _parent_fields(type(record))
+                             if stored or field.get_cached_value(record, None) is not None))
+
+
+@cache
+def _parent_fields(model: type[Model]) -> tuple:  # its foreign keys but the stamps
+    return tuple(field for field in model._meta.concrete_fields
+                 if field.many_to_one and field.name not in STAMP_FIELDS)
 
 
 def _require_role(actor: User | None, role: str, *, action: str,
