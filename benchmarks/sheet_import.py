@@ -361,8 +361,10 @@ def run_loop(rows: int, bath: str, templates: list[str], on_target_C: float) -> 
         transaction.set_rollback(True)
 
 
-def rollback_deposition_runs() -> None:
-    """Remove what a run import wrote and release its templates again."""
+def rollback_deposition_runs(last_run_pk: int) -> None:
+    """Remove the runs an import wrote (key above ``last_run_pk``) with their pieces, edges,
+    flags and status changes, and release their templates again; what other kinds of the
+    same benchmark made (the surface kinds' substrates) stays."""
     from inventory.models import (
         CodeCounter,
         DepositionRun,
@@ -373,20 +375,31 @@ def rollback_deposition_runs() -> None:
         TemplateAssembly,
     )
 
-    Flag.history.all().delete()
-    Flag.objects.all().delete()
-    LineageEdge.objects.filter(child_code__startswith="SUB-").delete()
-    LineageEdge.objects.filter(child_code__startswith="DEP-").delete()
-    StatusChange.objects.filter(to_status="consumed").delete()
-    for model in (Substrate, DepositionRun):
-        model.history.all().delete()
-        model.objects.all().delete()
-    TemplateAssembly.history.filter(status="consumed").delete()
-    TemplateAssembly.objects.filter(status="consumed").update(status="released", version=1)
+    runs = DepositionRun.objects.filter(pk__gt=last_run_pk)
+    pieces = Substrate.objects.filter(deposition_run__in=runs)
+    templates = TemplateAssembly.objects.filter(pk__in=runs.values("template_id"))
+    codes = [*runs.values_list("code", flat=True), *pieces.values_list("code", flat=True)]
+    template_codes = list(templates.values_list("code", flat=True))
+    for start in range(0, max(len(codes), len(template_codes)), 500):
+        part = codes[start:start + 500]
+        Flag.history.filter(target_code__in=part).delete()
+        Flag.objects.filter(target_code__in=part).delete()
+        LineageEdge.objects.filter(child_code__in=part).delete()
+        StatusChange.objects.filter(record_code__in=template_codes[start:start + 500],
+                                    to_status="consumed").delete()
+    TemplateAssembly.history.filter(id__in=templates.values("pk"), status="consumed").delete()
+    templates.update(status="released", version=1)
+    Substrate.history.filter(id__in=pieces.values("pk")).delete()
+    pieces.delete()
+    DepositionRun.history.filter(id__gt=last_run_pk).delete()
+    runs.delete()
     from exchange.models import SheetKey
 
     SheetKey.objects.filter(kind="deposition_runs").delete()
-    CodeCounter.objects.filter(prefix__in=["DEP", "SUB", "FLG"]).update(last_value=0)
+    for prefix, model in (("DEP", DepositionRun), ("SUB", Substrate), ("FLG", Flag)):
+        last = model.objects.order_by("-pk").values_list("code", flat=True).first()
+        CodeCounter.objects.filter(prefix=prefix).update(
+            last_value=int(last.rsplit("-", 1)[1]) if last else 0)
 
 
 def run_sheet(rows: int, bath: str, templates: list[str], on_target_C: float) -> bytes:
@@ -498,7 +511,7 @@ def rollback_import(kind: str, before: tuple[int, int | None]) -> None:
     from inventory.models import CodeCounter, LineageEdge
 
     if kind == "deposition_runs":
-        return rollback_deposition_runs()
+        return rollback_deposition_runs(before[0])
     model = import_model(kind)
     last_pk, last_code = before
     made = model.objects.filter(pk__gt=last_pk)
