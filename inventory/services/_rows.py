@@ -50,6 +50,9 @@ _KEY_TYPES: dict[type[models.Field], tuple[type, ...]] = {
     **_PLAIN_TYPES,
 }
 
+BATCH_ROWS = 500
+MAX_PARAMETERS = 65_535  # bound parameters in one statement (PostgreSQL's wire protocol)
+
 Column = tuple[str, tuple[type, ...], Callable[[Any], Any], models.Field]
 
 
@@ -107,7 +110,10 @@ def _insert(model: type[Model], rows: list[list[Any]], columns: Sequence[Column]
     """Insert prepared ``rows`` batch by batch; the new keys in order if ``returning``."""
     quote = connection.ops.quote_name
     fields = [column[3] for column in columns]
-    batch = max(1, connection.ops.bulk_batch_size(fields, rows))
+    # The backend's bound (SQLite: 999 parameters), and never more than BATCH_ROWS rows or
+    # PostgreSQL's 65,535 parameters in one statement.
+    batch = max(1, min(connection.ops.bulk_batch_size(fields, rows), BATCH_ROWS,
+                       MAX_PARAMETERS // len(fields)))
     head = (f"INSERT INTO {quote(model._meta.db_table)} "
             f"({', '.join(quote(field.column) for field in fields)}) VALUES ")
     one = f"({', '.join(['%s'] * len(fields))})"
