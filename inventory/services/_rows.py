@@ -118,6 +118,8 @@ def _insert(model: type[Model], rows: list[list[Any]], columns: Sequence[Column]
             f"({', '.join(quote(field.column) for field in fields)}) VALUES ")
     one = f"({', '.join(['%s'] * len(fields))})"
     tail = f" RETURNING {quote(model._meta.pk.column)}" if returning else ""
+    if connection.vendor == "postgresql":
+        return _insert_each(connection, head + one + tail, rows, returning=returning)
     keys: list[Any] = []
     with connection.cursor() as cursor:
         for start in range(0, len(rows), batch):
@@ -127,6 +129,24 @@ def _insert(model: type[Model], rows: list[list[Any]], columns: Sequence[Column]
             if returning:
                 keys += [found[0] for found in cursor.fetchall()]
     return keys
+
+
+def _insert_each(connection, sql: str, rows: list[list[Any]], *,
+                 returning: bool) -> list[Any]:
+    """PostgreSQL: the one-row statement run once per row in psycopg's pipeline
+    (``executemany``), whose parsed form psycopg keeps; a statement of many rows it parses
+    afresh each time, placeholder by placeholder (that was 9 of 24 s of a 2,000-run
+    import).  Errors are Django's, as through any Django cursor."""
+    with connection.cursor() as cursor, connection.wrap_database_errors:
+        raw = cursor.cursor
+        raw.executemany(sql, rows, returning=returning)
+        if not returning:
+            return []
+        keys = []
+        while True:
+            keys.append(raw.fetchone()[0])
+            if not raw.nextset():
+                return keys
 
 
 def _connection(model: type[Model]):
