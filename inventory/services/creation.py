@@ -3,13 +3,12 @@
 A create service is split in two: ``<kind>_check`` applies every rule and returns a
 :class:`NewRecord` (the unsaved record with its code, its lineage inputs and links), and
 :func:`new_record_save` writes it.  A sheet import checks thousands of rows through the same
-check functions and writes them with :func:`new_records_insert`: per model one INSERT per
-batch for the records and one for their history rows (the history rows
-django-simple-history writes, by ``_rows``), then their many-to-many rows and lineage
-edges, then the stored records the new ones changed (a template consumed, a substrate's
-stage), one UPDATE run with many parameter sets, with their history rows in bulk, and the
-rows that record those changes.  The database's CHECK and unique constraints still hold on
-every row written.
+check functions and writes them with :func:`new_records_insert` (by ``_rows``: one INSERT
+per batch, on PostgreSQL one pipelined INSERT per row): the records and their history rows,
+then their many-to-many rows and lineage edges, then the stored records the new ones
+changed (a template consumed, a substrate's stage), one UPDATE run with many parameter
+sets, with their history rows, and the rows that record those changes.  The database's
+CHECK and unique constraints still hold on every row written.
 """
 
 from __future__ import annotations
