@@ -1,5 +1,6 @@
-"""Many rows of one model written with one SQL statement per batch: new rows (their keys
-read back), their history rows, and changed rows.
+"""Many rows of one model written at once: new rows (their keys read back), their history
+rows, and changed rows; one statement per batch (SQLite), or the one-row statement in
+psycopg's pipeline (PostgreSQL, ``_insert_each``), or one UPDATE with many parameter sets.
 
 Hand-written because Django's ``bulk_create`` runs its SQL compiler over every value (an
 expression check, ``pre_save`` and the field's preparation, each a few method calls), and
@@ -24,11 +25,7 @@ from typing import Any
 from django.db import connections, models, router
 from django.db.models import Model
 from django.utils import timezone
-from simple_history.utils import (
-    get_change_reason_from_object,
-    get_history_manager_for_model,
-    get_history_model_for_model,
-)
+from simple_history.utils import get_change_reason_from_object, get_history_model_for_model
 
 # Exact field classes whose preparation leaves a value of these types unchanged, and which
 # every supported driver (sqlite3, psycopg) takes as it is.
@@ -194,8 +191,7 @@ def history_rows_insert(model: type[Model], records: Sequence[Model], *, update:
     history = get_history_model_for_model(model)
     connection = _connection(history)
     columns = _columns(history, connection)
-    tracked = {field.attname for field in get_history_manager_for_model(model).model
-               .tracked_fields}
+    tracked = {field.attname for field in history.tracked_fields}
     now = timezone.now()
     rows = []
     for record in records:
