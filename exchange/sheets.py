@@ -94,11 +94,12 @@ def _check_zip(content: bytes, file_name: str) -> None:
                               f"{MAX_UNZIPPED_BYTES / 1e6:.0f} MB.", "file_too_large")
 
 
-def _load(content: bytes, file_name: str, *, data_only: bool):
+def _load(content: bytes, file_name: str, *, data_only: bool, read_only: bool = False):
     import openpyxl
 
     try:
-        return openpyxl.load_workbook(io.BytesIO(content), data_only=data_only, read_only=False)
+        return openpyxl.load_workbook(io.BytesIO(content), data_only=data_only,
+                                      read_only=read_only)
     except Exception:  # openpyxl raises many kinds on a damaged or foreign zip
         raise _not_a_sheet(file_name) from None
 
@@ -115,35 +116,66 @@ def _pick_sheet(workbook, sheet_name: str | None, file_name: str):
     return visible[0]
 
 
+def _read_grid(content: bytes, file_name: str, sheet_name: str | None) -> tuple[str, list]:
+    """The sheet's title and its saved values, row 1 first, in openpyxl's read-only
+    (streaming) mode, which makes no cell objects (half the time of a full read)."""
+    book = _load(content, file_name, data_only=True, read_only=True)
+    try:
+        worksheet = _pick_sheet(book, sheet_name, file_name)
+        # The <dimension> record is advisory (some programs write "A1" whatever the sheet
+        # holds); read every row there is instead of trusting it.
+        worksheet.reset_dimensions()
+        try:
+            grid = [list(row) for row in worksheet.iter_rows(min_row=1, min_col=1,
+                                                              values_only=True)]
+        except Exception:  # a damaged worksheet part is found only while streaming it
+            raise _not_a_sheet(file_name) from None
+        return worksheet.title, grid
+    finally:
+        book.close()
+
+
 def _read_xlsx(content: bytes, *, file_name: str, sheet_name: str | None) -> Sheet:
     _check_zip(content, file_name)
-    values_book = _load(content, file_name, data_only=True)
-    values = _pick_sheet(values_book, sheet_name, file_name)
-    grid = [list(row) for row in values.iter_rows(values_only=True)]
+    features = _sheet_features(content)
+    title, grid = _read_grid(content, file_name, sheet_name)
     while grid and all(_blank(v) for v in grid[-1]):
         grid.pop()
-    if not grid:
-        raise refusal("file", f"{file_name}: the sheet '{values.title}' is empty.",
-                      "empty_sheet")
-    headers = ["" if v is None else str(v).strip() for v in grid[0]]
-    merged = _merged_cells(values)
+    header_index = next((i for i, cells in enumerate(grid)
+                         if not all(_blank(v) for v in cells)), None)
+    if header_index is None:
+        raise refusal("file", f"{file_name}: the sheet '{title}' is empty.", "empty_sheet")
+    headers = ["" if v is None else str(v).strip() for v in grid[header_index]]
+    merged, hidden = _layout(content, file_name, title) if "layout" in features else ({}, set())
     rows = []
-    for offset, cells in enumerate(grid[1:], start=2):
+    # Rows keep the numbers the spreadsheet program shows, blank leading rows included.
+    for number, cells in enumerate(grid[header_index + 1:], start=header_index + 2):
         if all(_blank(v) for v in cells):
             continue
-        row = SheetRow(offset, cells + [None] * (len(headers) - len(cells)))
-        if values.row_dimensions[offset].hidden:
+        row = SheetRow(number, cells + [None] * (len(headers) - len(cells)))
+        if number in hidden:
             row.problems.append((None, "the row is hidden in the sheet; unhide it (or delete "
                                        "it) so what is imported is what you see.", "hidden_row"))
-        for column, where in merged.get(offset, ()):
+        for column, where in merged.get(number, ()):
             row.problems.append((column, f"cells {where} are merged; unmerge them and write the "
                                          "value in every row.", "merged_cells"))
         rows.append(row)
-    for _column, where in merged.get(1, ()):
+    for _column, where in merged.get(header_index + 1, ()):
         raise refusal("file", f"{file_name}: header cells {where} are merged; give each "
                               "column its own name.", "merged_cells")
-    _mark_formulas_without_values(content, file_name, values.title, rows)
+    if "formula" in features:
+        _mark_formulas_without_values(content, file_name, title, rows)
     return Sheet(headers, rows, "xlsx")
+
+
+def _layout(content: bytes, file_name: str, title: str
+            ) -> tuple[dict[int, list[tuple[int, str]]], set[int]]:
+    """Merged ranges by row and the hidden rows of sheet ``title``, from openpyxl's full
+    read (the streaming mode reports neither); asked only when the XML holds either."""
+    worksheet = _load(content, file_name, data_only=True)[title]
+    hidden = {number for number, dimension in worksheet.row_dimensions.items()
+              if dimension.hidden}
+    return _merged_cells(worksheet), hidden
 
 
 def _merged_cells(worksheet) -> dict[int, list[tuple[int, str]]]:
@@ -163,7 +195,7 @@ def _mark_formulas_without_values(content: bytes, file_name: str, title: str,
     gaps costs nothing extra.
     """
     gaps = [(row, index) for row in rows for index, value in enumerate(row.cells) if value is None]
-    if not gaps or not _has_formulas(content):
+    if not gaps:
         return
     formulas = _load(content, file_name, data_only=False)[title]
     for row, index in gaps:
@@ -174,33 +206,41 @@ def _mark_formulas_without_values(content: bytes, file_name: str, title: str,
                                         "spreadsheet program, or paste values.", "formula"))
 
 
-# A cell's formula is its <f> element (ECMA-376 Part 1, 18.3.1.40), with any namespace
-# prefix; other worksheet elements beginning with f (filterColumn, firstFooter) are not.
-_FORMULA_TAG = re.compile(rb"<(?:[A-Za-z_][\w.-]*:)?f[\s>/]")
+# What the worksheet XML is scanned for (ECMA-376 Part 1), any namespace prefix: a cell's
+# formula is its <f> element (18.3.1.40; other elements beginning with f, filterColumn or
+# firstFooter, are not); a merged range is <mergeCell> (18.3.1.55); a hidden row carries the
+# hidden attribute (18.3.1.73; a hidden column's too, which only costs the full read).
+_FEATURE_TAGS = re.compile(rb"<(?:[A-Za-z_][\w.-]*:)?(?:(f)[\s>/]|(mergeCell)[\s>/])"
+                           rb"|\s(hidden)\s*=\s*[\"'](?:1|true)[\"']")
 _SCAN_CHUNK_BYTES = 1 << 20
 
 
-def _xml_has_formula(chunks: Iterable[bytes]) -> bool:
-    """Whether worksheet XML, read in ``chunks``, holds a formula element anywhere."""
+def _xml_features(chunks: Iterable[bytes]) -> set[str]:
+    """Which of "formula" and "layout" (merged cells, hidden rows) worksheet XML, read in
+    ``chunks``, holds anywhere."""
+    found: set[str] = set()
     tail = b""
     for chunk in chunks:
         seen = tail + chunk
-        if _FORMULA_TAG.search(seen):
-            return True
+        for match in _FEATURE_TAGS.finditer(seen):
+            found.add("formula" if match.group(1) else "layout")
+        if found == {"formula", "layout"}:
+            break
         tail = seen[-32:]  # a tag split across chunks
-    return False
+    return found
 
 
-def _has_formulas(content: bytes) -> bool:
-    """Whether any worksheet of the workbook holds a formula, from its XML without a second
-    full read of the workbook (which doubled the time of every sheet with an empty cell)."""
+def _sheet_features(content: bytes) -> set[str]:
+    """``_xml_features`` of every worksheet of the workbook, from the XML alone: a full read
+    of the workbook (cell objects, merged ranges, row heights) is needed only for what it
+    finds, and the formula view only for a formula that might hide behind an empty cell."""
+    found: set[str] = set()
     with zipfile.ZipFile(io.BytesIO(content)) as archive:
         for name in archive.namelist():
             if name.startswith("xl/worksheets/") and name.endswith(".xml"):
                 with archive.open(name) as part:
-                    if _xml_has_formula(iter(lambda p=part: p.read(_SCAN_CHUNK_BYTES), b"")):
-                        return True
-    return False
+                    found |= _xml_features(iter(lambda p=part: p.read(_SCAN_CHUNK_BYTES), b""))
+    return found
 
 
 def _blank(value) -> bool:

@@ -28,13 +28,8 @@ def xlsx_bytes(rows: list[list], edit=None) -> bytes:
     return out.getvalue()
 
 
-def with_saved_formula_results(content: bytes, results: dict[str, object]) -> bytes:
-    """Write the result a spreadsheet program would have saved beside each formula.
-
-    openpyxl writes formulas without results (an empty ``<v>``); a workbook saved by a spreadsheet
-    program carries them (ECMA-376 Part 1, §18.3.1.96: ``<v>`` holds the cell's value).
-    """
-    import re
+def with_sheet_xml(content: bytes, edit) -> bytes:
+    """The workbook with its first worksheet's XML text replaced by ``edit(text)``."""
     import zipfile
 
     source = zipfile.ZipFile(io.BytesIO(content))
@@ -43,11 +38,24 @@ def with_saved_formula_results(content: bytes, results: dict[str, object]) -> by
         for item in source.infolist():
             data = source.read(item.filename)
             if item.filename == "xl/worksheets/sheet1.xml":
-                text = data.decode()
-                for cell, value in results.items():
-                    # openpyxl writes an empty <v /> or <v></v> (with lxml installed).
-                    text = re.sub(rf'(<c r="{cell}"[^>]*><f>[^<]*</f>)(<v ?/>|<v></v>)',
-                                  rf"\g<1><v>{value}</v>", text)
-                data = text.encode()
+                data = edit(data.decode()).encode()
             target.writestr(item, data)
     return out.getvalue()
+
+
+def with_saved_formula_results(content: bytes, results: dict[str, object]) -> bytes:
+    """Write the result a spreadsheet program would have saved beside each formula.
+
+    openpyxl writes formulas without results (an empty ``<v>``); a workbook saved by a spreadsheet
+    program carries them (ECMA-376 Part 1, §18.3.1.96: ``<v>`` holds the cell's value).
+    """
+    import re
+
+    def save_results(text: str) -> str:
+        for cell, value in results.items():
+            # openpyxl writes an empty <v /> or <v></v> (with lxml installed).
+            text = re.sub(rf'(<c r="{cell}"[^>]*><f>[^<]*</f>)(<v ?/>|<v></v>)',
+                          rf"\g<1><v>{value}</v>", text)
+        return text
+
+    return with_sheet_xml(content, save_results)

@@ -13,7 +13,7 @@ from django.core.exceptions import ValidationError
 from exchange.importer import import_sheet
 from inventory.models import SphereLot
 
-from .sheets import csv_bytes, with_saved_formula_results, xlsx_bytes
+from .sheets import csv_bytes, with_saved_formula_results, with_sheet_xml, xlsx_bytes
 
 pytestmark = pytest.mark.django_db
 
@@ -163,6 +163,63 @@ def test_blank_cells_without_formulas_read_the_workbook_once(maker, today, monke
     assert [k["data_only"] for k in loads] == [True, False]
 
 
+def test_a_plain_sheet_is_read_in_one_streaming_pass(maker, today, monkeypatch):
+    # openpyxl's read-only (streaming) mode builds no cell objects; the full read, which
+    # knows merged ranges and hidden rows, is needed only when the sheet's XML holds either.
+    from exchange import sheets
+
+    loads = []
+    real_load = sheets._load
+    monkeypatch.setattr(sheets, "_load", lambda *a, **k: loads.append(k) or real_load(*a, **k))
+    assert run(xlsx_bytes([HEADER, GOOD, GOOD]), actor=maker, commit=False).ok
+    assert [k.get("read_only", False) for k in loads] == [True]
+    loads.clear()
+    merged = xlsx_bytes([HEADER, GOOD, GOOD], edit=lambda sheet: sheet.merge_cells("B2:B3"))
+    assert {e.code for e in run(merged, actor=maker).errors} == {"merged_cells"}
+    assert [k.get("read_only", False) for k in loads] == [True, False]
+
+
+def test_row_numbers_are_the_sheets_own_below_blank_leading_rows(maker, today):
+    # A header on row 3 (two blank rows above it): a bad cell is reported on the row the
+    # spreadsheet program shows, not counted from the header.
+    bad = ["polystyrene", "about 600", 10, date(2026, 5, 1)]
+    content = xlsx_bytes([[], [], HEADER, GOOD, bad])
+    assert errors_of(run(content, actor=maker)) == {(5, "Nominal diameter (nm)",
+                                                     "not_a_number")}
+
+
+def test_a_wrong_dimension_record_does_not_cut_the_sheet_short(maker, today):
+    # The <dimension> element (ECMA-376 Part 1, 18.3.1.35) is advisory; some programs write
+    # "A1" whatever the sheet holds.  A streaming read that trusted it would see one cell.
+    import re
+
+    def one_cell_dimension(text: str) -> str:
+        text, count = re.subn(r'<dimension ref="[^"]*"', '<dimension ref="A1"', text)
+        assert count == 1
+        return text
+
+    content = with_sheet_xml(xlsx_bytes([HEADER, GOOD, GOOD, GOOD]), one_cell_dimension)
+    report = run(content, actor=maker)
+    assert report.committed and len(report.created) == 3, report.errors
+
+
+@pytest.mark.parametrize("xml, found", [
+    (b'<sheetData><row r="2" spans="1:4"><c r="A2"/></row></sheetData>', set()),
+    (b'<sheetData><row r="3" hidden="1"><c r="A3"/></row></sheetData>', {"layout"}),
+    (b'<x:mergeCells count="1"><x:mergeCell ref="B2:B3"/></x:mergeCells>', {"layout"}),
+    (b'<c r="B2"><f>300*2</f></c><mergeCells count="1"><mergeCell ref="A1:B1"/></mergeCells>',
+     {"formula", "layout"}),
+])
+def test_the_sheet_scan_finds_merges_hidden_rows_and_formulas(xml, found):
+    # ECMA-376 Part 1: merged ranges are <mergeCell> (18.3.1.55), a hidden row is the row's
+    # hidden attribute (18.3.1.73), a formula is <f> (18.3.1.40).
+    from exchange.sheets import _xml_features
+
+    head = b'<worksheet xmlns="http://schemas.openxmlformats.org/spreadsheetml/2006/main">'
+    whole = head + xml + b"</worksheet>"
+    assert _xml_features(whole[i:i + 5] for i in range(0, len(whole), 5)) == found
+
+
 @pytest.mark.parametrize("xml, found", [
     (b'<c r="B2"><f>300*2</f><v></v></c>', True),
     (b'<x:c r="B2"><x:f t="shared" ref="B2:B9" si="0">A2*2</x:f></x:c>', True),
@@ -173,9 +230,10 @@ def test_blank_cells_without_formulas_read_the_workbook_once(maker, today, monke
 def test_the_formula_scan_finds_the_formula_element_and_nothing_else(xml, found):
     # ECMA-376 Part 1, 18.3.1.40: a cell's formula is the <f> element (any namespace prefix);
     # other sheet elements that begin with f (filterColumn, firstFooter) are not formulas.
-    from exchange.sheets import _xml_has_formula
+    from exchange.sheets import _xml_features
 
     head = b'<worksheet xmlns="http://schemas.openxmlformats.org/spreadsheetml/2006/main">'
     whole = head + xml + b"</worksheet>"
     # read in chunks of 3 bytes: a tag split between two chunks is still seen
-    assert _xml_has_formula(whole[i:i + 3] for i in range(0, len(whole), 3)) is found
+    features = _xml_features(whole[i:i + 3] for i in range(0, len(whole), 3))
+    assert ("formula" in features) is found
