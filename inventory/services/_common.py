@@ -4,16 +4,13 @@ from __future__ import annotations
 
 import dataclasses
 import math
-from collections.abc import Callable, Iterable, Iterator, Sequence
-from contextlib import contextmanager
+from collections.abc import Callable, Iterable, Sequence
 from datetime import date
 from functools import cache
-from pathlib import PurePosixPath
 
-from django.conf import settings
 from django.contrib.auth.models import AbstractBaseUser
 from django.core.exceptions import NON_FIELD_ERRORS, ValidationError
-from django.db.models import FileField, IntegerField, Model
+from django.db.models import IntegerField, Model
 from django.utils import timezone
 
 from ..codes import code_next
@@ -360,41 +357,3 @@ def _check_substrates_usable(substrates: Sequence[Substrate], *, role: str, on_d
             raise refusal(date_field, f"{substrate.code} was made on "
                                       f"{substrate.made_on.isoformat()}, after this step.",
                           "date_order")
-
-
-# Instrument exports the readers understand: text tables and JCAMP-DX (IUPAC).
-INSTRUMENT_FILE_EXTENSIONS = (".csv", ".txt", ".tsv", ".dat", ".asc", ".dx", ".jdx", ".jcamp")
-
-
-def _check_upload(content: bytes, *, field: str, filename: str,
-                  extensions: Sequence[str] | None = INSTRUMENT_FILE_EXTENSIONS) -> None:
-    """Refuse an upload over ``SERSLEDGER_MAX_UPLOAD_BYTES`` or of a type nobody reads.
-
-    Checked in the services so a script, the API and the pages meet the same limit.
-    """
-    limit = settings.SERSLEDGER_MAX_UPLOAD_BYTES
-    if len(content) > limit:
-        raise refusal(field, f"{filename or 'The file'} is {len(content) / 1e6:.1f} MB; the "
-                             f"limit is {limit / 1e6:.1f} MB.", "file_too_large")
-    suffix = PurePosixPath(filename.replace("\\", "/")).suffix.lower()
-    if extensions is not None and suffix not in extensions:
-        raise refusal(field, f"{filename or 'The file'}: a {suffix or 'nameless'} file is not "
-                             f"read here; send one of {', '.join(extensions)}.", "file_type")
-
-
-@contextmanager
-def _files_removed_if_failed(*records: Model) -> Iterator[None]:
-    """If the block fails, delete the files ``records`` already stored.
-
-    The rows roll back with the transaction, but storage is not transactional: without
-    this an interrupted import would leave orphan files behind.
-    """
-    try:
-        yield
-    except BaseException:
-        for record in records:
-            for field in record._meta.concrete_fields:
-                stored = getattr(record, field.name) if isinstance(field, FileField) else None
-                if stored and getattr(stored, "_committed", False) and stored.name:
-                    stored.storage.delete(stored.name)
-        raise

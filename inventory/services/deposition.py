@@ -33,7 +33,7 @@ from inventory.physics.errors import AnalysisInputError
 from ..errors import refusal
 from ..models import DepositionRun, Substrate
 from ..roles import MAKER, require_role
-from ._common import CheckingMany, User, _check_upload, _prepare_changed, _save_changed
+from ._common import CheckingMany, User, _prepare_changed, _save_changed
 from .creation import NewRecord
 from .deposition_target import (
     DEFAULT_MAX_ABS_DEVIATION_HEIGHT_OVER_DIAMETER,
@@ -52,6 +52,7 @@ from .deposition_target import (
 )
 from .lifecycle import check_not_voided
 from .records import sha256_of
+from .uploads import check_upload
 
 __all__ = [
     "DEFAULT_MAX_ABS_DEVIATION_HEIGHT_OVER_DIAMETER", "FLAG_CATEGORY",
@@ -143,7 +144,7 @@ def _prepare(run: DepositionRun, filename: str, content: bytes, *, time_unit, cu
     Runs before anything is written, so a refused file leaves no row and no stored file.
     """
     name = _clean_filename(filename)
-    _check_upload(content, field=FILE_FIELD, filename=name)
+    check_upload(content, field=FILE_FIELD, filename=name)
     parsed, analysis = _parse_and_analyse(
         run, name, content, time_unit=time_unit, current_unit=current_unit,
         cathodic_sign=cathodic_sign, start_s=start_s, end_s=end_s)

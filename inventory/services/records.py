@@ -16,8 +16,6 @@ from ._common import (
     CheckingMany,
     User,
     _check_substrates_usable,
-    _check_upload,
-    _files_removed_if_failed,
     _link,
     _prepare_new,
     _require_not_future,
@@ -27,7 +25,7 @@ from ._common import (
 )
 from .creation import NewRecord, new_record_save
 from .lifecycle import record_transition
-from .uploads import RawUpload
+from .uploads import RawUpload, check_upload, files_removed_if_failed
 
 
 def sha256_of(content: bytes) -> str:
@@ -52,7 +50,7 @@ def dataset_register(
     uploads = [item if isinstance(item, RawUpload) else RawUpload.of_bytes(*item)
                for item in files]
     for upload in uploads:
-        _check_upload(upload, field="files", filename=upload.name, extensions=None)
+        check_upload(upload, field="files", filename=upload.name, extensions=None)
     digests = [upload.sha256 for upload in uploads]
     if len(set(digests)) != len(digests):
         raise refusal("files", "The same file was given twice.", "duplicate_file")
@@ -67,7 +65,7 @@ def dataset_register(
     stored = [DatasetFile(dataset=dataset, original_name=upload.name,
                           size_bytes=upload.size_bytes, sha256=upload.sha256)
               for upload in uploads]
-    with _files_removed_if_failed(*stored):
+    with files_removed_if_failed(*stored):
         for dataset_file, upload in zip(stored, uploads, strict=True):
             with upload.opened() as handle:  # copied by storage in chunks
                 dataset_file.file.save(upload.name, handle, save=False)

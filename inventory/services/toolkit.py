@@ -2,16 +2,14 @@
 
 A qc service that records a measurement saves it, stamps its history, links it into the
 lineage and checks its upload exactly as an inventory service does; these are the same
-functions (their home stays ``_common`` and ``lifecycle``), named here as the part of the
+functions (their homes stay ``_common``, ``lifecycle`` and ``uploads``), named here as the part of the
 inventory's write machinery that other apps may use, so no app imports another's private
 names (checked by tests/test_private_imports.py).
 """
 
 from ._common import User
 from ._common import _check_substrates_usable as check_substrates_usable
-from ._common import _check_upload as check_upload
 from ._common import _check_values as check_values
-from ._common import _files_removed_if_failed as files_removed_if_failed
 from ._common import _link as link
 from ._common import _require_kind as require_kind
 from ._common import _require_not_future as require_not_future
@@ -24,7 +22,7 @@ from ._common import _validate as validate
 from ._constraints import validate_constraints
 from .lifecycle import _transition as transition
 from .lifecycle import lock
-from .uploads import RawUpload, stored_file_on_disk
+from .uploads import RawUpload, check_upload, files_removed_if_failed, stored_file_on_disk
 
 __all__ = [
     "RawUpload",

@@ -5,6 +5,9 @@ to a temporary file, :meth:`RawUpload.of_path` hashes it there in chunks, once, 
 services store it from that path (:meth:`RawUpload.opened`: storage copies it in chunks)
 and hand the path to the readers.  A small file given as bytes (scripts, tests, the demo)
 is kept as it is (:meth:`RawUpload.of_bytes`).
+
+Every upload meets the same size limit and list of readable types (:func:`check_upload`),
+and a failed step removes the files it stored (:func:`files_removed_if_failed`).
 """
 
 from __future__ import annotations
@@ -12,13 +15,17 @@ from __future__ import annotations
 import hashlib
 import shutil
 import tempfile
-from collections.abc import Iterator
+from collections.abc import Iterator, Sequence
 from contextlib import contextmanager
 from dataclasses import dataclass, field
-from pathlib import Path
+from pathlib import Path, PurePosixPath
 
+from django.conf import settings
 from django.core.files import File
 from django.core.files.base import ContentFile
+from django.db.models import FileField, Model
+
+from ..errors import refusal
 
 CHUNK_BYTES = 1 << 20  # read and hash 1 MiB at a time
 
@@ -112,3 +119,41 @@ def stored_file_on_disk(stored, *, name: str, sha256: str) -> Iterator[RawUpload
             shutil.copyfileobj(handle, copy, CHUNK_BYTES)
         copy.flush()
         yield RawUpload.of_path(name, copy.name, sha256=sha256)
+
+
+# Instrument exports the readers understand: text tables and JCAMP-DX (IUPAC).
+INSTRUMENT_FILE_EXTENSIONS = (".csv", ".txt", ".tsv", ".dat", ".asc", ".dx", ".jdx", ".jcamp")
+
+
+def check_upload(content: bytes, *, field: str, filename: str,
+                 extensions: Sequence[str] | None = INSTRUMENT_FILE_EXTENSIONS) -> None:
+    """Refuse an upload over ``SERSLEDGER_MAX_UPLOAD_BYTES`` or of a type nobody reads.
+
+    Checked in the services so a script, the API and the pages meet the same limit.
+    """
+    limit = settings.SERSLEDGER_MAX_UPLOAD_BYTES
+    if len(content) > limit:
+        raise refusal(field, f"{filename or 'The file'} is {len(content) / 1e6:.1f} MB; the "
+                             f"limit is {limit / 1e6:.1f} MB.", "file_too_large")
+    suffix = PurePosixPath(filename.replace("\\", "/")).suffix.lower()
+    if extensions is not None and suffix not in extensions:
+        raise refusal(field, f"{filename or 'The file'}: a {suffix or 'nameless'} file is not "
+                             f"read here; send one of {', '.join(extensions)}.", "file_type")
+
+
+@contextmanager
+def files_removed_if_failed(*records: Model) -> Iterator[None]:
+    """If the block fails, delete the files ``records`` already stored.
+
+    The rows roll back with the transaction, but storage is not transactional: without
+    this an interrupted import would leave orphan files behind.
+    """
+    try:
+        yield
+    except BaseException:
+        for record in records:
+            for field in record._meta.concrete_fields:
+                stored = getattr(record, field.name) if isinstance(field, FileField) else None
+                if stored and getattr(stored, "_committed", False) and stored.name:
+                    stored.storage.delete(stored.name)
+        raise
