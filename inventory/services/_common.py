@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import copy
 import dataclasses
 import math
 from collections.abc import Callable, Iterable, Sequence
@@ -222,7 +223,7 @@ def _require_role(actor: User | None, role: str, *, action: str,
 
 def _unchanged_fields(record: Model, before: Model | None) -> frozenset[str]:
     """The fields of ``record`` that hold ``before``'s value: ``before`` is the same record
-    as stored (under its CHECK constraints) or a record of the kind just checked, so those
+    as stored (under its CHECK constraints) or as checked earlier in the same step, so those
     fields need no cleaning again; any other value is checked as ever."""
     if before is None:
         return frozenset()
@@ -233,25 +234,49 @@ def _unchanged_fields(record: Model, before: Model | None) -> frozenset[str]:
 
 
 def _prepare_new(record: CodedRecord, *, actor: User | None,
-                 many: CheckingMany | None = None, like: Model | None = None) -> CodedRecord:
+                 many: CheckingMany | None = None) -> CodedRecord:
     """Give ``record`` its code and check every field, range and constraint; write nothing.
 
     The check part of every create: ``_save_new`` saves what it approves, and a sheet import
     checks many records through it and writes them at once (``creation.new_records_insert``).
-    ``like``: a record of the same kind just checked in the same step (the first piece cut
-    from a run), whose values this one's equal fields need not be checked again for.
     """
     record.code = code_next(record.CODE_PREFIX)
     record.created_by = actor
     record.updated_by = actor
-    unchanged = _unchanged_fields(record, like)
-    _check_fields(record, exclude=tuple({*_checked_apart(record, many), *unchanged}))
+    _check_fields(record, exclude=_checked_apart(record, many))
+    if isinstance(record, LifecycleRecord):
+        refresh_expiry(record, None if many is None else many.rules)
+    _full_clean(record, fields_cleaned=True,
+                unique_exclude=frozenset() if many is None else frozenset({"code"}))
+    return record
+
+
+def _prepare_sibling(first: CodedRecord, *, many: CheckingMany | None = None,
+                     **changes) -> CodedRecord:
+    """A copy of ``first`` with its own code and ``changes``; write nothing.
+
+    ``first`` was checked by ``_prepare_new`` in the same step and is not written yet (the
+    first piece cut from a run; the others differ in code and label only).  So only what the
+    changed fields can break is checked again: their cleaning and ranges, and the
+    constraints and unique checks that read them; the copy's expiry is derived afresh.
+    """
+    record = copy.copy(first)
+    record.code = code_next(record.CODE_PREFIX)
+    for name, value in changes.items():
+        setattr(record, name, value)
+    unchanged = _field_names(type(record)) - {"code", *changes}
+    _check_fields(record, exclude=tuple(unchanged))
     if isinstance(record, LifecycleRecord):
         refresh_expiry(record, None if many is None else many.rules)
     _full_clean(record, fields_cleaned=True,
                 unique_exclude=frozenset() if many is None else frozenset({"code"}),
                 unchanged=unchanged)
     return record
+
+
+@cache
+def _field_names(model: type[Model]) -> frozenset[str]:
+    return frozenset(field.name for field in model._meta.concrete_fields)
 
 
 def _save_new(record: CodedRecord, *, actor: User | None, reason: str = "") -> CodedRecord:

@@ -35,6 +35,7 @@ from ._common import (
     CheckingMany,
     User,
     _prepare_new,
+    _prepare_sibling,
     _read_once,
     _require_kind,
     _require_not_future,
@@ -184,14 +185,13 @@ def deposition_run_check(
     new = NewRecord(_prepare_new(run, actor=actor, many=many), inputs=inputs, used_on=made_on)
     if template is not None:
         _consume_template(new, template, actor=actor, many=many)
-    first = None  # the pieces differ in code and label only: the first is checked in full
-    for number in range(1, pieces + 1):
-        piece = _prepare_new(Substrate(
-            deposition_run=run, piece_label=f"{run.code}/{number}", area_cm2=piece_area_cm2,
-            made_on=made_on, storage=storage,
-        ), actor=actor, many=many, like=first)
-        first = first or piece
-        new.after.append(NewRecord(piece, inputs=[(run, "cut from")], used_on=made_on))
+    first = _prepare_new(Substrate(
+        deposition_run=run, piece_label=f"{run.code}/1", area_cm2=piece_area_cm2,
+        made_on=made_on, storage=storage,
+    ), actor=actor, many=many)
+    new.after += [NewRecord(piece, inputs=[(run, "cut from")], used_on=made_on) for piece in (
+        first, *(_prepare_sibling(first, many=many, piece_label=f"{run.code}/{number}")
+                 for number in range(2, pieces + 1)))]
     if entered is not None:
         charged, flags = entered_charge_check(
             run, entered, pieces=[piece.record for piece in new.after], actor=actor, many=many)

@@ -78,3 +78,30 @@ def test_an_illegal_change_is_refused_before_anything_is_written(chain):
     assert caught.value.error_dict["to_status"][0].code == "illegal_transition"
     assert StatusChange.objects.filter(record_code=template.code,
                                        to_status=Status.CONSUMED).count() == 0
+
+
+@pytest.mark.django_db
+def test_a_sibling_is_checked_again_in_what_differs_from_the_first(chain):
+    # The pieces cut from one run: the first checked in full, the others copies differing
+    # in code and label, checked in those (cleaning, constraints reading them) and no more.
+    from django.core.exceptions import ValidationError
+
+    from inventory.models import Substrate
+    from inventory.services._common import _prepare_new, _prepare_sibling
+
+    run, _pieces = chain.run(pieces=1)
+    first = _prepare_new(Substrate(deposition_run=run, piece_label="A/1", area_cm2=0.25,
+                                   made_on=run.made_on), actor=chain.maker)
+    second = _prepare_sibling(first, piece_label="A/2")
+    assert (second.piece_label, second.area_cm2, second.deposition_run) == ("A/2", 0.25, run)
+    assert second.code != first.code and second.expires_on == first.expires_on
+    assert first.piece_label == "A/1"  # the first is not touched
+    with pytest.raises(ValidationError) as too_long:  # CharField(max_length=40)
+        _prepare_sibling(first, piece_label="x" * 41)
+    assert "piece_label" in too_long.value.error_dict
+    with pytest.raises(ValidationError) as orphan:  # substrate_from_run_or_purchase
+        _prepare_sibling(first, deposition_run=None)
+    assert orphan.value.error_dict
+    with pytest.raises(ValidationError) as out_of_range:  # the range table, changed field
+        _prepare_sibling(first, area_cm2=float("nan"))
+    assert "area_cm2" in out_of_range.value.error_dict
