@@ -2,9 +2,9 @@
 
 A qc service that records a measurement saves it, stamps its history, links it into the
 lineage and checks its upload exactly as an inventory service does; these are the same
-functions (their homes stay ``_common``, ``lifecycle`` and ``uploads``), named here as the part of the
-inventory's write machinery that other apps may use, so no app imports another's private
-names (checked by tests/test_private_imports.py).
+functions (their homes stay ``_common``, ``lifecycle`` and ``uploads``), named here as the
+part of the inventory's write machinery that other apps may use, so no app imports
+another's private names (checked by tests/test_private_imports.py).
 """
 
 from ._common import User
