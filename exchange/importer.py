@@ -39,6 +39,7 @@ from .cells import (
     read_text,
     split_header,
 )
+from .gc_pause import full_collections_deferred
 from .import_context import BulkFallback, ImportContext, ref_texts
 from .import_report import ImportReport, RowError, RowOutcome
 from .kinds import KINDS, Column, Kind, header_variants, normalise
@@ -315,6 +316,13 @@ def import_sheet(*, kind: str, content: bytes, file_name: str, actor, commit: bo
         require_role(actor, MAKER, action="Importing a sheet")
     except PermissionDenied as error:
         raise refusal("user", str(error), "permission_denied") from None
+    with full_collections_deferred():
+        return _import(spec, content, file_name=file_name, actor=actor, commit=commit,
+                       mapping=mapping, bulk=bulk)
+
+
+def _import(spec: Kind, content: bytes, *, file_name: str, actor, commit: bool,
+            mapping: dict[str, str] | None, bulk: bool) -> ImportReport:
     sheet: Sheet = read_sheet(content, file_name=file_name)
     if len(sheet.rows) > MAX_ROWS:
         raise refusal("file", f"{file_name} has {len(sheet.rows)} rows; import at most "
@@ -322,7 +330,7 @@ def import_sheet(*, kind: str, content: bytes, file_name: str, actor, commit: bo
     plans, unmapped, missing = plan_columns(spec, sheet.headers, file_name=file_name,
                                             overrides=mapping)
     digest = hashlib.sha256(content).hexdigest()
-    report = ImportReport(kind=kind, file_name=file_name, sha256=digest, rows=len(sheet.rows),
+    report = ImportReport(kind=spec.name, file_name=file_name, sha256=digest, rows=len(sheet.rows),
                           columns={p.header: p.column.field for p in plans},
                           unmapped_headers=unmapped)
     if missing:
