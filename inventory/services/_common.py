@@ -288,17 +288,21 @@ def _save_new(record: CodedRecord, *, actor: User | None, reason: str = "") -> C
 
 
 def _prepare_changed(record: StampedRecord, *, actor: User | None,
-                     many: CheckingMany | None = None, before: Model | None = None) -> None:
+                     many: CheckingMany | None = None, before: Model | None = None,
+                     changed: Iterable[str] | None = None) -> None:
     """Stamp a changed record with a new version and check it; write nothing.
 
     The check part of every change: ``_save_changed`` saves what it approves, and a sheet
     import keeps a checked copy in ``NewRecord.changed`` and writes many at once (a change
     written that way moves no foreign key: they are not checked again).  ``before``: the
-    record as stored or as last checked, whose unchanged fields are not cleaned again.
+    record as stored or as last checked, whose unchanged fields are not cleaned again;
+    ``changed``: instead, the fields the caller set on a record as stored (a transition
+    sets the status alone), so no copy is kept to compare with.
     """
     record.updated_by = actor
     record.version += 1
-    unchanged = _unchanged_fields(record, before)
+    unchanged = _unchanged_fields(record, before) if changed is None else (
+        _field_names(type(record)) - {*changed, "version", "updated_by"})
     _check_fields(record, exclude=tuple({*_checked_apart(record, many, stored=True),
                                          *unchanged}))
     if isinstance(record, LifecycleRecord):

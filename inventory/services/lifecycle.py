@@ -2,8 +2,6 @@
 
 from __future__ import annotations
 
-import copy
-
 from django.conf import settings
 from django.db import transaction
 
@@ -50,9 +48,8 @@ def transition_prepare(record: LifecycleRecord, to_status: str, *, reason: str,
     check_transition(record, to_status, reason)
     change = StatusChange(record_code=record.code, from_status=record.status,
                           to_status=to_status, reason=reason, changed_by=actor)
-    before = copy.copy(record)
     record.status = to_status
-    _prepare_changed(record, actor=actor, many=many, before=before)
+    _prepare_changed(record, actor=actor, many=many, changed=("status",))
     return change
 
 
