@@ -8,8 +8,7 @@ of them (benchmarks/REPORT.md).  None of that memory is garbage.  The young gene
 still collect the short-lived cycles each row makes; one full pass when the import ends
 frees at once the cycles that grew old meanwhile (the records it no longer holds), and
 the collector then runs as usual.  Raising the third threshold is the documented way
-(``gc.set_threshold``, Python 3.11; the collector of 3.14 and later schedules
-differently and is left as it is there).
+(``gc.set_threshold``).
 
 Process-wide, so a counter under a lock restores the setting only when the last of
 several overlapping imports (threads of one worker) ends.
@@ -18,7 +17,6 @@ several overlapping imports (threads of one worker) ends.
 from __future__ import annotations
 
 import gc
-import sys
 import threading
 from collections.abc import Iterator
 from contextlib import contextmanager
@@ -33,9 +31,6 @@ _saved: tuple[int, ...] = ()
 def full_collections_deferred() -> Iterator[None]:
     """Within the block, no automatic full collection; the threshold comes back after."""
     global _depth, _saved
-    if sys.version_info >= (3, 14):
-        yield
-        return
     with _lock:
         if _depth == 0:
             _saved = gc.get_threshold()

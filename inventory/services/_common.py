@@ -244,10 +244,7 @@ def _prepare_new(record: CodedRecord, *, actor: User | None,
     record.created_by = actor
     record.updated_by = actor
     _check_fields(record, exclude=_checked_apart(record, many))
-    if isinstance(record, LifecycleRecord):
-        refresh_expiry(record, None if many is None else many.rules)
-    _full_clean(record, fields_cleaned=True,
-                unique_exclude=frozenset() if many is None else frozenset({"code"}))
+    _expiry_and_constraints(record, many)
     return record
 
 
@@ -266,12 +263,21 @@ def _prepare_sibling(first: CodedRecord, *, many: CheckingMany | None = None,
         setattr(record, name, value)
     unchanged = _field_names(type(record)) - {"code", *changes}
     _check_fields(record, exclude=tuple(unchanged))
+    _expiry_and_constraints(record, many, unchanged=unchanged)
+    return record
+
+
+def _expiry_and_constraints(record: Model, many: CheckingMany | None, *,
+                            unchanged: frozenset[str] = frozenset()) -> None:
+    """The rest of every check after the fields: the expiry derived, then ``_full_clean``.
+
+    A caller checking many checks the codes against the table at once (``codes_taken``);
+    a change keeps its code."""
     if isinstance(record, LifecycleRecord):
         refresh_expiry(record, None if many is None else many.rules)
     _full_clean(record, fields_cleaned=True,
                 unique_exclude=frozenset() if many is None else frozenset({"code"}),
                 unchanged=unchanged)
-    return record
 
 
 @cache
@@ -305,12 +311,7 @@ def _prepare_changed(record: StampedRecord, *, actor: User | None,
         _field_names(type(record)) - {*changed, "version", "updated_by"})
     _check_fields(record, exclude=tuple({*_checked_apart(record, many, stored=True),
                                          *unchanged}))
-    if isinstance(record, LifecycleRecord):
-        refresh_expiry(record, None if many is None else many.rules)
-    # A change keeps the code; a new one is checked against the table by ``codes_taken``.
-    _full_clean(record, fields_cleaned=True,
-                unique_exclude=frozenset() if many is None else frozenset({"code"}),
-                unchanged=unchanged)
+    _expiry_and_constraints(record, many, unchanged=unchanged)
 
 
 def _save_changed(record: StampedRecord, *, actor: User | None, reason: str = "") -> None:

@@ -189,9 +189,10 @@ def deposition_run_check(
         deposition_run=run, piece_label=f"{run.code}/1", area_cm2=piece_area_cm2,
         made_on=made_on, storage=storage,
     ), actor=actor, many=many)
-    new.after += [NewRecord(piece, inputs=[(run, "cut from")], used_on=made_on) for piece in (
-        first, *(_prepare_sibling(first, many=many, piece_label=f"{run.code}/{number}")
-                 for number in range(2, pieces + 1)))]
+    others = [_prepare_sibling(first, many=many, piece_label=f"{run.code}/{number}")
+              for number in range(2, pieces + 1)]  # they differ in code and label only
+    new.after += [NewRecord(piece, inputs=[(run, "cut from")], used_on=made_on)
+                  for piece in (first, *others)]
     if entered is not None:
         charged, flags = entered_charge_check(
             run, entered, pieces=[piece.record for piece in new.after], actor=actor, many=many)
